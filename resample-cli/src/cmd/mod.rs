@@ -1,0 +1,3 @@
+//! One module per subcommand: each parses nothing itself, calls the core, and prints.
+
+pub mod design;

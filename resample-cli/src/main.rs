@@ -1,0 +1,46 @@
+//! `rerate`: convert WAV files between sample rates, and measure what converters deliver.
+//!
+//! Thin on purpose: parse flags, call `resample_core`, print. Exit codes: 0 success,
+//! 1 a measured check failed (or some files of a batch failed), 2 bad usage,
+//! 3 the work could not be done (bad input, I/O error, impossible design).
+
+mod cmd;
+mod output;
+mod rate;
+
+use std::process::ExitCode;
+
+use clap::{Parser, Subcommand};
+
+/// Exit code: a check failed, or some files of a batch failed.
+pub const EXIT_CHECK_FAILED: u8 = 1;
+/// Exit code: the work could not be done.
+pub const EXIT_ERROR: u8 = 3;
+
+/// Sample-rate conversion you can measure.
+#[derive(Debug, Parser)]
+#[command(name = "rerate", version, about, long_about = None)]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Debug, Subcommand)]
+enum Command {
+    /// Print (or export) the filter a conversion would use.
+    Design(cmd::design::DesignArgs),
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    let result = match &cli.command {
+        Command::Design(a) => cmd::design::run(a).map(|()| ExitCode::SUCCESS),
+    };
+    match result {
+        Ok(code) => code,
+        Err(e) => {
+            eprintln!("rerate: {e:#}");
+            ExitCode::from(EXIT_ERROR)
+        }
+    }
+}

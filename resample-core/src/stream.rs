@@ -1,0 +1,438 @@
+//! The streaming converter: per-channel history, any chunk size in, exactly the offline
+//! result out, without allocating or locking once built.
+
+use crate::kernel::{DotFn, Kernel, Sample};
+use crate::polyphase::PhaseTable;
+use crate::{Design, Error, RatePair, Result};
+
+/// Input frames buffered per channel beyond the filter's history.
+const BLOCK: usize = 4096;
+
+/// How much one processing call read and wrote.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub struct Progress {
+    /// Input frames consumed (taken into the converter's history).
+    pub frames_read: usize,
+    /// Output frames written.
+    pub frames_written: usize,
+}
+
+/// A streaming multichannel converter for one design.
+///
+/// Output sample `m` is the input signal at time `m M / L` input samples (zero added delay),
+/// exactly as [`crate::offline`] computes it: the concatenated output of any sequence of
+/// `process_*` calls followed by `flush_*` calls is bit-identical to the offline result,
+/// whatever the chunk sizes. Because each output needs input up to
+/// [`StreamConverter::latency_input_frames`] ahead of it, the first outputs appear only once
+/// that much input has arrived; [`StreamConverter::input_frames_for_output`] says how much
+/// input a given number of output frames needs.
+///
+/// A call consumes input only while there is room for the output it makes possible; it
+/// returns how many frames it read and wrote, and the caller passes the rest again.
+///
+/// ```
+/// use resample_core::{FilterSpec, StreamConverter};
+/// let design = FilterSpec::new(48_000, 44_100).stopband_db(100.0).design()?;
+/// let mut conv = StreamConverter::<f32>::new(&design, 2)?;
+/// let input = vec![0.0_f32; 2 * 480]; // 10 ms, interleaved stereo
+/// let mut output = vec![0.0_f32; 2 * 1024];
+/// let progress = conv.process_interleaved(&input, &mut output)?;
+/// assert_eq!(progress.frames_read, 480);
+/// # Ok::<(), resample_core::Error>(())
+/// ```
+#[derive(Debug, Clone)]
+pub struct StreamConverter<T> {
+    table: PhaseTable<T>,
+    pair: RatePair,
+    channels: usize,
+    kernel: Kernel,
+    dot: DotFn<T>,
+    bufs: Vec<Vec<T>>,
+    cap: usize,
+    /// Input index of `bufs[c][0]` (negative for the zero history before the start).
+    base: i64,
+    /// Valid samples per channel buffer.
+    fill: usize,
+    /// Input frames received.
+    n_in: u64,
+    /// Output frames produced.
+    n_out: u64,
+    /// Newest input index and phase row of output `n_out`.
+    next_i: u64,
+    next_p: u64,
+    flushing: bool,
+}
+
+impl<T: Sample> StreamConverter<T> {
+    /// A converter for `channels` channels using the fastest kernel this CPU has.
+    pub fn new(design: &Design, channels: usize) -> Result<Self> {
+        Self::with_kernel(design, channels, Kernel::detect())
+    }
+
+    /// A converter using a given kernel (e.g. [`Kernel::Scalar`] to force the reference).
+    pub fn with_kernel(design: &Design, channels: usize, kernel: Kernel) -> Result<Self> {
+        if channels == 0 || channels > crate::MAX_CHANNELS {
+            return Err(Error::ChannelsOutOfRange { channels });
+        }
+        if !kernel.is_available() {
+            return Err(Error::KernelUnavailable {
+                name: kernel.name(),
+            });
+        }
+        let table = PhaseTable::new(design);
+        let cap = table.taps_per_phase() + BLOCK;
+        let mut conv = Self {
+            pair: design.pair(),
+            channels,
+            kernel,
+            dot: T::dot_fn(kernel),
+            bufs: vec![vec![T::zero(); cap]; channels],
+            cap,
+            table,
+            base: 0,
+            fill: 0,
+            n_in: 0,
+            n_out: 0,
+            next_i: 0,
+            next_p: 0,
+            flushing: false,
+        };
+        conv.reset();
+        Ok(conv)
+    }
+
+    /// Forget all input: back to the state right after construction. Does not allocate.
+    pub fn reset(&mut self) {
+        let hist = self.table.taps_per_phase() - 1;
+        for b in &mut self.bufs {
+            b[..hist].fill(T::zero());
+        }
+        self.base = -(hist as i64);
+        self.fill = hist;
+        self.n_in = 0;
+        self.n_out = 0;
+        self.next_i = self.table.half() / self.table.up();
+        self.next_p = self.table.half() % self.table.up();
+        self.flushing = false;
+    }
+
+    /// Number of channels.
+    pub fn channels(&self) -> usize {
+        self.channels
+    }
+
+    /// The kernel in use.
+    pub fn kernel(&self) -> Kernel {
+        self.kernel
+    }
+
+    /// The rate pair.
+    pub fn pair(&self) -> RatePair {
+        self.pair
+    }
+
+    /// How far ahead of an output's time its input reaches, in input frames (`half / L`).
+    pub fn latency_input_frames(&self) -> f64 {
+        self.table.half() as f64 / self.table.up() as f64
+    }
+
+    /// The same delay in output frames (`half / M`).
+    pub fn latency_output_frames(&self) -> f64 {
+        self.table.half() as f64 / self.table.down() as f64
+    }
+
+    /// The same delay in seconds.
+    pub fn latency_seconds(&self) -> f64 {
+        self.latency_input_frames() / f64::from(self.pair.in_rate())
+    }
+
+    /// Input frames received so far.
+    pub fn frames_in(&self) -> u64 {
+        self.n_in
+    }
+
+    /// Output frames produced so far.
+    pub fn frames_out(&self) -> u64 {
+        self.n_out
+    }
+
+    /// Exact number of output frames that become available if `input_frames` more frames
+    /// are given (before any flush).
+    pub fn output_frames_for_input(&self, input_frames: u64) -> u64 {
+        // Output m is ready when floor((m M + half) / L) < n_in, i.e. m M + half < n_in L.
+        let total = u128::from(self.n_in + input_frames) * u128::from(self.table.up());
+        let half = u128::from(self.table.half());
+        let ready = if total > half {
+            (total - half).div_ceil(u128::from(self.table.down()))
+        } else {
+            0
+        };
+        (ready as u64).saturating_sub(self.n_out)
+    }
+
+    /// Smallest number of further input frames after which `output_frames` more output
+    /// frames can be produced (before any flush).
+    pub fn input_frames_for_output(&self, output_frames: u64) -> u64 {
+        if output_frames == 0 {
+            return 0;
+        }
+        let m = u128::from(self.n_out + output_frames - 1);
+        let i = (m * u128::from(self.table.down()) + u128::from(self.table.half()))
+            / u128::from(self.table.up());
+        (i as u64 + 1).saturating_sub(self.n_in)
+    }
+
+    /// Output frames still to come from [`StreamConverter::flush_interleaved`] if flushing
+    /// started now: the total is `ceil(n_in L / M)`.
+    pub fn flush_frames(&self) -> u64 {
+        self.pair.output_len(self.n_in).saturating_sub(self.n_out)
+    }
+
+    /// True once flushing has delivered every output frame.
+    pub fn is_finished(&self) -> bool {
+        self.flushing && self.flush_frames() == 0
+    }
+
+    /// Convert interleaved input into interleaved output.
+    pub fn process_interleaved(&mut self, input: &[T], output: &mut [T]) -> Result<Progress> {
+        let ch = self.channels;
+        check_interleaved(
+            input.len(),
+            ch,
+            "interleaved input length (multiple of channels)",
+        )?;
+        check_interleaved(
+            output.len(),
+            ch,
+            "interleaved output length (multiple of channels)",
+        )?;
+        if self.flushing {
+            return Err(Error::InputAfterFlush);
+        }
+        let frames_in = input.len() / ch;
+        let frames_out = output.len() / ch;
+        Ok(self.run(
+            frames_in,
+            frames_out,
+            |bufs, at, from, n| {
+                for (c, buf) in bufs.iter_mut().enumerate() {
+                    let dst = &mut buf[at..at + n];
+                    for (k, d) in dst.iter_mut().enumerate() {
+                        *d = input[(from + k) * ch + c];
+                    }
+                }
+            },
+            |frame, c, v| output[frame * ch + c] = v,
+        ))
+    }
+
+    /// Convert planar input (one slice per channel, all the same length) into planar output
+    /// (one slice per channel, all the same length).
+    pub fn process_planar<I, O>(&mut self, input: &[I], output: &mut [O]) -> Result<Progress>
+    where
+        I: AsRef<[T]>,
+        O: AsMut<[T]>,
+    {
+        let frames_in = self.check_planar_in(input)?;
+        let frames_out = self.check_planar_out(output)?;
+        if self.flushing {
+            return Err(Error::InputAfterFlush);
+        }
+        Ok(self.run(
+            frames_in,
+            frames_out,
+            |bufs, at, from, n| {
+                for (buf, src) in bufs.iter_mut().zip(input) {
+                    buf[at..at + n].copy_from_slice(&src.as_ref()[from..from + n]);
+                }
+            },
+            |frame, c, v| output[c].as_mut()[frame] = v,
+        ))
+    }
+
+    /// Finish the stream: write the remaining output (the signal's tail, computed with zeros
+    /// after the last input frame) into interleaved `output`. Returns the frames written;
+    /// call again until it returns 0 ([`StreamConverter::is_finished`]).
+    pub fn flush_interleaved(&mut self, output: &mut [T]) -> Result<usize> {
+        let ch = self.channels;
+        check_interleaved(
+            output.len(),
+            ch,
+            "interleaved output length (multiple of channels)",
+        )?;
+        self.flushing = true;
+        let frames_out = output.len() / ch;
+        Ok(self.produce(frames_out, |frame, c, v| output[frame * ch + c] = v))
+    }
+
+    /// Planar twin of [`StreamConverter::flush_interleaved`].
+    pub fn flush_planar<O: AsMut<[T]>>(&mut self, output: &mut [O]) -> Result<usize> {
+        let frames_out = self.check_planar_out(output)?;
+        self.flushing = true;
+        Ok(self.produce(frames_out, |frame, c, v| output[c].as_mut()[frame] = v))
+    }
+
+    fn check_planar_in<I: AsRef<[T]>>(&self, input: &[I]) -> Result<usize> {
+        if input.len() != self.channels {
+            return Err(Error::BufferShape {
+                what: "planar input channel count",
+                expected: self.channels,
+                got: input.len(),
+            });
+        }
+        let n = input[0].as_ref().len();
+        for c in input {
+            if c.as_ref().len() != n {
+                return Err(Error::BufferShape {
+                    what: "planar input channel length",
+                    expected: n,
+                    got: c.as_ref().len(),
+                });
+            }
+        }
+        Ok(n)
+    }
+
+    fn check_planar_out<O: AsMut<[T]>>(&self, output: &mut [O]) -> Result<usize> {
+        if output.len() != self.channels {
+            return Err(Error::BufferShape {
+                what: "planar output channel count",
+                expected: self.channels,
+                got: output.len(),
+            });
+        }
+        let n = output[0].as_mut().len();
+        for c in output.iter_mut() {
+            let len = c.as_mut().len();
+            if len != n {
+                return Err(Error::BufferShape {
+                    what: "planar output channel length",
+                    expected: n,
+                    got: len,
+                });
+            }
+        }
+        Ok(n)
+    }
+
+    /// The main loop: make all ready output, take more input, repeat.
+    fn run(
+        &mut self,
+        frames_in: usize,
+        frames_out: usize,
+        mut load: impl FnMut(&mut [Vec<T>], usize, usize, usize),
+        mut store: impl FnMut(usize, usize, T),
+    ) -> Progress {
+        let mut read = 0;
+        let mut written = 0;
+        loop {
+            let at = written;
+            written += self.produce(frames_out - written, |f, c, v| store(at + f, c, v));
+            if written == frames_out || read == frames_in {
+                break;
+            }
+            // Input that falls before the oldest sample still needed is skipped.
+            let end = self.base + self.fill as i64;
+            if (self.n_in as i64) < end {
+                let skip = ((end - self.n_in as i64) as usize).min(frames_in - read);
+                read += skip;
+                self.n_in += skip as u64;
+                continue;
+            }
+            if self.fill == self.cap {
+                let before = (self.base, self.fill);
+                self.make_room();
+                if before == (self.base, self.fill) {
+                    break; // cannot happen: the next output never needs a whole buffer
+                }
+                continue;
+            }
+            let take = (self.cap - self.fill).min(frames_in - read);
+            if take == 0 {
+                break;
+            }
+            load(&mut self.bufs, self.fill, read, take);
+            self.fill += take;
+            self.n_in += take as u64;
+            read += take;
+        }
+        Progress {
+            frames_read: read,
+            frames_written: written,
+        }
+    }
+
+    /// Drop history older than the next output needs.
+    fn make_room(&mut self) {
+        let start = self.next_i as i64 - (self.table.taps_per_phase() as i64 - 1);
+        let rel = start - self.base;
+        if rel <= 0 {
+            return;
+        }
+        let drop = (rel as usize).min(self.fill);
+        for b in &mut self.bufs {
+            b.copy_within(drop..self.fill, 0);
+        }
+        self.fill -= drop;
+        self.base += drop as i64;
+        if self.fill == 0 {
+            self.base = start;
+        }
+    }
+
+    /// Compute outputs while their input is present (or, when flushing, while any remain),
+    /// at most `max` frames. Returns frames produced.
+    fn produce(&mut self, max: usize, mut store: impl FnMut(usize, usize, T)) -> usize {
+        let tpp = self.table.taps_per_phase();
+        let up = self.table.up();
+        let down = self.table.down();
+        let total = if self.flushing {
+            self.pair.output_len(self.n_in)
+        } else {
+            u64::MAX
+        };
+        let mut done = 0;
+        while done < max && self.n_out < total {
+            let end = self.base + self.fill as i64;
+            if self.next_i as i64 >= end {
+                if !self.flushing {
+                    break;
+                }
+                // Past the last input: the signal is zero there.
+                if self.fill == self.cap {
+                    self.make_room();
+                }
+                let end = self.base + self.fill as i64;
+                let need = (self.next_i as i64 + 1 - end).max(0) as usize;
+                let k = need.min(self.cap - self.fill);
+                for b in &mut self.bufs {
+                    b[self.fill..self.fill + k].fill(T::zero());
+                }
+                self.fill += k;
+                continue;
+            }
+            let start = (self.next_i as i64 + 1 - tpp as i64 - self.base) as usize;
+            let row = self.table.row(self.next_p as usize);
+            for (c, buf) in self.bufs.iter().enumerate() {
+                store(done, c, (self.dot)(row, &buf[start..start + tpp]));
+            }
+            done += 1;
+            self.n_out += 1;
+            self.next_p += down;
+            self.next_i += self.next_p / up;
+            self.next_p %= up;
+        }
+        done
+    }
+}
+
+fn check_interleaved(len: usize, channels: usize, what: &'static str) -> Result<()> {
+    if len % channels != 0 {
+        return Err(Error::BufferShape {
+            what,
+            expected: len - len % channels,
+            got: len,
+        });
+    }
+    Ok(())
+}
