@@ -240,22 +240,18 @@ fn windowed_sinc(phases: u64, half: usize, cutoff: f64, beta: f64) -> Vec<f64> {
     let i0b = bessel_i0(beta);
     // Cutoff as a fraction of the prototype's Nyquist frequency.
     let wc = 2.0 * cutoff / phases as f64;
-    let mut h: Vec<f64> = (0..len)
-        .map(|n| {
-            let x = wc * (n as f64 - half as f64);
-            let sinc = if x == 0.0 {
-                1.0
-            } else {
-                (core::f64::consts::PI * x).sin() / (core::f64::consts::PI * x)
-            };
-            wc * sinc * kaiser_at(n as f64, len, beta, i0b)
-        })
-        .collect();
-    // Make the symmetry exact (the two halves were computed separately).
-    for n in 0..half {
-        let avg = 0.5 * (h[n] + h[len - 1 - n]);
-        h[n] = avg;
-        h[len - 1 - n] = avg;
+    let mut h = vec![0.0; len];
+    // Compute the first half and the centre; mirror for exact symmetry.
+    for n in 0..=half {
+        let x = wc * (n as f64 - half as f64);
+        let sinc = if x == 0.0 {
+            1.0
+        } else {
+            (core::f64::consts::PI * x).sin() / (core::f64::consts::PI * x)
+        };
+        let v = wc * sinc * kaiser_at(n as f64, len, beta, i0b);
+        h[n] = v;
+        h[len - 1 - n] = v;
     }
     let sum: f64 = h.iter().sum();
     for v in &mut h {
@@ -353,8 +349,9 @@ fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> {
                 report,
             });
         }
-        // Ask the formulas for more: the shortfall plus a little.
-        target += (requested - got).max(0.0) + 0.25;
+        // Ask the formulas for more: the shortfall grows with the request, so ask for 1.4 times
+        // the shortfall (plus a little) to reach it in one more attempt most of the time.
+        target += 1.4 * (requested - got).max(0.0) + 0.1;
         if target > MAX_STOPBAND_DB + 60.0 {
             break;
         }
