@@ -71,7 +71,10 @@ fn offline_matches_scipy_resample_poly() {
             let x = read_f64(&format!("{name}.in.f64"));
             let y_ref = read_f64(&format!("{name}.out.f64"));
             let energy: f64 = y_ref.iter().map(|v| v * v).sum();
-            assert!(energy > 0.0 || y_ref.is_empty(), "{name}: reference is silent");
+            assert!(
+                energy > 0.0 || y_ref.is_empty(),
+                "{name}: reference is silent"
+            );
             for kernel in Kernel::available() {
                 let y =
                     offline::convert_interleaved_with(&design, ch, &x, kernel).expect("convert");
