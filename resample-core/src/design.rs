@@ -23,6 +23,11 @@ pub const DEFAULT_TABLE_BUDGET: u64 = 64 << 20;
 /// Taps per phase are padded to a multiple of this, for whole-vector loads.
 pub const PHASE_ALIGN: usize = 8;
 
+/// Extra attenuation required when a long prototype is measured on a copy with fewer phases
+/// (the copy's window length is rounded to its grid, which moves the lobes next to the
+/// stopband edge by about 0.1 dB).
+pub const SURROGATE_MARGIN_DB: f64 = 0.5;
+
 /// Most attempts the design loop makes before giving up with [`Error::DesignNotMet`].
 const MAX_ATTEMPTS: usize = 40;
 
@@ -141,7 +146,10 @@ pub struct DesignReport {
     pub cutoff_hz: f64,
     /// Requested stopband attenuation, dB.
     pub requested_stopband_db: f64,
-    /// Stopband attenuation measured on the prototype, dB (infinite for the identity).
+    /// Stopband attenuation measured on the prototype, dB (infinite for the identity). For
+    /// prototypes too long to measure in full it is measured on the same kernel sampled at
+    /// [`DesignReport::measured_on_phases`] phases, and must then exceed the request by
+    /// [`SURROGATE_MARGIN_DB`].
     pub measured_stopband_db: f64,
     /// Passband ripple measured on the prototype, dB peak to peak.
     pub passband_ripple_db: f64,
@@ -311,7 +319,12 @@ fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> {
         );
         let got = m.stopband_db();
         best = best.max(got);
-        if got >= requested {
+        let needed = if m_phases == up {
+            requested
+        } else {
+            requested + SURROGATE_MARGIN_DB
+        };
+        if got >= needed {
             let taps = if m_phases == up {
                 probe
             } else {
@@ -351,7 +364,7 @@ fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> {
         }
         // Ask the formulas for more: the shortfall grows with the request, so ask for 1.4 times
         // the shortfall (plus a little) to reach it in one more attempt most of the time.
-        target += 1.4 * (requested - got).max(0.0) + 0.1;
+        target += 1.4 * (needed - got).max(0.0) + 0.1;
         if target > MAX_STOPBAND_DB + 60.0 {
             break;
         }
@@ -435,16 +448,16 @@ mod tests {
         let half = taps / 2;
         let full = windowed_sinc(up, half, cutoff, beta);
         let mf = response::measure(&full, f_pass / (in_rate * 160.0), nyq / (in_rate * 160.0));
-        // At 40 phases per input sample and above, the two agree to 0.02 dB (at 8 to 32 they
-        // differ by up to 2 dB: images of the kernel's far side lobes fold back); the design
-        // loop uses hundreds of phases.
-        let phases = 40_u64;
+        // At 80 phases per input sample the two agree to about 0.1 dB (at 8 to 32 they differ
+        // by up to 2 dB: images of the kernel's far side lobes fold back); the design loop
+        // uses hundreds of phases and asks the copy for SURROGATE_MARGIN_DB more.
+        let phases = 80_u64;
         let h = (half as f64 * phases as f64 / up as f64).round() as usize;
         let sur = windowed_sinc(phases, h, cutoff, beta);
         let ps = phases as f64;
         let ms = response::measure(&sur, f_pass / (in_rate * ps), nyq / (in_rate * ps));
         assert!(
-            (mf.stopband_db() - ms.stopband_db()).abs() < 0.1,
+            (mf.stopband_db() - ms.stopband_db()).abs() < SURROGATE_MARGIN_DB / 2.0,
             "{} vs {}",
             mf.stopband_db(),
             ms.stopband_db()
