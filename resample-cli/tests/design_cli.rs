@@ -13,13 +13,25 @@ fn export_round_trips_every_bit() {
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("taps.txt");
     let out = rerate()
-        .args(["design", "--in-rate", "44.1k", "--out-rate", "48kHz", "--stopband-db", "120"])
+        .args([
+            "design",
+            "--in-rate",
+            "44.1k",
+            "--out-rate",
+            "48kHz",
+            "--stopband-db",
+            "120",
+        ])
         .arg("--export")
         .arg(&path)
         .current_dir(dir.path())
         .output()
         .unwrap();
-    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
     let text = std::fs::read_to_string(&path).unwrap();
     let taps: Vec<f64> = text.lines().map(|l| l.parse().unwrap()).collect();
     let d = FilterSpec::new(44_100, 48_000)
@@ -37,7 +49,14 @@ fn export_round_trips_every_bit() {
 
     // A second export to the same file is refused without --force, and the file is kept.
     let again = rerate()
-        .args(["design", "--in-rate", "48k", "--out-rate", "16k", "--export"])
+        .args([
+            "design",
+            "--in-rate",
+            "48k",
+            "--out-rate",
+            "16k",
+            "--export",
+        ])
         .arg(&path)
         .output()
         .unwrap();
@@ -45,7 +64,15 @@ fn export_round_trips_every_bit() {
     assert!(String::from_utf8_lossy(&again.stderr).contains("already exists"));
     assert_eq!(std::fs::read_to_string(&path).unwrap(), text);
     let forced = rerate()
-        .args(["design", "--in-rate", "48k", "--out-rate", "16k", "--force", "--export"])
+        .args([
+            "design",
+            "--in-rate",
+            "48k",
+            "--out-rate",
+            "16k",
+            "--force",
+            "--export",
+        ])
         .arg(&path)
         .output()
         .unwrap();
@@ -56,7 +83,14 @@ fn export_round_trips_every_bit() {
 #[test]
 fn json_report_has_the_figures() {
     let out = rerate()
-        .args(["design", "--in-rate", "96000", "--out-rate", "44100", "--json"])
+        .args([
+            "design",
+            "--in-rate",
+            "96000",
+            "--out-rate",
+            "44100",
+            "--json",
+        ])
         .output()
         .unwrap();
     assert!(out.status.success());
@@ -94,8 +128,22 @@ fn bad_requests_fail_cleanly() {
     assert_eq!(out.status.code(), Some(2));
     // Out-of-range attenuation and impossible tables: the work cannot be done (3), one line.
     for args in [
-        ["--in-rate", "44.1k", "--out-rate", "48k", "--stopband-db", "500"],
-        ["--in-rate", "44100", "--out-rate", "48001", "--stopband-db", "140"],
+        [
+            "--in-rate",
+            "44.1k",
+            "--out-rate",
+            "48k",
+            "--stopband-db",
+            "500",
+        ],
+        [
+            "--in-rate",
+            "44100",
+            "--out-rate",
+            "48001",
+            "--stopband-db",
+            "140",
+        ],
     ] {
         let out = rerate().arg("design").args(args).output().unwrap();
         assert_eq!(out.status.code(), Some(3), "{args:?}");
