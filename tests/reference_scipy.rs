@@ -52,12 +52,19 @@ fn offline_matches_scipy_resample_poly() {
             num(pair, "taps_len"),
             "{a}->{b}"
         );
-        let fp: f64 = design
-            .taps()
-            .iter()
-            .enumerate()
-            .map(|(n, h)| h * (n + 1) as f64)
-            .sum();
+        // Compensated (Neumaier) sum, so rounding cannot hide a design change.
+        let (mut fp, mut comp) = (0.0_f64, 0.0_f64);
+        for (n, h) in design.taps().iter().enumerate() {
+            let v = h * (n + 1) as f64;
+            let t = fp + v;
+            comp += if fp.abs() >= v.abs() {
+                (fp - t) + v
+            } else {
+                (v - t) + fp
+            };
+            fp = t;
+        }
+        let fp = fp + comp;
         let want = num(pair, "taps_fingerprint");
         assert!(
             ((fp - want) / want).abs() < 1e-13,
