@@ -24,11 +24,11 @@
 //! # Ok::<(), Box<dyn std::error::Error>>(())
 //! ```
 
+mod chunks;
 mod dither;
 mod encoding;
 mod error;
 mod limits;
-mod probe;
 mod quantize;
 mod reader;
 mod writer;

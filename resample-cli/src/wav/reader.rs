@@ -3,14 +3,14 @@
 //! floating point, full scale ±1.0, refusing or zeroing non-finite float samples.
 
 use std::fs::File;
-use std::io::{self, BufReader, Read};
+use std::io::{self, BufReader, Read, Seek, SeekFrom};
 use std::path::Path;
 
 use resample_core::Sample;
 
+use super::chunks::{scan, Layout};
 use super::encoding::Encoding;
 use super::error::WavError;
-use super::probe::describe_format;
 
 /// Read buffer size.
 const READ_BUFFER: usize = 256 << 10;
@@ -45,24 +45,12 @@ impl WavInfo {
     }
 }
 
-/// Counts the bytes `hound` consumes, so the data chunk's offset is known.
-#[derive(Debug)]
-struct Counting<R> {
-    inner: R,
-    pos: u64,
-}
-
-impl<R: Read> Read for Counting<R> {
-    fn read(&mut self, buf: &mut [u8]) -> io::Result<usize> {
-        let n = self.inner.read(buf)?;
-        self.pos += n as u64;
-        Ok(n)
-    }
-}
+/// The bytes hound reads: a clean header, then the file from its first audio byte.
+type Stream = io::Chain<io::Cursor<Vec<u8>>, BufReader<File>>;
 
 /// A WAV file open for streaming reads.
 pub struct WavReader {
-    inner: hound::WavReader<BufReader<File>>,
+    inner: hound::WavReader<Stream>,
     info: WavInfo,
     frames_read: u64,
     sanitized: u64,
@@ -89,45 +77,33 @@ impl WavReader {
         if size == 0 {
             return Err(WavError::Empty);
         }
-        let mut magic = [0u8; 4];
+        let mut magic = [0u8; 12];
         let got = read_up_to(&mut file, &mut magic)?;
-        match &magic[..got] {
-            b"RIFF" => {}
-            b"RF64" | b"BW64" => {
+        match (&magic[0..4.min(got)], got) {
+            (b"RIFF", 12) if &magic[8..12] == b"WAVE" => {}
+            (b"RIFF", 12) => return Err(WavError::NotWav("a RIFF file, but not WAVE".into())),
+            (b"RF64" | b"BW64", _) => {
                 return Err(WavError::Unsupported(
                     "RF64/BW64 container (files over 4 GiB)".into(),
                 ))
             }
-            b"RIFX" => return Err(WavError::Unsupported("big-endian RIFX container".into())),
+            (b"RIFX", _) => return Err(WavError::Unsupported("big-endian RIFX container".into())),
+            (b"RIFF", _) => return Err(WavError::HeaderTruncated),
             _ if got < 4 => return Err(WavError::NotWav("shorter than a RIFF header".into())),
             _ => return Err(WavError::NotWav("no RIFF tag at the start".into())),
         }
-        drop(file);
-        let file = File::open(path).map_err(|e| WavError::io("cannot open", e))?;
-        // First pass: hound reads the header byte-exactly through `Counting` and stops at
-        // the first data byte, so the count is the data offset.
-        let counting = Counting {
-            inner: BufReader::new(file),
-            pos: 0,
-        };
-        let header = hound::WavReader::new(counting).map_err(|e| map_open_error(e, path))?;
-        let spec = header.spec();
-        let samples = u64::from(header.len());
-        let frames = u64::from(header.duration());
-        let offset = header.into_inner().pos;
-        let encoding = Encoding::from_spec(&spec).ok_or_else(|| {
-            WavError::Unsupported(describe_format(path).unwrap_or_else(|| {
-                format!(
-                    "{} bits per sample {}",
-                    spec.bits_per_sample,
-                    if spec.sample_format == hound::SampleFormat::Float {
-                        "float"
-                    } else {
-                        "integer"
-                    }
-                )
-            }))
-        })?;
+        let layout = scan(&mut file, size)?;
+        let available = size - layout.data_offset;
+        // hound parses the format chunk and decodes samples; it is given a clean header
+        // followed by the audio bytes.
+        file.seek(SeekFrom::Start(layout.data_offset))
+            .map_err(|e| WavError::io("cannot read", e))?;
+        let stream: Stream = io::Cursor::new(layout.clean_header())
+            .chain(BufReader::with_capacity(READ_BUFFER, file));
+        let inner = hound::WavReader::new(stream).map_err(|e| map_open_error(e, &layout))?;
+        let spec = inner.spec();
+        let encoding =
+            Encoding::from_spec(&spec).ok_or_else(|| WavError::Unsupported(layout.describe()))?;
         if spec.sample_rate == 0 {
             return Err(WavError::ZeroRate);
         }
@@ -145,22 +121,18 @@ impl WavReader {
                 resample_core::MAX_CHANNELS
             )));
         }
-        let declared = samples * u64::from(encoding.bytes());
-        let available = size.saturating_sub(offset);
+        let declared = u64::from(layout.data_len);
         if declared > available {
             return Err(WavError::Truncated {
                 declared,
                 available,
             });
         }
-        let file = File::open(path).map_err(|e| WavError::io("cannot open", e))?;
-        let inner = hound::WavReader::new(BufReader::with_capacity(READ_BUFFER, file))
-            .map_err(|e| map_open_error(e, path))?;
         let info = WavInfo {
             sample_rate: spec.sample_rate,
             channels: spec.channels,
             encoding,
-            frames,
+            frames: u64::from(inner.duration()),
         };
         Ok(Self {
             inner,
@@ -266,25 +238,20 @@ fn is_eof(e: &io::Error) -> bool {
     e.kind() == io::ErrorKind::UnexpectedEof || e.kind() == io::ErrorKind::Other
 }
 
-fn map_open_error(e: hound::Error, path: &Path) -> WavError {
+fn map_open_error(e: hound::Error, layout: &Layout) -> WavError {
     match e {
         hound::Error::IoError(ref io) if is_eof(io) => WavError::HeaderTruncated,
         hound::Error::IoError(io) => WavError::io("cannot read", io),
-        hound::Error::FormatError(m) if m.contains("RIFF") || m.contains("WAVE") => {
-            WavError::NotWav(m.to_string())
-        }
         hound::Error::FormatError("file contains zero channels") => {
             WavError::Malformed("the header declares 0 channels".into())
         }
         hound::Error::FormatError(m)
             if m.contains("bits per sample is not") || m.contains("multiple of 8") =>
         {
-            WavError::Unsupported(describe_format(path).unwrap_or_else(|| m.to_string()))
+            WavError::Unsupported(layout.describe())
         }
         hound::Error::FormatError(m) => WavError::Malformed(m.to_string()),
-        hound::Error::Unsupported => WavError::Unsupported(
-            describe_format(path).unwrap_or_else(|| "unknown format tag".into()),
-        ),
+        hound::Error::Unsupported => WavError::Unsupported(layout.describe()),
         other => WavError::Malformed(other.to_string()),
     }
 }
