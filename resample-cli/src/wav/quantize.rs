@@ -161,7 +161,7 @@ mod tests {
         let s = q.stats();
         assert_eq!((s.over, s.clipped, s.samples), (2, 2, 4));
         assert!((s.peak_dbfs() - 20.0 * 1.5f64.log10()).abs() < 1e-12);
-        assert_eq!(s.suggested_gain_db(), Some(-3.6));
+        assert_eq!(s.suggested_gain_db(), Some(-3.7));
     }
 
     #[test]

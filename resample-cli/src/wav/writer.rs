@@ -169,7 +169,7 @@ mod tests {
             Encoding::Float32,
         ] {
             for channels in [1u16, 2, 6] {
-                let path = dir.path().join(format!("{}-{channels}.wav", enc.bits()));
+                let path = dir.path().join(format!("{enc}-{channels}.wav"));
                 let mut opts = WriterOptions::new(8000, channels, enc);
                 opts.dither = Dither::None;
                 let mut w = WavWriter::create(&path, &opts).unwrap();
