@@ -165,3 +165,14 @@ fn overs_are_clipped_counted_and_a_gain_suggested() {
     assert_eq!(v["clipped"], 0, "{v}");
     assert!(v["peak_dbfs"].as_f64().unwrap() <= -0.1 + 1e-6, "{v}");
 }
+
+#[test]
+fn same_rate_same_format_is_bit_exact() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    let x = signal(4000, 2, 48_000);
+    write_wav(&d.join("a.wav"), 48_000, 2, Encoding::Int(24), &x);
+    let o = rerate(d, &["convert", "a.wav", "--out-rate", "48k", "-o", "b.wav"]);
+    assert!(o.status.success(), "{}", err(&o));
+    assert_eq!(read_wav(&d.join("a.wav")).3, read_wav(&d.join("b.wav")).3);
+}

@@ -159,7 +159,7 @@ mod tests {
         touch(&c.join("notes.txt"));
         touch(&c.join("._z.wav"));
         let out = d.path().join("out");
-        let p = plan(&[c.clone()], Some(&out), true, 16_000).unwrap();
+        let p = plan(std::slice::from_ref(&c), Some(&out), true, 16_000).unwrap();
         let rels: Vec<_> = p.tasks.iter().map(|t| t.rel.clone()).collect();
         assert_eq!(
             rels,
@@ -181,10 +181,16 @@ mod tests {
         let d = tempfile::tempdir().unwrap();
         let f = d.path().join("take.wav");
         touch(&f);
-        let p = plan(&[f.clone()], None, false, 44_100).unwrap();
+        let p = plan(std::slice::from_ref(&f), None, false, 44_100).unwrap();
         assert_eq!(p.tasks[0].output, d.path().join("take-44.1k.wav"));
         assert!(!p.is_batch);
-        let p = plan(&[f.clone()], Some(&d.path().join("x.wav")), false, 44_100).unwrap();
+        let p = plan(
+            std::slice::from_ref(&f),
+            Some(&d.path().join("x.wav")),
+            false,
+            44_100,
+        )
+        .unwrap();
         assert_eq!(p.tasks[0].output, d.path().join("x.wav"));
     }
 

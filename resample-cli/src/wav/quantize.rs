@@ -81,9 +81,12 @@ impl Quantizer {
             self.stats.over += 1;
             self.stats.clipped += 1;
         }
+        // A value already on the code grid (digital silence, or a copy at the same rate
+        // and word length) needs no requantization, so it gets no dither: silence stays
+        // silent and same-format copies stay bit-exact.
         let d = match &mut self.dither {
-            Some(t) => t.next_lsb(),
-            None => 0.0,
+            Some(t) if v.fract() != 0.0 => t.next_lsb(),
+            _ => 0.0,
         };
         (v + d).round().clamp(self.min, self.max) as i32
     }
@@ -162,6 +165,16 @@ mod tests {
         assert_eq!((s.over, s.clipped, s.samples), (2, 2, 4));
         assert!((s.peak_dbfs() - 20.0 * 1.5f64.log10()).abs() < 1e-12);
         assert_eq!(s.suggested_gain_db(), Some(-3.7));
+    }
+
+    #[test]
+    fn codes_on_the_grid_are_not_dithered() {
+        let mut q = Quantizer::new(Encoding::Int(16), Dither::Tpdf);
+        for i in -300..300 {
+            let x = f64::from(i) / 32768.0;
+            assert_eq!(q.to_code(x), i);
+            assert_eq!(q.to_code(0.0), 0);
+        }
     }
 
     #[test]
