@@ -29,12 +29,18 @@ struct Cli {
 enum Command {
     /// Print (or export) the filter a conversion would use.
     Design(cmd::design::DesignArgs),
+    /// Convert WAV files (one file, several, or folders) to another sample rate.
+    Convert(cmd::convert::ConvertArgs),
+    /// The built-in demo: a generated jingle converted to 48 kHz and 16 kHz.
+    Demo(cmd::demo::DemoArgs),
 }
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
     let result = match &cli.command {
         Command::Design(a) => cmd::design::run(a).map(|()| ExitCode::SUCCESS),
+        Command::Convert(a) => cmd::convert::run(a),
+        Command::Demo(a) => cmd::demo::run(a),
     };
     match result {
         Ok(code) => code,

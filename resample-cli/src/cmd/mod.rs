@@ -1,3 +1,6 @@
 //! One module per subcommand: each parses nothing itself, calls the core, and prints.
 
+pub mod convert;
+pub mod demo;
 pub mod design;
+mod signals;

@@ -1,0 +1,87 @@
+//! Finding the WAV files in a folder (optionally its sub-folders), and telling files apart
+//! by identity rather than by name.
+
+use std::fs;
+use std::io;
+use std::path::{Path, PathBuf};
+
+/// Whether a file name looks like a WAV file (`.wav` / `.wave`, any case) and is not hidden
+/// (hidden names include rerate's own temporary files and other tools' resource forks).
+pub fn is_wav_name(name: &str) -> bool {
+    let lower = name.to_ascii_lowercase();
+    !name.starts_with('.') && (lower.ends_with(".wav") || lower.ends_with(".wave"))
+}
+
+/// The WAV files under `dir`, as paths relative to it (not sorted).
+pub fn wav_files(dir: &Path, recursive: bool) -> io::Result<Vec<PathBuf>> {
+    let mut out = Vec::new();
+    let mut stack = vec![PathBuf::new()];
+    while let Some(rel) = stack.pop() {
+        for entry in fs::read_dir(dir.join(&rel))? {
+            let entry = entry?;
+            let name = entry.file_name();
+            let name_s = name.to_string_lossy();
+            let ty = fs::metadata(entry.path())?; // follows symlinks
+            if ty.is_dir() {
+                if recursive && !name_s.starts_with('.') {
+                    stack.push(rel.join(&name));
+                }
+            } else if ty.is_file() && is_wav_name(&name_s) {
+                out.push(rel.join(&name));
+            }
+        }
+    }
+    Ok(out)
+}
+
+/// A file's identity (device and inode on Unix; the canonical path elsewhere), so that two
+/// names of one file (links, `..`, symlinks) are recognised as the same.
+#[derive(Debug, Clone, PartialEq, Eq, Hash)]
+pub struct FileId(Inner);
+
+#[cfg(unix)]
+type Inner = (u64, u64);
+#[cfg(not(unix))]
+type Inner = PathBuf;
+
+/// The identity of an existing file, `None` if it does not exist.
+pub fn file_id(path: &Path) -> Option<FileId> {
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::MetadataExt;
+        let m = fs::metadata(path).ok()?;
+        Some(FileId((m.dev(), m.ino())))
+    }
+    #[cfg(not(unix))]
+    {
+        fs::canonicalize(path).ok().map(FileId)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn names() {
+        assert!(is_wav_name("a.wav"));
+        assert!(is_wav_name("A.WAVE"));
+        assert!(!is_wav_name("._a.wav"));
+        assert!(!is_wav_name(".a.wav.123-0.rerate-tmp"));
+        assert!(!is_wav_name("a.flac"));
+    }
+
+    #[cfg(unix)]
+    #[test]
+    fn links_share_an_identity() {
+        let d = tempfile::tempdir().unwrap();
+        let a = d.path().join("a.wav");
+        fs::write(&a, b"x").unwrap();
+        std::os::unix::fs::symlink(&a, d.path().join("s.wav")).unwrap();
+        fs::hard_link(&a, d.path().join("h.wav")).unwrap();
+        let id = file_id(&a).unwrap();
+        assert_eq!(file_id(&d.path().join("s.wav")), Some(id.clone()));
+        assert_eq!(file_id(&d.path().join("h.wav")), Some(id));
+        assert_eq!(file_id(&d.path().join("none.wav")), None);
+    }
+}

@@ -1,0 +1,218 @@
+//! Turning the command line's inputs into a batch of conversion tasks: which files, where
+//! each output goes, which outputs would be unsafe, and which share of the batch this
+//! machine takes.
+
+mod discover;
+mod naming;
+mod shard;
+
+use std::collections::{BTreeMap, HashSet};
+use std::path::{Path, PathBuf};
+
+pub use discover::{file_id, is_wav_name, FileId};
+pub use naming::{default_output_name, rate_label};
+pub use shard::Shard;
+
+/// One file to convert.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Task {
+    /// The input file.
+    pub input: PathBuf,
+    /// Where its output goes.
+    pub output: PathBuf,
+    /// Its path relative to the input it was found in (the file name for a file given
+    /// directly): the sort key for sharding, and the mirrored path under `-o`.
+    pub rel: PathBuf,
+}
+
+/// The whole batch, in sorted order.
+#[derive(Debug, Clone, Default)]
+pub struct Plan {
+    /// Tasks sorted by relative path (then input path).
+    pub tasks: Vec<Task>,
+    /// Identities of every input file found (outputs may never be one of them).
+    pub inputs: HashSet<FileId>,
+    /// More than one input, or a folder: `-o` names a folder.
+    pub is_batch: bool,
+}
+
+/// A command-line mistake (exit code 2).
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+#[error("{0}")]
+pub struct PlanError(pub String);
+
+/// Plan the batch. With one input file, `output` is the output file (or a folder to put it
+/// in); with several inputs or a folder, `output` is a folder and each folder's structure
+/// is mirrored under it; without `output`, each result goes beside its input under
+/// [`default_output_name`].
+pub fn plan(
+    inputs: &[PathBuf],
+    output: Option<&Path>,
+    recursive: bool,
+    out_rate: u32,
+) -> Result<Plan, PlanError> {
+    if inputs.is_empty() {
+        return Err(PlanError("no input given".into()));
+    }
+    let mut found: Vec<(PathBuf, PathBuf)> = Vec::new(); // (input, rel)
+    let mut any_dir = false;
+    for inp in inputs {
+        let meta = std::fs::metadata(inp)
+            .map_err(|e| PlanError(format!("{}: {}", inp.display(), describe_io(&e))))?;
+        if meta.is_dir() {
+            any_dir = true;
+            let files = discover::wav_files(inp, recursive)
+                .map_err(|e| PlanError(format!("{}: {}", inp.display(), describe_io(&e))))?;
+            if files.is_empty() {
+                return Err(PlanError(format!(
+                    "{}: no .wav files found{}",
+                    inp.display(),
+                    if recursive {
+                        ""
+                    } else {
+                        " (use --recursive to descend into sub-folders)"
+                    }
+                )));
+            }
+            found.extend(files.into_iter().map(|rel| (inp.join(&rel), rel)));
+        } else {
+            let name = inp
+                .file_name()
+                .map(PathBuf::from)
+                .ok_or_else(|| PlanError(format!("{}: not a file name", inp.display())))?;
+            found.push((inp.clone(), name));
+        }
+    }
+    let is_batch = inputs.len() > 1 || any_dir;
+    if let (true, Some(out)) = (is_batch, output) {
+        if out.exists() && !out.is_dir() {
+            return Err(PlanError(format!(
+                "{}: with several inputs or a folder, -o must be a folder, and this is a file",
+                out.display()
+            )));
+        }
+    }
+    let mut ids = HashSet::new();
+    for (inp, _) in &found {
+        if let Some(id) = file_id(inp) {
+            ids.insert(id);
+        }
+    }
+    let mut tasks: Vec<Task> = found
+        .into_iter()
+        .map(|(input, rel)| {
+            let output = match output {
+                Some(out) if is_batch => out.join(&rel),
+                Some(out) if out.is_dir() => out.join(&rel),
+                Some(out) => out.to_path_buf(),
+                None => default_output_name(&input, out_rate),
+            };
+            Task { input, output, rel }
+        })
+        .collect();
+    tasks.sort_by(|a, b| (&a.rel, &a.input).cmp(&(&b.rel, &b.input)));
+    // The same file named twice on the command line is converted once.
+    tasks.dedup_by(|a, b| a.input == b.input);
+    let mut seen: BTreeMap<&Path, &Path> = BTreeMap::new();
+    for t in &tasks {
+        if let Some(prev) = seen.insert(&t.output, &t.input) {
+            return Err(PlanError(format!(
+                "{} and {} would both be written to {}",
+                prev.display(),
+                t.input.display(),
+                t.output.display()
+            )));
+        }
+    }
+    Ok(Plan {
+        tasks,
+        inputs: ids,
+        is_batch,
+    })
+}
+
+fn describe_io(e: &std::io::Error) -> String {
+    match e.kind() {
+        std::io::ErrorKind::NotFound => "no such file or folder".into(),
+        std::io::ErrorKind::PermissionDenied => "permission denied".into(),
+        _ => e.to_string(),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::fs;
+
+    fn touch(p: &Path) {
+        fs::create_dir_all(p.parent().unwrap()).unwrap();
+        fs::write(p, b"x").unwrap();
+    }
+
+    #[test]
+    fn folders_are_mirrored_and_sorted() {
+        let d = tempfile::tempdir().unwrap();
+        let c = d.path().join("corpus");
+        touch(&c.join("b/2.wav"));
+        touch(&c.join("a/1.WAV"));
+        touch(&c.join("z.wav"));
+        touch(&c.join("notes.txt"));
+        touch(&c.join("._z.wav"));
+        let out = d.path().join("out");
+        let p = plan(std::slice::from_ref(&c), Some(&out), true, 16_000).unwrap();
+        let rels: Vec<_> = p.tasks.iter().map(|t| t.rel.clone()).collect();
+        assert_eq!(
+            rels,
+            vec![
+                PathBuf::from("a/1.WAV"),
+                PathBuf::from("b/2.wav"),
+                PathBuf::from("z.wav")
+            ]
+        );
+        assert_eq!(p.tasks[1].output, out.join("b/2.wav"));
+        assert!(p.is_batch);
+        // Without --recursive only the top level.
+        let p = plan(&[c], Some(&out), false, 16_000).unwrap();
+        assert_eq!(p.tasks.len(), 1);
+    }
+
+    #[test]
+    fn single_file_and_default_names() {
+        let d = tempfile::tempdir().unwrap();
+        let f = d.path().join("take.wav");
+        touch(&f);
+        let p = plan(std::slice::from_ref(&f), None, false, 44_100).unwrap();
+        assert_eq!(p.tasks[0].output, d.path().join("take-44.1k.wav"));
+        assert!(!p.is_batch);
+        let p = plan(
+            std::slice::from_ref(&f),
+            Some(&d.path().join("x.wav")),
+            false,
+            44_100,
+        )
+        .unwrap();
+        assert_eq!(p.tasks[0].output, d.path().join("x.wav"));
+    }
+
+    #[test]
+    fn colliding_outputs_are_refused() {
+        let d = tempfile::tempdir().unwrap();
+        touch(&d.path().join("a/x.wav"));
+        touch(&d.path().join("b/x.wav"));
+        let e = plan(
+            &[d.path().join("a/x.wav"), d.path().join("b/x.wav")],
+            Some(&d.path().join("out")),
+            false,
+            8000,
+        )
+        .unwrap_err();
+        assert!(e.0.contains("both be written"), "{e}");
+    }
+
+    #[test]
+    fn missing_input_is_a_usage_error() {
+        let d = tempfile::tempdir().unwrap();
+        let e = plan(&[d.path().join("nope.wav")], None, false, 8000).unwrap_err();
+        assert!(e.0.contains("no such file"), "{e}");
+    }
+}

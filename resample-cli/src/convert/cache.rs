@@ -1,0 +1,50 @@
+//! Filter designs shared by the files of a batch: each distinct (rates, stopband, passband)
+//! is designed once.
+
+use std::collections::HashMap;
+use std::sync::{Arc, Mutex};
+
+use resample_core::{Design, FilterSpec};
+
+type Key = (u32, u32, u64, u64);
+
+/// A thread-safe cache of designs.
+#[derive(Debug, Default)]
+pub struct DesignCache {
+    map: Mutex<HashMap<Key, Arc<Design>>>,
+}
+
+impl DesignCache {
+    /// An empty cache.
+    pub fn new() -> Self {
+        Self::default()
+    }
+
+    /// The design for these parameters (designed now if not seen before).
+    pub fn get(
+        &self,
+        in_rate: u32,
+        out_rate: u32,
+        stopband_db: f64,
+        passband: f64,
+    ) -> Result<Arc<Design>, resample_core::Error> {
+        let key = (in_rate, out_rate, stopband_db.to_bits(), passband.to_bits());
+        // Designing under the lock keeps two threads from designing the same filter; designs
+        // take well under a second.
+        let mut map = match self.map.lock() {
+            Ok(g) => g,
+            Err(p) => p.into_inner(),
+        };
+        if let Some(d) = map.get(&key) {
+            return Ok(Arc::clone(d));
+        }
+        let d = Arc::new(
+            FilterSpec::new(in_rate, out_rate)
+                .stopband_db(stopband_db)
+                .passband(passband)
+                .design()?,
+        );
+        map.insert(key, Arc::clone(&d));
+        Ok(d)
+    }
+}

@@ -1,0 +1,240 @@
+//! Converting one WAV file to another sample rate, streaming block by block (memory does
+//! not grow with the file's length), in the precision and with the stopband that follow
+//! the output format ([`crate::quality`]).
+
+mod cache;
+mod report;
+
+use std::path::Path;
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::time::Instant;
+
+use resample_core::{Design, Sample, StreamConverter};
+
+pub use cache::DesignCache;
+pub use report::FileReport;
+
+use crate::quality::{default_stopband_db, precision_for, Precision};
+use crate::wav::{Dither, Encoding, NonFinite, WavError, WavReader, WavWriter, WriterOptions};
+
+/// Input frames read per block.
+pub const BLOCK_FRAMES: usize = 8192;
+
+/// What a conversion should do (the same for every file of a batch).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Settings {
+    /// Output sample rate, Hz.
+    pub out_rate: u32,
+    /// Stopband attenuation, dB; `None` follows the output format
+    /// ([`crate::quality::default_stopband_db`]).
+    pub stopband_db: Option<f64>,
+    /// Passband edge, fraction of the lower Nyquist frequency.
+    pub passband: f64,
+    /// Output encoding; `None` keeps the input's.
+    pub encoding: Option<Encoding>,
+    /// Dither for integer output.
+    pub dither: Dither,
+    /// Gain applied before conversion, dB.
+    pub gain_db: f64,
+    /// Replace NaN / infinite float input samples with 0 (and count them) instead of
+    /// refusing the file.
+    pub sanitize: bool,
+    /// Replace an existing output file.
+    pub force: bool,
+}
+
+impl Settings {
+    /// Defaults for `out_rate`: stopband by format, passband 0.91, keep the encoding, TPDF
+    /// dither, no gain, refuse non-finite samples, never overwrite.
+    pub fn new(out_rate: u32) -> Self {
+        Self {
+            out_rate,
+            stopband_db: None,
+            passband: resample_core::design::DEFAULT_PASSBAND,
+            encoding: None,
+            dither: Dither::Tpdf,
+            gain_db: 0.0,
+            sanitize: false,
+            force: false,
+        }
+    }
+}
+
+/// Why a file could not be converted.
+#[derive(Debug, thiserror::Error)]
+#[non_exhaustive]
+pub enum ConvertError {
+    /// Reading or writing the WAV files.
+    #[error(transparent)]
+    Wav(#[from] WavError),
+    /// The filter could not be designed or the converter built.
+    #[error("cannot convert: {0}")]
+    Core(#[from] resample_core::Error),
+    /// The engine produced a different number of frames than promised (a bug).
+    #[error("internal error: wrote {written} frames, expected {expected}")]
+    Length {
+        /// Frames written.
+        written: u64,
+        /// Frames expected.
+        expected: u64,
+    },
+}
+
+/// Cancellation and progress for one conversion.
+#[derive(Clone, Copy)]
+pub struct Control<'a> {
+    /// Set to stop at the next block (the output is then removed).
+    pub cancel: &'a AtomicBool,
+    /// Called with the number of input bytes consumed by each block.
+    pub progress: &'a (dyn Fn(u64) + Sync),
+}
+
+impl std::fmt::Debug for Control<'_> {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("Control")
+            .field("cancel", &self.cancel)
+            .finish_non_exhaustive()
+    }
+}
+
+/// Convert `input` to `output`. The output appears under its name only when complete; on
+/// any error nothing is left behind.
+pub fn convert_file(
+    input: &Path,
+    output: &Path,
+    settings: &Settings,
+    designs: &DesignCache,
+    ctl: Control<'_>,
+) -> Result<FileReport, ConvertError> {
+    let start = Instant::now();
+    let mut reader = WavReader::open(input)?;
+    let info = reader.info().clone();
+    let encoding = settings.encoding.unwrap_or(info.encoding);
+    let stopband = settings
+        .stopband_db
+        .unwrap_or_else(|| default_stopband_db(encoding));
+    let precision = precision_for(encoding);
+    let design = designs.get(
+        info.sample_rate,
+        settings.out_rate,
+        stopband,
+        settings.passband,
+    )?;
+    let frames_out = design.pair().output_len(info.frames);
+    let opts = WriterOptions {
+        sample_rate: settings.out_rate,
+        channels: info.channels,
+        encoding,
+        dither: settings.dither,
+        force: settings.force,
+        expected_frames: Some(frames_out),
+    };
+    let mut writer = WavWriter::create(output, &opts)?;
+    let non_finite = if settings.sanitize {
+        NonFinite::Zero
+    } else {
+        NonFinite::Refuse
+    };
+    let gain = 10f64.powf(settings.gain_db / 20.0);
+    let bytes_per_frame = u64::from(info.channels) * u64::from(info.encoding.bytes());
+    let run = Run {
+        design: &design,
+        gain,
+        non_finite,
+        bytes_per_frame,
+        ctl,
+    };
+    match precision {
+        Precision::F32 => run.stream::<f32>(&mut reader, &mut writer)?,
+        Precision::F64 => run.stream::<f64>(&mut reader, &mut writer)?,
+    }
+    if writer.frames() != frames_out {
+        return Err(ConvertError::Length {
+            written: writer.frames(),
+            expected: frames_out,
+        });
+    }
+    let dithered = writer.dithers();
+    let levels = writer.finish()?;
+    let r = design.report();
+    Ok(FileReport {
+        input: input.to_path_buf(),
+        output: output.to_path_buf(),
+        in_rate: info.sample_rate,
+        out_rate: settings.out_rate,
+        channels: info.channels,
+        in_encoding: info.encoding,
+        out_encoding: encoding,
+        frames_in: info.frames,
+        frames_out,
+        seconds: info.seconds(),
+        elapsed_s: start.elapsed().as_secs_f64(),
+        requested_stopband_db: stopband,
+        measured_stopband_db: r.measured_stopband_db,
+        passband: settings.passband,
+        taps_per_phase: r.taps_per_phase,
+        precision,
+        dithered,
+        gain_db: settings.gain_db,
+        sanitized: reader.sanitized(),
+        levels,
+    })
+}
+
+struct Run<'a> {
+    design: &'a Design,
+    gain: f64,
+    non_finite: NonFinite,
+    bytes_per_frame: u64,
+    ctl: Control<'a>,
+}
+
+impl Run<'_> {
+    fn stream<T: Sample>(
+        &self,
+        reader: &mut WavReader,
+        writer: &mut WavWriter,
+    ) -> Result<(), ConvertError> {
+        let ch = usize::from(reader.info().channels);
+        let mut conv = StreamConverter::<T>::new(self.design, ch)?;
+        let out_frames = usize::try_from(self.design.pair().output_len(BLOCK_FRAMES as u64))
+            .unwrap_or(BLOCK_FRAMES)
+            .max(1)
+            + 1;
+        let mut inb = vec![T::zero(); BLOCK_FRAMES * ch];
+        let mut outb = vec![T::zero(); out_frames * ch];
+        let gain = T::from_f64_lossy(self.gain);
+        let apply_gain = self.gain != 1.0;
+        loop {
+            if self.ctl.cancel.load(Ordering::Relaxed) {
+                return Err(WavError::Interrupted.into());
+            }
+            let n = reader.read_frames(&mut inb, self.non_finite)?;
+            if n == 0 {
+                break;
+            }
+            let block = &mut inb[..n * ch];
+            if apply_gain {
+                block.iter_mut().for_each(|v| *v = *v * gain);
+            }
+            let mut off = 0;
+            while off < n {
+                let p = conv.process_interleaved(&block[off * ch..], &mut outb)?;
+                writer.write_frames(&outb[..p.frames_written * ch])?;
+                off += p.frames_read;
+                if p.frames_read == 0 && p.frames_written == 0 {
+                    break;
+                }
+            }
+            (self.ctl.progress)(n as u64 * self.bytes_per_frame);
+        }
+        loop {
+            let k = conv.flush_interleaved(&mut outb)?;
+            if k == 0 {
+                break;
+            }
+            writer.write_frames(&outb[..k * ch])?;
+        }
+        Ok(())
+    }
+}

@@ -1,0 +1,173 @@
+//! Files written under a temporary name in the target folder and moved into place only when
+//! complete, so an interrupted or failed run never leaves a half-written file under the
+//! final name. Temporary files are removed on error, on drop, and (through
+//! [`remove_all_live`]) from a signal handler.
+
+use std::collections::BTreeSet;
+use std::fs::{self, File, OpenOptions};
+use std::io;
+use std::path::{Path, PathBuf};
+use std::sync::atomic::{AtomicU64, Ordering};
+use std::sync::Mutex;
+
+use crate::wav::WavError;
+
+/// Suffix of every temporary file rerate writes.
+pub const TEMP_SUFFIX: &str = ".rerate-tmp";
+
+static LIVE: Mutex<BTreeSet<PathBuf>> = Mutex::new(BTreeSet::new());
+static COUNTER: AtomicU64 = AtomicU64::new(0);
+
+/// Remove every temporary file still being written (for a signal handler that is about to
+/// exit the process). Returns how many were removed.
+pub fn remove_all_live() -> usize {
+    let live = match LIVE.lock() {
+        Ok(g) => g.clone(),
+        Err(p) => p.into_inner().clone(),
+    };
+    live.iter().filter(|p| fs::remove_file(p).is_ok()).count()
+}
+
+/// A file being written under a temporary name beside its final path.
+#[derive(Debug)]
+pub struct StagedFile {
+    temp: PathBuf,
+    target: PathBuf,
+    force: bool,
+    committed: bool,
+}
+
+impl StagedFile {
+    /// Start writing `target`: refuse an existing target unless `force`, and create a new,
+    /// uniquely named temporary file in the same folder.
+    pub fn create(target: &Path, force: bool) -> Result<(Self, File), WavError> {
+        if !force && target.symlink_metadata().is_ok() {
+            return Err(WavError::Exists(target.display().to_string()));
+        }
+        let name = target
+            .file_name()
+            .map(|n| n.to_string_lossy().into_owned())
+            .unwrap_or_else(|| "output".into());
+        let n = COUNTER.fetch_add(1, Ordering::Relaxed);
+        let temp =
+            target.with_file_name(format!(".{name}.{}-{n}{TEMP_SUFFIX}", std::process::id()));
+        if let Ok(mut live) = LIVE.lock() {
+            live.insert(temp.clone());
+        }
+        let staged = Self {
+            temp,
+            target: target.to_path_buf(),
+            force,
+            committed: false,
+        };
+        let file = OpenOptions::new()
+            .write(true)
+            .create_new(true)
+            .open(&staged.temp)
+            .map_err(|e| WavError::io("cannot create the temporary output file", e))?;
+        Ok((staged, file))
+    }
+
+    /// The temporary path.
+    pub fn temp_path(&self) -> &Path {
+        &self.temp
+    }
+
+    /// The final path.
+    pub fn target(&self) -> &Path {
+        &self.target
+    }
+
+    /// Make the temporary file durable and move it to the final name. Without `force` this
+    /// never replaces a file that appeared meanwhile.
+    pub fn commit(mut self) -> Result<(), WavError> {
+        File::open(&self.temp)
+            .and_then(|f| f.sync_all())
+            .map_err(|e| WavError::io("cannot write", e))?;
+        if self.force {
+            fs::rename(&self.temp, &self.target).map_err(|e| WavError::io("cannot rename", e))?;
+        } else {
+            // A hard link fails if the target exists: no window in which another writer's
+            // file could be replaced.
+            match fs::hard_link(&self.temp, &self.target) {
+                Ok(()) => {
+                    let _ = fs::remove_file(&self.temp);
+                }
+                Err(e) if e.kind() == io::ErrorKind::AlreadyExists => {
+                    return Err(WavError::Exists(self.target.display().to_string()));
+                }
+                Err(_) => {
+                    // Filesystems without hard links.
+                    if self.target.symlink_metadata().is_ok() {
+                        return Err(WavError::Exists(self.target.display().to_string()));
+                    }
+                    fs::rename(&self.temp, &self.target)
+                        .map_err(|e| WavError::io("cannot rename", e))?;
+                }
+            }
+        }
+        self.committed = true;
+        self.forget();
+        Ok(())
+    }
+
+    fn forget(&self) {
+        if let Ok(mut live) = LIVE.lock() {
+            live.remove(&self.temp);
+        }
+    }
+}
+
+impl Drop for StagedFile {
+    fn drop(&mut self) {
+        if !self.committed {
+            let _ = fs::remove_file(&self.temp);
+            self.forget();
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::io::Write;
+
+    #[test]
+    fn commit_moves_and_drop_cleans() {
+        let dir = tempfile::tempdir().unwrap();
+        let target = dir.path().join("a.wav");
+        let (s, mut f) = StagedFile::create(&target, false).unwrap();
+        f.write_all(b"abc").unwrap();
+        drop(f);
+        let temp = s.temp_path().to_path_buf();
+        assert!(temp.exists());
+        s.commit().unwrap();
+        assert!(!temp.exists());
+        assert_eq!(fs::read(&target).unwrap(), b"abc");
+
+        // Exists, no force: refused up front.
+        assert!(matches!(
+            StagedFile::create(&target, false),
+            Err(WavError::Exists(_))
+        ));
+        // Dropped without commit: temp removed, target untouched.
+        let (s, mut f) = StagedFile::create(&target, true).unwrap();
+        f.write_all(b"zzz").unwrap();
+        let temp = s.temp_path().to_path_buf();
+        drop(s);
+        assert!(!temp.exists());
+        assert_eq!(fs::read(&target).unwrap(), b"abc");
+    }
+
+    #[test]
+    fn commit_without_force_never_replaces_a_newcomer() {
+        let dir = tempfile::tempdir().unwrap();
+        let target = dir.path().join("b.wav");
+        let (s, _f) = StagedFile::create(&target, false).unwrap();
+        fs::write(&target, b"someone else").unwrap();
+        assert!(matches!(s.commit(), Err(WavError::Exists(_))));
+        assert_eq!(fs::read(&target).unwrap(), b"someone else");
+        let leftovers: Vec<_> = fs::read_dir(dir.path()).unwrap().collect();
+        assert_eq!(leftovers.len(), 1);
+    }
+}
