@@ -97,7 +97,7 @@ pub fn convert_interleaved_with<T: Sample>(
     if channels == 0 || channels > crate::MAX_CHANNELS {
         return Err(Error::ChannelsOutOfRange { channels });
     }
-    if input.len() % channels != 0 {
+    if !input.len().is_multiple_of(channels) {
         return Err(Error::BufferShape {
             what: "interleaved input length (multiple of channels)",
             expected: input.len() - input.len() % channels,
