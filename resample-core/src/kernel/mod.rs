@@ -20,6 +20,7 @@
 mod block;
 #[cfg(target_arch = "aarch64")]
 mod neon;
+pub mod peak;
 pub mod scalar;
 mod simd;
 #[cfg(target_arch = "x86_64")]

@@ -6,7 +6,8 @@
 //! channel, `a` taking even vectors and `b` odd ones in steps of `2 W` taps, then one
 //! whole vector into `a` if `W` taps remain, then a zero-filled partial vector into `b`;
 //! finally `hsum(a + b)`. Channels are taken in pairs so each loaded vector of taps serves
-//! two channels; a pair and a single channel run the same operations per channel.
+//! two channels, and outputs in pairs so the core has independent chains to overlap; pairs
+//! and singles run the same operations per output and channel.
 
 /// Generate `dot` and `block` functions for one instruction set and sample type.
 ///
@@ -67,48 +68,59 @@ macro_rules! simd_kernels {
                 }
             }
 
-            /// `N` channels of one output: the row at `w`, channel windows at `x[c]`.
+            /// `K` outputs of `N` channels each: output `o` uses the row at `w[o]` and the
+            /// channel windows at `x[o][c]`. Several outputs in one loop give the core
+            /// independent chains to overlap; each output's arithmetic is the same whatever `K`
+            /// and `N`.
             ///
             /// # Safety
-            /// The CPU supports `$feat`; `w` and every `x[c]` are valid for `tpp` reads.
+            /// The CPU supports `$feat`; every `w[o]` and `x[o][c]` is valid for `tpp` reads.
             #[target_feature(enable = $feat)]
             #[inline]
-            unsafe fn output<const N: usize>(
-                w: *const $t,
-                x: [*const $t; N],
+            unsafe fn outputs<const K: usize, const N: usize>(
+                w: [*const $t; K],
+                x: [[*const $t; N]; K],
                 tpp: usize,
-            ) -> [$t; N] {
+            ) -> [[$t; N]; K] {
                 use $v::*;
                 // Safety: every read is below `tpp` (the caller's guarantee); features as above.
                 unsafe {
-                    let mut a = [zero(); N];
-                    let mut b = [zero(); N];
+                    let mut a = [[zero(); N]; K];
+                    let mut b = [[zero(); N]; K];
                     let mut j = 0;
                     while j + 2 * W <= tpp {
-                        let w0 = load(w.add(j));
-                        let w1 = load(w.add(j + W));
-                        for c in 0..N {
-                            a[c] = fma(a[c], w0, load(x[c].add(j)));
-                            b[c] = fma(b[c], w1, load(x[c].add(j + W)));
+                        for o in 0..K {
+                            let w0 = load(w[o].add(j));
+                            let w1 = load(w[o].add(j + W));
+                            for c in 0..N {
+                                a[o][c] = fma(a[o][c], w0, load(x[o][c].add(j)));
+                                b[o][c] = fma(b[o][c], w1, load(x[o][c].add(j + W)));
+                            }
                         }
                         j += 2 * W;
                     }
                     if j + W <= tpp {
-                        let w0 = load(w.add(j));
-                        for c in 0..N {
-                            a[c] = fma(a[c], w0, load(x[c].add(j)));
+                        for o in 0..K {
+                            let w0 = load(w[o].add(j));
+                            for c in 0..N {
+                                a[o][c] = fma(a[o][c], w0, load(x[o][c].add(j)));
+                            }
                         }
                         j += W;
                     }
                     if j < tpp {
-                        let w0 = partial(w.add(j), tpp - j);
-                        for c in 0..N {
-                            b[c] = fma(b[c], w0, partial(x[c].add(j), tpp - j));
+                        for o in 0..K {
+                            let w0 = partial(w[o].add(j), tpp - j);
+                            for c in 0..N {
+                                b[o][c] = fma(b[o][c], w0, partial(x[o][c].add(j), tpp - j));
+                            }
                         }
                     }
-                    let mut r = [0.0; N];
-                    for c in 0..N {
-                        r[c] = hsum(add(a[c], b[c]));
+                    let mut r = [[0.0; N]; K];
+                    for o in 0..K {
+                        for c in 0..N {
+                            r[o][c] = hsum(add(a[o][c], b[o][c]));
+                        }
                     }
                     r
                 }
@@ -126,33 +138,71 @@ macro_rules! simd_kernels {
                 let dr = b.down % b.up;
                 let w = b.coeffs.as_ptr();
                 let h = b.history.as_ptr();
+                let o = out.as_mut_ptr();
                 let mut c = 0;
                 while c < b.channels {
                     let pair = c + 1 < b.channels;
                     let (mut p, mut i) = (b.phase, b.start);
-                    for k in 0..frames {
-                        let row = p as usize * tpp;
-                        // Safety: `row + tpp <= coeffs.len()` because `p < up` and the table
-                        // holds `up` rows; channel `c` (and `c + 1`)'s window `i..i + tpp` lies
-                        // within its `stride` samples of `history` (both checked by
-                        // `Block::new`); `out` indices are below `channels * frames`.
-                        unsafe {
-                            let x0 = h.add(c * stride + i);
-                            if pair {
-                                let [v0, v1] = output::<2>(w.add(row), [x0, x0.add(stride)], tpp);
-                                *out.get_unchecked_mut(c * frames + k) = v0;
-                                *out.get_unchecked_mut((c + 1) * frames + k) = v1;
-                            } else {
-                                let [v0] = output::<1>(w.add(row), [x0], tpp);
-                                *out.get_unchecked_mut(c * frames + k) = v0;
-                            }
-                        }
+                    let mut k = 0;
+                    while k < frames {
+                        let two = k + 1 < frames;
+                        let (r0, i0) = (p as usize * tpp, i);
                         p += dr;
                         i += dq;
                         if p >= b.up {
                             p -= b.up;
                             i += 1;
                         }
+                        let (r1, i1) = (p as usize * tpp, i);
+                        if two {
+                            p += dr;
+                            i += dq;
+                            if p >= b.up {
+                                p -= b.up;
+                                i += 1;
+                            }
+                        }
+                        // Safety: rows `r0`, `r1` (the phases of outputs `k`, `k + 1`, below
+                        // `up`) lie inside `coeffs`, and channel `c` (and `c + 1`)'s windows at
+                        // `i0`, `i1` lie within its `stride` samples of `history` (both checked
+                        // by `Block::new`; `r1`, `i1` are used only if output `k + 1` exists);
+                        // the `out` indices are below `channels * frames`.
+                        unsafe {
+                            let x0 = h.add(c * stride + i0);
+                            let x1 = h.add(c * stride + i1);
+                            let (w0, w1) = (w.add(r0), w.add(r1));
+                            let y0 = o.add(c * frames + k);
+                            match (pair, two) {
+                                (true, true) => {
+                                    let [[v00, v01], [v10, v11]] = outputs::<2, 2>(
+                                        [w0, w1],
+                                        [[x0, x0.add(stride)], [x1, x1.add(stride)]],
+                                        tpp,
+                                    );
+                                    *y0 = v00;
+                                    *y0.add(frames) = v01;
+                                    *y0.add(1) = v10;
+                                    *y0.add(frames + 1) = v11;
+                                }
+                                (true, false) => {
+                                    let [[v00, v01]] =
+                                        outputs::<1, 2>([w0], [[x0, x0.add(stride)]], tpp);
+                                    *y0 = v00;
+                                    *y0.add(frames) = v01;
+                                }
+                                (false, true) => {
+                                    let [[v00], [v10]] =
+                                        outputs::<2, 1>([w0, w1], [[x0], [x1]], tpp);
+                                    *y0 = v00;
+                                    *y0.add(1) = v10;
+                                }
+                                (false, false) => {
+                                    let [[v00]] = outputs::<1, 1>([w0], [[x0]], tpp);
+                                    *y0 = v00;
+                                }
+                            }
+                        }
+                        k += if two { 2 } else { 1 };
                     }
                     c += if pair { 2 } else { 1 };
                 }
