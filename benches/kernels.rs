@@ -81,14 +81,16 @@ fn thread_cpu_seconds() -> Option<f64> {
     Some(ns * 1e-9)
 }
 
-/// Best rate (units per second of CPU time) of `f` over several runs of at least 30 ms.
+/// Best rate (units per second of CPU time) of `f` over five runs of at least 150 ms each
+/// (the kernel updates `schedstat` at scheduler ticks, a few ms apart: long runs keep that
+/// error to a few percent).
 fn best_rate(mut f: impl FnMut() -> u64) -> f64 {
     let mut best = 0.0_f64;
-    for _ in 0..9 {
+    for _ in 0..5 {
         let wall = Instant::now();
         let cpu = thread_cpu_seconds();
         let mut units = 0;
-        while wall.elapsed() < Duration::from_millis(30) {
+        while wall.elapsed() < Duration::from_millis(150) {
             units += f();
         }
         let secs = match (cpu, thread_cpu_seconds()) {

@@ -68,19 +68,25 @@ fn thread_cpu_seconds() -> Option<f64> {
     Some(ns * 1e-9)
 }
 
-/// Best of three runs: seconds (CPU time of this thread if `cpu`, else wall).
+/// Seconds per call of `f`: best of three measurements, each repeating `f` for at least
+/// 300 ms (CPU time of this thread if `cpu`, else wall time; `schedstat` is updated at
+/// scheduler ticks, so short runs would be too coarse).
 fn best_secs(cpu: bool, mut f: impl FnMut()) -> f64 {
     let mut best = f64::INFINITY;
     for _ in 0..3 {
         let wall = Instant::now();
         let c0 = thread_cpu_seconds();
-        f();
+        let mut calls = 0;
+        while calls == 0 || wall.elapsed() < Duration::from_millis(300) {
+            f();
+            calls += 1;
+        }
         let w = wall.elapsed().as_secs_f64();
         let s = match (cpu, c0, thread_cpu_seconds()) {
             (true, Some(a), Some(b)) if b > a => b - a,
             _ => w,
         };
-        best = best.min(s);
+        best = best.min(s / f64::from(calls));
     }
     best
 }
