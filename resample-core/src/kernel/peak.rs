@@ -6,7 +6,7 @@ use super::Kernel;
 
 /// Independent accumulator chains: enough to cover FMA latency times issue width on current
 /// cores (4 cycles x 2 pipes = 8; 12 leaves room).
-const CHAINS: usize = 12;
+pub const CHAINS: usize = 12;
 
 /// Run `steps` steps of [`CHAINS`] independent `f32` multiply-adds in the vectors of
 /// `kernel` (or, for the scalar kernel, separate multiplies and adds, as it computes). Returns the multiply-accumulates done and a value that depends on
