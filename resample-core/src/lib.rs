@@ -32,6 +32,7 @@
 #![deny(missing_docs)]
 #![warn(missing_debug_implementations)]
 
+pub mod baseline;
 pub mod design;
 mod error;
 pub mod kernel;

@@ -1,8 +1,14 @@
 //! Whole-signal conversion: delay compensated, exact length `ceil(n L / M)`, output sample
 //! `m` at input time `m M / L`, zero outside the input.
 
-use crate::kernel::{Kernel, Sample};
-use crate::{Design, Error, Result, StreamConverter};
+use rayon::prelude::*;
+
+use crate::kernel::{Block, Kernel, KernelFns, Sample};
+use crate::polyphase::PhaseTable;
+use crate::{Design, Error, Result};
+
+#[cfg(doc)]
+use crate::StreamConverter;
 
 /// Convert one channel.
 ///
@@ -33,7 +39,7 @@ pub fn convert_with<T: Sample>(design: &Design, input: &[T], kernel: Kernel) -> 
 }
 
 /// Convert planar channels (all the same length).
-pub fn convert_planar<T: Sample, I: AsRef<[T]>>(
+pub fn convert_planar<T: Sample, I: AsRef<[T]> + Sync>(
     design: &Design,
     input: &[I],
 ) -> Result<Vec<Vec<T>>> {
@@ -41,41 +47,127 @@ pub fn convert_planar<T: Sample, I: AsRef<[T]>>(
 }
 
 /// [`convert_planar`] with a chosen kernel.
-pub fn convert_planar_with<T: Sample, I: AsRef<[T]>>(
+///
+/// The output is cut into segments of [`SEGMENT_FRAMES`] frames and channels into pairs;
+/// the pieces are computed in parallel on rayon's current thread pool (install a pool to
+/// limit the threads). Each piece reads the input it needs (its segment's span plus the
+/// filter's history, zero outside the signal), so the result is bit-identical to one
+/// [`StreamConverter`] run over the whole signal with the same kernel, whatever the
+/// number of threads.
+pub fn convert_planar_with<T: Sample, I: AsRef<[T]> + Sync>(
     design: &Design,
     input: &[I],
     kernel: Kernel,
 ) -> Result<Vec<Vec<T>>> {
-    let mut conv = StreamConverter::<T>::with_kernel(design, input.len(), kernel)?;
-    let n = input.first().map_or(0, |c| c.as_ref().len());
+    let channels = input.len();
+    if channels == 0 || channels > crate::MAX_CHANNELS {
+        return Err(Error::ChannelsOutOfRange { channels });
+    }
+    let fns = KernelFns::<T>::new(kernel)?;
+    let n = input[0].as_ref().len();
+    for c in input {
+        if c.as_ref().len() != n {
+            return Err(Error::BufferShape {
+                what: "planar input channel length",
+                expected: n,
+                got: c.as_ref().len(),
+            });
+        }
+    }
     let total = design.pair().output_len(n as u64);
     let total = usize::try_from(total).map_err(|_| Error::BufferShape {
         what: "output length (fits in memory)",
         expected: usize::MAX,
         got: usize::MAX,
     })?;
-    let mut out = vec![vec![T::zero(); total]; input.len()];
-    let mut read = 0;
-    let mut written = 0;
-    while read < n {
-        let ins: Vec<&[T]> = input.iter().map(|c| &c.as_ref()[read..]).collect();
-        let mut outs: Vec<&mut [T]> = out.iter_mut().map(|c| &mut c[written..]).collect();
-        let p = conv.process_planar(&ins, &mut outs)?;
-        read += p.frames_read;
-        written += p.frames_written;
-        if p.frames_read == 0 && p.frames_written == 0 {
-            break;
+    let table = PhaseTable::<T>::new(design);
+    let mut out = vec![vec![T::zero(); total]; channels];
+    // One task per (channel pair, segment of output frames).
+    let mut tasks: Vec<(usize, usize, Vec<&mut [T]>)> = Vec::new();
+    let mut rest: &mut [Vec<T>] = &mut out;
+    let mut c0 = 0;
+    while !rest.is_empty() {
+        let take = rest.len().min(2);
+        let (group, tail) = rest.split_at_mut(take);
+        rest = tail;
+        let mut iters: Vec<_> = group
+            .iter_mut()
+            .map(|v| v.chunks_mut(SEGMENT_FRAMES))
+            .collect();
+        let mut seg = 0;
+        loop {
+            let parts: Vec<&mut [T]> = iters.iter_mut().filter_map(Iterator::next).collect();
+            if parts.len() != take {
+                break;
+            }
+            tasks.push((c0, seg * SEGMENT_FRAMES, parts));
+            seg += 1;
         }
+        c0 += take;
     }
-    loop {
-        let mut outs: Vec<&mut [T]> = out.iter_mut().map(|c| &mut c[written..]).collect();
-        let k = conv.flush_planar(&mut outs)?;
-        written += k;
-        if k == 0 {
-            break;
-        }
-    }
+    tasks
+        .into_par_iter()
+        .try_for_each(|(c, first, mut parts)| {
+            let ins: Vec<&[T]> = input[c..c + parts.len()]
+                .iter()
+                .map(AsRef::as_ref)
+                .collect();
+            segment(&table, &fns, &ins, first as u64, &mut parts)
+        })?;
     Ok(out)
+}
+
+/// Output frames per parallel piece of [`convert_planar_with`].
+pub const SEGMENT_FRAMES: usize = 1 << 15;
+
+/// Outputs `first..first + outs[0].len()` of the channels `ins`, into `outs`.
+fn segment<T: Sample>(
+    table: &PhaseTable<T>,
+    fns: &KernelFns<T>,
+    ins: &[&[T]],
+    first: u64,
+    outs: &mut [&mut [T]],
+) -> Result<()> {
+    let frames = outs.first().map_or(0, |o| o.len());
+    if frames == 0 {
+        return Ok(());
+    }
+    let (up, down, tpp) = (table.up(), table.down(), table.taps_per_phase());
+    let pos = |m: u64| u128::from(m) * u128::from(down) + u128::from(table.half());
+    let p0 = pos(first);
+    let newest_first = (p0 / u128::from(up)) as i128;
+    let newest_last = (pos(first + frames as u64 - 1) / u128::from(up)) as i128;
+    let start = newest_first + 1 - tpp as i128;
+    let stride = (newest_last - start + 1) as usize;
+    let n = ins.first().map_or(0, |i| i.len()) as i128;
+    let mut hist = vec![T::zero(); stride * ins.len()];
+    // Copy the part of the input inside the signal; the rest stays zero.
+    let lo = start.max(0);
+    let hi = (start + stride as i128).min(n);
+    if lo < hi {
+        for (h, x) in hist.chunks_exact_mut(stride).zip(ins) {
+            let (a, b) = ((lo - start) as usize, (hi - start) as usize);
+            h[a..b].copy_from_slice(&x[lo as usize..hi as usize]);
+        }
+    }
+    let block = Block::new(
+        table.coeffs(),
+        tpp,
+        up,
+        down,
+        &hist,
+        stride,
+        ins.len(),
+        0,
+        (p0 % u128::from(up)) as u64,
+        frames,
+    )?;
+    let mut planar = vec![T::zero(); frames * ins.len()];
+    fns.block(&block, &mut planar)?;
+    for (o, src) in outs.iter_mut().zip(planar.chunks_exact(frames)) {
+        o.copy_from_slice(src);
+    }
+    Ok(())
 }
 
 /// Convert interleaved frames of `channels` channels.
@@ -97,7 +189,7 @@ pub fn convert_interleaved_with<T: Sample>(
     if channels == 0 || channels > crate::MAX_CHANNELS {
         return Err(Error::ChannelsOutOfRange { channels });
     }
-    if input.len() % channels != 0 {
+    if !input.len().is_multiple_of(channels) {
         return Err(Error::BufferShape {
             what: "interleaved input length (multiple of channels)",
             expected: input.len() - input.len() % channels,
@@ -116,4 +208,126 @@ pub fn convert_interleaved_with<T: Sample>(
         }
     }
     Ok(inter)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::{FilterSpec, StreamConverter};
+
+    /// Deterministic noise in [-1, 1).
+    fn noise<T: Sample>(n: usize, seed: u64) -> Vec<T> {
+        let mut s = seed | 1;
+        (0..n)
+            .map(|_| {
+                s ^= s << 13;
+                s ^= s >> 7;
+                s ^= s << 17;
+                T::from_f64_lossy((s >> 11) as f64 / (1u64 << 52) as f64 - 1.0)
+            })
+            .collect()
+    }
+
+    /// The sequential reference: one stream converter, odd chunk sizes, then flush.
+    fn sequential<T: Sample>(design: &Design, input: &[Vec<T>], kernel: Kernel) -> Vec<Vec<T>> {
+        let ch = input.len();
+        let mut conv = StreamConverter::<T>::with_kernel(design, ch, kernel).unwrap();
+        let n = input[0].len();
+        let total = design.pair().output_len(n as u64) as usize;
+        let mut out = vec![vec![T::zero(); total]; ch];
+        let (mut read, mut written, mut step) = (0, 0, 1);
+        while read < n {
+            let end = (read + step).min(n);
+            let ins: Vec<&[T]> = input.iter().map(|c| &c[read..end]).collect();
+            let mut outs: Vec<&mut [T]> = out.iter_mut().map(|c| &mut c[written..]).collect();
+            let p = conv.process_planar(&ins, &mut outs).unwrap();
+            read += p.frames_read;
+            written += p.frames_written;
+            step = step * 7 % 5003 + 1;
+        }
+        loop {
+            let mut outs: Vec<&mut [T]> = out.iter_mut().map(|c| &mut c[written..]).collect();
+            let k = conv.flush_planar(&mut outs).unwrap();
+            if k == 0 {
+                break;
+            }
+            written += k;
+        }
+        assert_eq!(written, total);
+        out
+    }
+
+    fn bits<T: Sample>(v: &[Vec<T>]) -> Vec<Vec<u64>> {
+        v.iter()
+            .map(|c| c.iter().map(|x| x.to_f64_exact().to_bits()).collect())
+            .collect()
+    }
+
+    fn parallel_matches_sequential<T: Sample>() {
+        for &(a, b, db) in &[
+            (44_100, 48_000, 100.0),
+            (48_000, 44_100, 60.0),
+            (44_100, 16_000, 80.0),
+        ] {
+            let design = FilterSpec::new(a, b).stopband_db(db).design().unwrap();
+            for &(channels, frames) in &[
+                (1, 3 * SEGMENT_FRAMES + 1234),
+                (2, 70_001),
+                (3, 40_000),
+                (1, 5),
+            ] {
+                let input: Vec<Vec<T>> = (0..channels)
+                    .map(|c| noise(frames, 11 + c as u64))
+                    .collect();
+                for kernel in Kernel::available() {
+                    let par = convert_planar_with(&design, &input, kernel).unwrap();
+                    let seq = sequential(&design, &input, kernel);
+                    assert!(
+                        bits(&par) == bits(&seq),
+                        "{a}->{b} {channels} ch {frames} frames, {}",
+                        kernel.name()
+                    );
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn parallel_offline_is_bit_identical_to_one_stream_f32() {
+        parallel_matches_sequential::<f32>();
+    }
+
+    #[test]
+    fn parallel_offline_is_bit_identical_to_one_stream_f64() {
+        parallel_matches_sequential::<f64>();
+    }
+
+    #[test]
+    fn thread_count_does_not_change_a_bit() {
+        let design = FilterSpec::new(48_000, 44_100)
+            .stopband_db(120.0)
+            .design()
+            .unwrap();
+        let input: Vec<Vec<f32>> = (0..2).map(|c| noise(150_000, 5 + c)).collect();
+        let one = rayon::ThreadPoolBuilder::new()
+            .num_threads(1)
+            .build()
+            .unwrap()
+            .install(|| convert_planar(&design, &input).unwrap());
+        let many = rayon::ThreadPoolBuilder::new()
+            .num_threads(4)
+            .build()
+            .unwrap()
+            .install(|| convert_planar(&design, &input).unwrap());
+        assert!(bits(&one) == bits(&many));
+    }
+
+    #[test]
+    fn empty_and_bad_inputs() {
+        let design = FilterSpec::new(44_100, 48_000).design().unwrap();
+        let out = convert_planar::<f32, Vec<f32>>(&design, &[vec![], vec![]]).unwrap();
+        assert_eq!(out, vec![Vec::<f32>::new(), Vec::new()]);
+        assert!(convert_planar::<f32, Vec<f32>>(&design, &[]).is_err());
+        assert!(convert_planar(&design, &[vec![0.0_f32; 3], vec![0.0; 4]]).is_err());
+    }
 }

@@ -1,12 +1,15 @@
 //! The streaming converter: per-channel history, any chunk size in, exactly the offline
 //! result out, without allocating or locking once built.
 
-use crate::kernel::{DotFn, Kernel, Sample};
+use crate::kernel::{Block, Kernel, KernelFns, Sample};
 use crate::polyphase::PhaseTable;
 use crate::{Design, Error, RatePair, Result};
 
 /// Input frames buffered per channel beyond the filter's history.
 const BLOCK: usize = 4096;
+
+/// Output frames per channel computed by one kernel call.
+const OUT_BLOCK: usize = 256;
 
 /// How much one processing call read and wrote.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -45,10 +48,12 @@ pub struct StreamConverter<T> {
     table: PhaseTable<T>,
     pair: RatePair,
     channels: usize,
-    kernel: Kernel,
-    dot: DotFn<T>,
-    bufs: Vec<Vec<T>>,
+    fns: KernelFns<T>,
+    /// Planar history: channel `c` at `hist[c * cap..(c + 1) * cap]`.
+    hist: Vec<T>,
     cap: usize,
+    /// Kernel output, channel `c` at `scratch[c * n..(c + 1) * n]` for a block of `n`.
+    scratch: Vec<T>,
     /// Input index of `bufs[c][0]` (negative for the zero history before the start).
     base: i64,
     /// Valid samples per channel buffer.
@@ -74,20 +79,16 @@ impl<T: Sample> StreamConverter<T> {
         if channels == 0 || channels > crate::MAX_CHANNELS {
             return Err(Error::ChannelsOutOfRange { channels });
         }
-        if !kernel.is_available() {
-            return Err(Error::KernelUnavailable {
-                name: kernel.name(),
-            });
-        }
+        let fns = KernelFns::new(kernel)?;
         let table = PhaseTable::new(design);
         let cap = table.taps_per_phase() + BLOCK;
         let mut conv = Self {
             pair: design.pair(),
             channels,
-            kernel,
-            dot: T::dot_fn(kernel),
-            bufs: vec![vec![T::zero(); cap]; channels],
+            fns,
+            hist: vec![T::zero(); cap * channels],
             cap,
+            scratch: vec![T::zero(); OUT_BLOCK * channels],
             table,
             base: 0,
             fill: 0,
@@ -104,7 +105,7 @@ impl<T: Sample> StreamConverter<T> {
     /// Forget all input: back to the state right after construction. Does not allocate.
     pub fn reset(&mut self) {
         let hist = self.table.taps_per_phase() - 1;
-        for b in &mut self.bufs {
+        for b in self.hist.chunks_exact_mut(self.cap) {
             b[..hist].fill(T::zero());
         }
         self.base = -(hist as i64);
@@ -123,7 +124,7 @@ impl<T: Sample> StreamConverter<T> {
 
     /// The kernel in use.
     pub fn kernel(&self) -> Kernel {
-        self.kernel
+        self.fns.kernel()
     }
 
     /// The rate pair.
@@ -214,11 +215,12 @@ impl<T: Sample> StreamConverter<T> {
         Ok(self.run(
             frames_in,
             frames_out,
-            |bufs, at, from, n| {
-                for (c, buf) in bufs.iter_mut().enumerate() {
+            |hist, cap, at, from, n| {
+                let src = &input[from * ch..(from + n) * ch];
+                for (c, buf) in hist.chunks_exact_mut(cap).enumerate() {
                     let dst = &mut buf[at..at + n];
-                    for (k, d) in dst.iter_mut().enumerate() {
-                        *d = input[(from + k) * ch + c];
+                    for (d, frame) in dst.iter_mut().zip(src.chunks_exact(ch)) {
+                        *d = frame[c];
                     }
                 }
             },
@@ -241,8 +243,8 @@ impl<T: Sample> StreamConverter<T> {
         Ok(self.run(
             frames_in,
             frames_out,
-            |bufs, at, from, n| {
-                for (buf, src) in bufs.iter_mut().zip(input) {
+            |hist, cap, at, from, n| {
+                for (buf, src) in hist.chunks_exact_mut(cap).zip(input) {
                     buf[at..at + n].copy_from_slice(&src.as_ref()[from..from + n]);
                 }
             },
@@ -320,7 +322,7 @@ impl<T: Sample> StreamConverter<T> {
         &mut self,
         frames_in: usize,
         frames_out: usize,
-        mut load: impl FnMut(&mut [Vec<T>], usize, usize, usize),
+        mut load: impl FnMut(&mut [T], usize, usize, usize, usize),
         mut store: impl FnMut(usize, usize, T),
     ) -> Progress {
         let mut read = 0;
@@ -351,7 +353,7 @@ impl<T: Sample> StreamConverter<T> {
             if take == 0 {
                 break;
             }
-            load(&mut self.bufs, self.fill, read, take);
+            load(&mut self.hist, self.cap, self.fill, read, take);
             self.fill += take;
             self.n_in += take as u64;
             read += take;
@@ -370,7 +372,7 @@ impl<T: Sample> StreamConverter<T> {
             return;
         }
         let drop = (rel as usize).min(self.fill);
-        for b in &mut self.bufs {
+        for b in self.hist.chunks_exact_mut(self.cap) {
             b.copy_within(drop..self.fill, 0);
         }
         self.fill -= drop;
@@ -405,29 +407,55 @@ impl<T: Sample> StreamConverter<T> {
                 let end = self.base + self.fill as i64;
                 let need = (self.next_i as i64 + 1 - end).max(0) as usize;
                 let k = need.min(self.cap - self.fill);
-                for b in &mut self.bufs {
+                for b in self.hist.chunks_exact_mut(self.cap) {
                     b[self.fill..self.fill + k].fill(T::zero());
                 }
                 self.fill += k;
                 continue;
             }
-            let start = (self.next_i as i64 + 1 - tpp as i64 - self.base) as usize;
-            let row = self.table.row(self.next_p as usize);
-            for (c, buf) in self.bufs.iter().enumerate() {
-                store(done, c, (self.dot)(row, &buf[start..start + tpp]));
+            // Outputs whose newest input is present: next_p + k M < (end - next_i) L.
+            let span = (end - self.next_i as i64) as u128 * u128::from(up);
+            let ready = (span - u128::from(self.next_p)).div_ceil(u128::from(down));
+            let left = (max - done).min(OUT_BLOCK) as u128;
+            let left = left.min(u128::from(total - self.n_out));
+            let n = ready.min(left) as usize;
+            if n == 0 {
+                break; // cannot happen: next_i < end and max > done
             }
-            done += 1;
-            self.n_out += 1;
-            self.next_p += down;
-            self.next_i += self.next_p / up;
-            self.next_p %= up;
+            let start = (self.next_i as i64 + 1 - tpp as i64 - self.base) as usize;
+            let block = Block::new(
+                self.table.coeffs(),
+                tpp,
+                up,
+                down,
+                &self.hist,
+                self.cap,
+                self.channels,
+                start,
+                self.next_p,
+                n,
+            );
+            let ok = block.and_then(|b| self.fns.block(&b, &mut self.scratch));
+            if ok.is_err() {
+                break; // cannot happen: the window bounds were established above
+            }
+            for (c, chan) in self.scratch.chunks_exact(n).take(self.channels).enumerate() {
+                for (k, &v) in chan.iter().enumerate() {
+                    store(done + k, c, v);
+                }
+            }
+            done += n;
+            self.n_out += n as u64;
+            let pos = self.next_p + n as u64 * down;
+            self.next_i += pos / up;
+            self.next_p = pos % up;
         }
         done
     }
 }
 
 fn check_interleaved(len: usize, channels: usize, what: &'static str) -> Result<()> {
-    if len % channels != 0 {
+    if !len.is_multiple_of(channels) {
         return Err(Error::BufferShape {
             what,
             expected: len - len % channels,

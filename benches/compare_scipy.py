@@ -1,0 +1,133 @@
+#!/usr/bin/env python3
+"""Side by side: `rerate convert` (file to file) against scipy.signal.resample_poly (in memory)
+with the same taps, on the same 60 s stereo signal.
+
+The signal is demo material made here (a few tones, a slow sweep and some noise, all at
+-12 dBFS or below); it is written as a 32-bit float WAV. For each case the filter that
+`rerate` uses is exported with `rerate design --export`, and scipy gets exactly those taps
+(`window=h`), so both run the same filter length. Runs alternate (rerate, scipy, rerate,
+...) and the median of each is compared, in wall time and in CPU time (user + system; on a
+machine shared with other work the CPU-time ratio is the steadier one). rerate's time
+includes process start, designing the filter, reading and writing the WAV files and every
+thread it uses; scipy's only the computation.
+
+Usage: python3 benches/compare_scipy.py [--rerate target/release/rerate] [--rounds 5]
+Versions are pinned (fixtures/requirements.txt): numpy 2.4.6, scipy 1.17.1.
+"""
+
+import argparse
+import json
+import os
+import resource
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+
+import numpy as np
+import scipy
+import scipy.io.wavfile
+import scipy.signal
+
+PINNED = {"numpy": "2.4.6", "scipy": "1.17.1"}
+SECONDS = 60
+CASES = [
+    (44100, 48000, 100.0),
+    (44100, 48000, 140.0),
+    (48000, 44100, 140.0),
+    (44100, 16000, 100.0),
+]
+
+
+def demo_signal(rate: int) -> np.ndarray:
+    """Demo: 60 s stereo, tones + slow sweep + noise, peak about -6 dBFS."""
+    n = SECONDS * rate
+    t = np.arange(n) / rate
+    rng = np.random.default_rng(2026)
+    left = 0.25 * np.sin(2 * np.pi * 440.0 * t) + 0.1 * np.sin(2 * np.pi * 5000.0 * t)
+    sweep_phase = 2 * np.pi * 20.0 * SECONDS / np.log(1000.0) * (np.exp(t / SECONDS * np.log(1000.0)) - 1)
+    right = 0.25 * np.sin(sweep_phase) + 0.05 * rng.standard_normal(n)
+    return np.stack([left, right], axis=1).astype(np.float32)
+
+
+def child_cpu():
+    r = resource.getrusage(resource.RUSAGE_CHILDREN)
+    return r.ru_utime + r.ru_stime
+
+
+def run(cmd):
+    r = subprocess.run(cmd, capture_output=True, text=True)
+    if r.returncode != 0:
+        sys.exit(f"failed: {' '.join(cmd)}\n{r.stderr}")
+    return r.stdout
+
+
+def main():
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--rerate", default=os.path.join("target", "release", "rerate"))
+    ap.add_argument("--rounds", type=int, default=5)
+    ap.add_argument("--any-version", action="store_true", help="run with other numpy/scipy versions")
+    ap.add_argument("--json", action="store_true", help="print the results as JSON")
+    args = ap.parse_args()
+
+    versions = {"numpy": np.__version__, "scipy": scipy.__version__}
+    if versions != PINNED and not args.any_version:
+        sys.exit(f"versions {versions} differ from the pinned {PINNED} (or pass --any-version)")
+    rerate = os.path.abspath(args.rerate)
+    results = []
+    with tempfile.TemporaryDirectory() as tmp:
+        for in_rate, out_rate, db in CASES:
+            x = demo_signal(in_rate)
+            src = os.path.join(tmp, f"demo_{in_rate}.wav")
+            scipy.io.wavfile.write(src, in_rate, x)
+            taps_file = os.path.join(tmp, "taps.txt")
+            design = json.loads(run([rerate, "design", "--in-rate", str(in_rate), "--out-rate",
+                                     str(out_rate), "--stopband-db", str(db), "--export", taps_file,
+                                     "--force", "--json"]))
+            h = np.loadtxt(taps_file)
+            up, down = design["up"], design["down"]
+            dst = os.path.join(tmp, "out.wav")
+            cmd = [rerate, "convert", src, "--out-rate", str(out_rate), "-o", dst, "--float",
+                   "--stopband-db", str(db), "--force"]
+            ours, theirs, ours_cpu, theirs_cpu = [], [], [], []
+            y_ref = None
+            for _ in range(args.rounds):
+                t0, c0 = time.perf_counter(), child_cpu()
+                run(cmd)
+                ours.append(time.perf_counter() - t0)
+                ours_cpu.append(child_cpu() - c0)
+                x_mem = x.astype(np.float64)
+                t0, c0 = time.perf_counter(), time.process_time()
+                y_ref = scipy.signal.resample_poly(x_mem, up, down, axis=0, window=h)
+                theirs.append(time.perf_counter() - t0)
+                theirs_cpu.append(time.process_time() - c0)
+            _, y = scipy.io.wavfile.read(dst)
+            diff = float(np.max(np.abs(y.astype(np.float64) - y_ref))) if y.shape == y_ref.shape else float("nan")
+            row = {
+                "in_rate": in_rate, "out_rate": out_rate, "stopband_db": db,
+                "taps": len(h), "taps_per_phase": design["taps_per_phase"],
+                "rerate_s": statistics.median(ours), "scipy_s": statistics.median(theirs),
+                "rerate_cpu_s": statistics.median(ours_cpu), "scipy_cpu_s": statistics.median(theirs_cpu),
+                "max_abs_difference": diff,
+            }
+            row["ratio"] = row["scipy_s"] / row["rerate_s"]
+            row["cpu_ratio"] = row["scipy_cpu_s"] / row["rerate_cpu_s"]
+            results.append(row)
+            if not args.json:
+                print(f"{in_rate}->{out_rate} {db:.0f} dB, {len(h)} taps ({design['taps_per_phase']}/phase): "
+                      f"rerate {row['rerate_s']:.3f} s (file to file), scipy {row['scipy_s']:.3f} s "
+                      f"(in memory): {row['ratio']:.1f}x faster in wall time; CPU time rerate "
+                      f"{row['rerate_cpu_s']:.3f} s, scipy {row['scipy_cpu_s']:.3f} s: {row['cpu_ratio']:.1f}x; "
+                      f"max |difference| {diff:.2e}",
+                      flush=True)
+    if args.json:
+        print(json.dumps({"versions": versions, "rounds": args.rounds, "seconds": SECONDS,
+                          "channels": 2, "results": results}, indent=1))
+    else:
+        print(f"numpy {versions['numpy']}, scipy {versions['scipy']}; {SECONDS} s stereo; "
+              f"median of {args.rounds} alternating runs")
+
+
+if __name__ == "__main__":
+    main()

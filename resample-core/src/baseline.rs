@@ -1,0 +1,145 @@
+//! The simplest rate converters, kept as baselines so measurements can show what a
+//! windowed-sinc filter buys: sample repetition (hold), linear interpolation, and hold
+//! followed by a moving average or a one-pole smoother. Whole-signal, `f64`, any rate pair;
+//! output sample `m` is placed at input time `m A / B` as in [`crate::offline`].
+
+use crate::{RatePair, Result};
+
+/// A baseline method.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum Baseline {
+    /// Each output takes the newest input sample at or before its time (zero-order hold).
+    Hold,
+    /// Straight line between the two input samples around the output's time.
+    Linear,
+    /// Hold, then a moving average over [`Baseline::smoother_len`] output samples.
+    HoldMovingAverage,
+    /// Hold, then a one-pole smoother `y[n] = (1 - a) x[n] + a y[n - 1]`, its -3 dB point at
+    /// half the lower Nyquist frequency.
+    HoldOnePole,
+}
+
+impl Baseline {
+    /// All baselines, simplest first.
+    pub const ALL: [Baseline; 4] = [
+        Baseline::Hold,
+        Baseline::Linear,
+        Baseline::HoldMovingAverage,
+        Baseline::HoldOnePole,
+    ];
+
+    /// Short name for tables.
+    pub fn name(self) -> &'static str {
+        match self {
+            Baseline::Hold => "hold",
+            Baseline::Linear => "linear",
+            Baseline::HoldMovingAverage => "hold+moving-average",
+            Baseline::HoldOnePole => "hold+one-pole",
+        }
+    }
+
+    /// Length of the moving average for a rate pair: the output samples per input sample,
+    /// rounded up, at least 2.
+    pub fn smoother_len(in_rate: u32, out_rate: u32) -> usize {
+        (f64::from(out_rate) / f64::from(in_rate)).ceil().max(2.0) as usize
+    }
+
+    /// Feedback coefficient `a` of the one-pole smoother at `out_rate`: -3 dB at a quarter
+    /// of the lower rate (`a = 2 - cos w - sqrt((2 - cos w)^2 - 1)`, the exact -3 dB point
+    /// of `|H| = (1 - a) / |1 - a e^{-jw}|`; standard result, any DSP text).
+    pub fn one_pole_coefficient(in_rate: u32, out_rate: u32) -> f64 {
+        let fc = f64::from(in_rate.min(out_rate)) / 4.0;
+        let w = 2.0 * core::f64::consts::PI * fc / f64::from(out_rate);
+        let b = 2.0 - w.cos();
+        b - (b * b - 1.0).sqrt()
+    }
+
+    /// Convert `x` from `in_rate` to `out_rate`; output length `ceil(n B / A)` as the
+    /// windowed-sinc converter.
+    pub fn convert(self, in_rate: u32, out_rate: u32, x: &[f64]) -> Result<Vec<f64>> {
+        let pair = RatePair::new(in_rate, out_rate)?;
+        let (up, down) = (pair.up(), pair.down());
+        let total = pair.output_len(x.len() as u64) as usize;
+        let at = |i: u64| x.get(i as usize).copied().unwrap_or(0.0);
+        let mut y: Vec<f64> = (0..total as u64)
+            .map(|m| {
+                let pos = u128::from(m) * u128::from(down);
+                let i = (pos / u128::from(up)) as u64;
+                match self {
+                    Baseline::Linear => {
+                        let f = (pos % u128::from(up)) as f64 / up as f64;
+                        (1.0 - f) * at(i) + f * at(i + 1)
+                    }
+                    _ => at(i),
+                }
+            })
+            .collect();
+        match self {
+            Baseline::HoldMovingAverage => {
+                let n = Self::smoother_len(in_rate, out_rate);
+                let mut sum = 0.0;
+                let held = y.clone();
+                for (k, v) in y.iter_mut().enumerate() {
+                    sum += held[k];
+                    if k >= n {
+                        sum -= held[k - n];
+                    }
+                    *v = sum / n as f64;
+                }
+            }
+            Baseline::HoldOnePole => {
+                let a = Self::one_pole_coefficient(in_rate, out_rate);
+                let mut s = 0.0;
+                for v in &mut y {
+                    s = (1.0 - a) * *v + a * s;
+                    *v = s;
+                }
+            }
+            Baseline::Hold | Baseline::Linear => {}
+        }
+        Ok(y)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn hold_and_linear_by_an_integer_factor() {
+        // common practice, no source: hold repeats, linear interpolates on a straight line.
+        let x = [1.0, 3.0, 5.0];
+        assert_eq!(
+            Baseline::Hold.convert(1000, 2000, &x).unwrap(),
+            vec![1.0, 1.0, 3.0, 3.0, 5.0, 5.0]
+        );
+        assert_eq!(
+            Baseline::Linear.convert(1000, 2000, &x).unwrap(),
+            vec![1.0, 2.0, 3.0, 4.0, 5.0, 2.5]
+        );
+    }
+
+    #[test]
+    fn smoothers_keep_dc_and_lengths() {
+        let x = vec![0.5; 1000];
+        for b in Baseline::ALL {
+            let y = b.convert(44_100, 48_000, &x).unwrap();
+            assert_eq!(y.len(), 1089); // ceil(1000 * 160 / 147)
+            assert!((y[800] - 0.5).abs() < 1e-9, "{}", b.name());
+        }
+    }
+
+    #[test]
+    fn one_pole_is_3db_down_at_its_corner() {
+        // |H| = (1 - a) / |1 - a e^{-jw}| (standard result, any DSP text; CHECKS.md).
+        let a = Baseline::one_pole_coefficient(44_100, 48_000);
+        let w = 2.0 * core::f64::consts::PI * 11_025.0 / 48_000.0;
+        let h = (1.0 - a) / ((1.0 - a * w.cos()).powi(2) + (a * w.sin()).powi(2)).sqrt();
+        assert!((20.0 * h.log10() + 3.0103).abs() < 1e-3);
+    }
+
+    #[test]
+    fn bad_rates_are_errors() {
+        assert!(Baseline::Hold.convert(0, 48_000, &[1.0]).is_err());
+    }
+}
