@@ -6,6 +6,7 @@
 
 mod cmd;
 mod output;
+mod plot;
 mod rate;
 
 use std::process::ExitCode;
@@ -33,6 +34,8 @@ enum Command {
     Convert(cmd::convert::ConvertArgs),
     /// The built-in demo: a generated jingle converted to 48 kHz and 16 kHz.
     Demo(cmd::demo::DemoArgs),
+    /// Sweep-through test of our own converter: exit 0 when it meets the request, 1 if not.
+    Verify(cmd::verify::VerifyArgs),
 }
 
 fn main() -> ExitCode {
@@ -41,6 +44,7 @@ fn main() -> ExitCode {
         Command::Design(a) => cmd::design::run(a).map(|()| ExitCode::SUCCESS),
         Command::Convert(a) => cmd::convert::run(a),
         Command::Demo(a) => cmd::demo::run(a),
+        Command::Verify(a) => cmd::verify::run(a),
     };
     match result {
         Ok(code) => code,

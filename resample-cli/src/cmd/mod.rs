@@ -4,3 +4,5 @@ pub mod convert;
 pub mod demo;
 pub mod design;
 mod signals;
+pub mod measured;
+pub mod verify;
