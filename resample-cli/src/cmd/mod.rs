@@ -4,5 +4,7 @@ pub mod convert;
 pub mod demo;
 pub mod design;
 mod signals;
+pub mod grade;
 pub mod measured;
+pub mod sweep;
 pub mod verify;
