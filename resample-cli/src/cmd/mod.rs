@@ -3,8 +3,8 @@
 pub mod convert;
 pub mod demo;
 pub mod design;
-mod signals;
 pub mod grade;
 pub mod measured;
+mod signals;
 pub mod sweep;
 pub mod verify;

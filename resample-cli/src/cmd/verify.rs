@@ -11,6 +11,9 @@ use resample_core::measure::{self, Settings, Sweep};
 use resample_core::{Design, FilterSpec, Sample, StreamConverter};
 use serde_json::{json, Value};
 
+use resample_cli::quality::{self, Precision};
+use resample_cli::wav::Encoding;
+
 use crate::cmd::measured::{metrics_json, metrics_text, num, small_db};
 use crate::rate::parse_rate;
 
@@ -23,9 +26,17 @@ pub struct VerifyArgs {
     /// Output sample rate.
     #[arg(long, value_parser = parse_rate)]
     pub out_rate: u32,
-    /// Minimum stopband attenuation in dB (20 to 200) to design for and check against.
-    #[arg(long, default_value_t = resample_core::design::DEFAULT_STOPBAND_DB)]
-    pub stopband_db: f64,
+    /// Minimum stopband attenuation in dB (20 to 200) to design for and check against;
+    /// default: what `convert` uses for the output format (--bits / --float).
+    #[arg(long)]
+    pub stopband_db: Option<f64>,
+    /// Check the conversion `convert` would run for integer output of N bits (its default
+    /// stopband and arithmetic precision follow the format).
+    #[arg(long, value_name = "N", conflicts_with = "float")]
+    pub bits: Option<u16>,
+    /// Check the conversion for 32-bit float output (the default).
+    #[arg(long)]
+    pub float: bool,
     /// Passband edge as a fraction of the lower Nyquist frequency (0.5 to 0.995).
     #[arg(long, default_value_t = resample_core::design::DEFAULT_PASSBAND)]
     pub passband: f64,
@@ -43,31 +54,14 @@ pub struct VerifyArgs {
     pub force: bool,
 }
 
-/// Arithmetic a conversion runs in.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-#[allow(dead_code)] // F32 is chosen once the shared precision rule says so.
-pub enum Precision {
-    /// 32-bit floats.
-    F32,
-    /// 64-bit floats.
-    F64,
-}
-
-impl Precision {
-    /// The name people read.
-    pub fn name(self) -> &'static str {
-        match self {
-            Precision::F32 => "f32",
-            Precision::F64 => "f64",
+/// The output format whose rules `verify` applies: `--bits N`, `--float`, or 32-bit float.
+fn encoding_of(args: &VerifyArgs) -> Result<Encoding> {
+    match args.bits {
+        None => Ok(Encoding::Float32),
+        Some(b) => {
+            Encoding::int(b).ok_or_else(|| anyhow::anyhow!("--bits {b}: choose 8, 16, 24 or 32"))
         }
     }
-}
-
-/// THE precision rule for a conversion request: `verify` must measure exactly what
-/// `convert` would run. Until the shared rule from `convert` lands, every conversion runs
-/// in `f64` (f32 arithmetic noise sits near -140 dB, too close to the stopbands asked for).
-pub fn precision_for(_spec: &FilterSpec) -> Precision {
-    Precision::F64
 }
 
 /// Run `x` through a streaming converter in `T`, in blocks, as `convert` does.
@@ -100,11 +94,16 @@ pub fn run_engine<T: Sample>(design: &Design, x: &[f64]) -> Result<Vec<f64>> {
 
 /// Run `rerate verify`.
 pub fn run(args: &VerifyArgs) -> Result<ExitCode> {
+    let encoding = encoding_of(args)?;
+    let requested = args
+        .stopband_db
+        .unwrap_or_else(|| quality::default_stopband_db(encoding));
     let spec = FilterSpec::new(args.in_rate, args.out_rate)
-        .stopband_db(args.stopband_db)
+        .stopband_db(requested)
         .passband(args.passband);
     let design = spec.design().context("cannot design the filter")?;
-    let precision = precision_for(&spec);
+    // The same rule `convert` follows (resample_cli::quality).
+    let precision = quality::precision_for(encoding);
     let sweep = Sweep::new(args.in_rate).seconds(args.seconds);
     sweep.check().context("cannot make the sweep")?;
     let settings = Settings {
@@ -126,43 +125,44 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode> {
         return Err(e.context("the converter failed"));
     }
     let m = m.context("cannot measure the output")?;
-    let ripple_limit = measure::ripple_limit_db(args.stopband_db);
-    let rejection_ok = m.rejection_db >= args.stopband_db;
+    let ripple_limit = measure::ripple_limit_db(requested);
+    let rejection_ok = m.rejection_db >= requested;
     let ripple_ok = m.passband_ripple_db <= ripple_limit;
     let pass = rejection_ok && ripple_ok;
     if let Some(path) = &args.plot {
         let title = format!(
             "verify {} Hz -> {} Hz, {} dB requested",
-            args.in_rate, args.out_rate, args.stopband_db
+            args.in_rate, args.out_rate, requested
         );
-        crate::plot::draw(path, &m, &title, Some(args.stopband_db), args.force)?;
+        crate::plot::draw(path, &m, &title, Some(requested), args.force)?;
     }
     let r = design.report();
     let mut out = std::io::stdout().lock();
     if args.json {
         let mut o = metrics_json(&m);
-        o.insert("requested_stopband_db".into(), json!(args.stopband_db));
+        o.insert("requested_stopband_db".into(), json!(requested));
         o.insert("ripple_limit_db".into(), num(ripple_limit));
         o.insert("design_stopband_db".into(), num(r.measured_stopband_db));
         o.insert(
             "design_latency_samples".into(),
             num(r.latency_output_frames),
         );
-        o.insert("precision".into(), json!(precision.name()));
+        o.insert("precision".into(), json!(precision.to_string()));
         o.insert("sweep_seconds".into(), json!(args.seconds));
         o.insert("pass".into(), json!(pass));
         writeln!(out, "{}", Value::Object(o))?;
     } else {
         writeln!(
             out,
-            "verify {} Hz -> {} Hz: {:.0} Hz to {:.0} Hz sweep, {} s at {} dBFS, {} engine",
+            "verify {} Hz -> {} Hz for {} output: {:.0} Hz to {:.0} Hz sweep, {} s at {} dBFS, {} engine",
             args.in_rate,
             args.out_rate,
+            encoding,
             sweep.f1(),
             sweep.end_frequency(),
             args.seconds,
             sweep.level(),
-            precision.name()
+            precision.to_string()
         )?;
         write!(out, "{}", metrics_text(&m))?;
         writeln!(
@@ -176,7 +176,7 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode> {
             "{:<22}rejection {:.2} dB >= {:.2} dB requested: {}",
             "check",
             m.rejection_db,
-            args.stopband_db,
+            requested,
             mark(rejection_ok)
         )?;
         writeln!(
