@@ -162,7 +162,7 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode> {
             sweep.end_frequency(),
             args.seconds,
             sweep.level(),
-            precision.to_string()
+            precision
         )?;
         write!(out, "{}", metrics_text(&m))?;
         writeln!(
