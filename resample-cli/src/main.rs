@@ -6,7 +6,9 @@
 
 mod cmd;
 mod output;
+mod plot;
 mod rate;
+mod sweepwav;
 
 use std::process::ExitCode;
 
@@ -33,6 +35,13 @@ enum Command {
     Convert(cmd::convert::ConvertArgs),
     /// The built-in demo: a generated jingle converted to 48 kHz and 16 kHz.
     Demo(cmd::demo::DemoArgs),
+    /// Sweep-through test of our own converter: exit 0 when it meets the request, 1 if not.
+    Verify(cmd::verify::VerifyArgs),
+    /// Write the test sweep (WAV) to run through any other converter.
+    #[command(after_help = cmd::sweep::CAUTION)]
+    Sweep(cmd::sweep::SweepArgs),
+    /// Measure another converter's output of the sweep.
+    Grade(cmd::grade::GradeArgs),
 }
 
 fn main() -> ExitCode {
@@ -41,6 +50,9 @@ fn main() -> ExitCode {
         Command::Design(a) => cmd::design::run(a).map(|()| ExitCode::SUCCESS),
         Command::Convert(a) => cmd::convert::run(a),
         Command::Demo(a) => cmd::demo::run(a),
+        Command::Verify(a) => cmd::verify::run(a),
+        Command::Sweep(a) => cmd::sweep::run(a).map(|()| ExitCode::SUCCESS),
+        Command::Grade(a) => cmd::grade::run(a),
     };
     match result {
         Ok(code) => code,

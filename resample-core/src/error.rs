@@ -85,6 +85,13 @@ pub enum Error {
     /// (or its planar twin) began; call `reset` first.
     #[error("input given after flushing began; reset the converter first")]
     InputAfterFlush,
+    /// A measurement could not be set up or run: bad sweep parameters, or a signal too
+    /// short, empty or not finite.
+    #[error("measurement: {problem}")]
+    MeasureSetup {
+        /// What is wrong, in words.
+        problem: String,
+    },
 }
 
 /// Shorthand for results of this crate.

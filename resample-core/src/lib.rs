@@ -36,6 +36,8 @@ pub mod baseline;
 pub mod design;
 mod error;
 pub mod kernel;
+#[cfg(feature = "measure")]
+pub mod measure;
 pub mod offline;
 pub mod polyphase;
 mod ratio;

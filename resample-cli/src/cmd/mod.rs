@@ -3,4 +3,8 @@
 pub mod convert;
 pub mod demo;
 pub mod design;
+pub mod grade;
+pub mod measured;
 mod signals;
+pub mod sweep;
+pub mod verify;

@@ -1,0 +1,127 @@
+//! `rerate grade`: measure another converter's output of our sweep. The output rate comes
+//! from the file, the time offset from correlation; with `--expect-db` the exit code says
+//! whether the rejection met it.
+
+use std::io::Write;
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+use anyhow::{bail, Context, Result};
+use clap::Args;
+use resample_core::measure::{self, Settings};
+use serde_json::{json, Value};
+
+use crate::cmd::measured::{metrics_json, metrics_text};
+use crate::cmd::sweep::SweepOpts;
+use crate::rate::parse_rate;
+
+/// Options of `rerate grade`.
+#[derive(Debug, Args)]
+pub struct GradeArgs {
+    /// The converter's output of the sweep (WAV).
+    pub converted: PathBuf,
+    /// Rate the sweep was made at (the converter's input rate).
+    #[arg(long, value_parser = parse_rate)]
+    pub source_rate: u32,
+    #[command(flatten)]
+    pub sweep: SweepOpts,
+    /// Passband edge for the ripple, as a fraction of the lower Nyquist frequency.
+    #[arg(long, default_value_t = resample_core::design::DEFAULT_PASSBAND)]
+    pub passband: f64,
+    /// Pass only if the rejection is at least DB; exit 1 if not.
+    #[arg(long, value_name = "DB")]
+    pub expect_db: Option<f64>,
+    /// Print one JSON object instead of text.
+    #[arg(long)]
+    pub json: bool,
+    /// Draw the output's time-frequency picture and response to FILE (.png or .svg).
+    #[arg(long, value_name = "FILE")]
+    pub plot: Option<PathBuf>,
+    /// Overwrite FILE given to --plot if it exists.
+    #[arg(long)]
+    pub force: bool,
+}
+
+/// Run `rerate grade`.
+pub fn run(args: &GradeArgs) -> Result<ExitCode> {
+    if !(0.5..=0.995).contains(&args.passband) {
+        bail!("--passband {}: choose 0.5 to 0.995", args.passband);
+    }
+    let sweep = args.sweep.sweep(args.source_rate)?;
+    let wav = crate::sweepwav::read(&args.converted)?;
+    let name = args.converted.display();
+    let lower_nyq = f64::from(wav.rate.min(args.source_rate)) / 2.0;
+    let settings = Settings {
+        passband_edge_hz: Some(args.passband * lower_nyq),
+        keep_spectrogram: args.plot.is_some(),
+    };
+    // Every channel is measured; the worst one is reported.
+    let mut worst: Option<(usize, measure::Measurement)> = None;
+    for (c, ch) in wav.channels.iter().enumerate() {
+        let m = measure::analyse(&sweep, ch, wav.rate, &settings)
+            .with_context(|| format!("{name}: channel {}", c + 1))?;
+        let worse = match &worst {
+            None => true,
+            Some((_, w)) => m.rejection_db < w.rejection_db,
+        };
+        if worse {
+            worst = Some((c, m));
+        }
+    }
+    let Some((channel, m)) = worst else {
+        bail!("{name}: no channels");
+    };
+    let pass = args.expect_db.map(|e| m.rejection_db >= e);
+    if let Some(path) = &args.plot {
+        let title = format!(
+            "grade {} ({} Hz -> {} Hz)",
+            args.converted
+                .file_name()
+                .map(|n| n.to_string_lossy().into_owned())
+                .unwrap_or_default(),
+            args.source_rate,
+            wav.rate
+        );
+        crate::plot::draw(path, &m, &title, args.expect_db, args.force)?;
+    }
+    let mut out = std::io::stdout().lock();
+    if args.json {
+        let mut o = metrics_json(&m);
+        o.insert("channel".into(), json!(channel + 1));
+        o.insert("channels".into(), json!(wav.channels.len()));
+        if let Some(e) = args.expect_db {
+            o.insert("expected_db".into(), json!(e));
+        }
+        if let Some(p) = pass {
+            o.insert("pass".into(), json!(p));
+        }
+        writeln!(out, "{}", Value::Object(o))?;
+    } else {
+        writeln!(
+            out,
+            "grade {name}: {} Hz sweep ({} s at {} dBFS) converted to {} Hz, channel {} of {}",
+            args.source_rate,
+            sweep.duration(),
+            sweep.level(),
+            wav.rate,
+            channel + 1,
+            wav.channels.len()
+        )?;
+        write!(out, "{}", metrics_text(&m))?;
+        if let (Some(e), Some(p)) = (args.expect_db, pass) {
+            writeln!(
+                out,
+                "{:<22}rejection {:.2} dB >= {:.2} dB expected: {}",
+                "check",
+                m.rejection_db,
+                e,
+                if p { "ok" } else { "FAILED" }
+            )?;
+            writeln!(out, "{:<22}{}", "result", if p { "PASS" } else { "FAIL" })?;
+        }
+    }
+    Ok(match pass {
+        Some(false) => ExitCode::from(crate::EXIT_CHECK_FAILED),
+        _ => ExitCode::SUCCESS,
+    })
+}

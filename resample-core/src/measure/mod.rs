@@ -1,0 +1,382 @@
+//! Measuring what a converter delivers, from its output alone: an exponential sweep goes
+//! in, the output is analysed, and the numbers come out (feature `measure`).
+//!
+//! * [`Sweep`]: the test signal (Farina's exponential sweep, short fades, silence around).
+//! * [`measure_converter`]: run any converter (a closure from input samples at rate A to
+//!   output samples at rate B) on the sweep and analyse its output.
+//! * [`analyse`]: the same for an output obtained elsewhere (a file another program made).
+//!
+//! The metrics ([`Measurement`]):
+//!
+//! * **rejection**: level of the wanted tone in the passband (at 997 Hz, the reference
+//!   frequency of AES17) minus the strongest unwanted component anywhere in the output, in
+//!   dB, worst case over the whole sweep. In each STFT frame the wanted tone is known from
+//!   the sweep's formula and the measured latency; everything outside a guard band around it
+//!   is unwanted, and so is everything in a frame where the tone is above the output's
+//!   Nyquist frequency. When the output rate is the higher one, the output above the input's
+//!   Nyquist frequency holds nothing but images; it is split off on the whole-signal spectrum
+//!   and searched without a guard band, so images right above the input's Nyquist frequency
+//!   (where a filter's stopband starts) are measured too.
+//! * **passband ripple**: peak-to-peak spread of the converter's measured response from
+//!   twice the sweep's start frequency up to the passband edge.
+//! * **-0.1 dB and -3 dB bandwidth**: where that response first falls 0.1 dB and 3 dB below
+//!   its level at the reference frequency.
+//! * **latency**: by whitened cross-correlation of output with input, in output samples and
+//!   milliseconds.
+//!
+//! ```
+//! use resample_core::measure::{measure_converter, Settings, Sweep};
+//! // A "converter" from 8 kHz to 8 kHz that only scales by a half: no unwanted output.
+//! let sweep = Sweep::new(8_000).seconds(1.0);
+//! let m = measure_converter(&sweep, 8_000, &Settings::default(), |x| {
+//!     x.iter().map(|v| 0.5 * v).collect()
+//! })?;
+//! assert!(m.rejection_db > 180.0);
+//! assert!(m.passband_ripple_db < 1e-6);
+//! assert!(m.latency_samples.abs() < 1e-6);
+//! # Ok::<(), resample_core::Error>(())
+//! ```
+
+mod stft;
+mod sweep;
+mod transfer;
+
+use realfft::RealFftPlanner;
+
+pub use stft::{strongest_band, Analyser, ANALYSIS_BETA, OVERLAP};
+pub use sweep::{
+    Law, Sweep, DEFAULT_END_FRACTION, DEFAULT_LEVEL_DBFS, DEFAULT_SECONDS, DEFAULT_START_HZ,
+    FADE_BETA, FADE_SECONDS, LEAD_SECONDS, MAX_SECONDS, MIN_LEVEL_DBFS, MIN_SECONDS, TAIL_SECONDS,
+};
+pub use transfer::Transfer;
+
+use crate::{Error, Result};
+
+/// Reference frequency for the wanted tone's level, Hz (AES17's 997 Hz).
+pub const REFERENCE_HZ: f64 = 997.0;
+
+/// Levels are floored here, dBFS (a frame of digital silence).
+pub const FLOOR_DBFS: f64 = -400.0;
+
+/// The passband ripple a request for `stopband_db` of attenuation allows, dB peak to peak:
+/// `20 log10((1 + 2 d) / (1 - 2 d))`, `d = 10^(-A / 20)`.
+///
+/// A Kaiser-windowed sinc deviates about equally in passband and stopband (J. F. Kaiser,
+/// ISCAS 1974; Oppenheim & Schafer, Discrete-Time Signal Processing, sec. 7.5, from memory);
+/// the factor 2 covers the approximation in Kaiser's formulas. A converter whose passband
+/// deviates more than this from flat has a fault that its stopband figure does not show.
+pub fn ripple_limit_db(stopband_db: f64) -> f64 {
+    let d = 2.0 * 10f64.powf(-stopband_db / 20.0);
+    if d >= 1.0 {
+        f64::INFINITY
+    } else {
+        20.0 * ((1.0 + d) / (1.0 - d)).log10()
+    }
+}
+
+/// What to measure beyond the defaults.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct Settings {
+    /// Passband edge for the ripple, Hz; default 0.91 of the lower Nyquist frequency.
+    pub passband_edge_hz: Option<f64>,
+    /// Keep every frame's spectrum (for plots).
+    pub keep_spectrogram: bool,
+}
+
+/// One analysis frame.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Frame {
+    /// Output time of the frame's centre, seconds.
+    pub time_s: f64,
+    /// Lowest and highest frequency of the wanted tone during the frame (Hz), if it is
+    /// present below the output's Nyquist frequency.
+    pub wanted_hz: Option<(f64, f64)>,
+    /// Level of the wanted tone (power inside its guard band), dBFS.
+    pub wanted_dbfs: f64,
+    /// Strongest unwanted component, dBFS.
+    pub unwanted_dbfs: f64,
+    /// Its frequency, Hz.
+    pub unwanted_hz: f64,
+}
+
+/// Every frame's bin levels in dBFS, for pictures.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Spectrogram {
+    /// Bin spacing, Hz.
+    pub bin_hz: f64,
+    /// Hop between frames, seconds.
+    pub hop_s: f64,
+    /// Per frame, per bin (0 Hz to Nyquist), dBFS.
+    pub levels_dbfs: Vec<Vec<f32>>,
+}
+
+/// The result of a measurement.
+#[derive(Debug, Clone)]
+pub struct Measurement {
+    /// Input (sweep) rate, Hz.
+    pub in_rate: u32,
+    /// Output rate, Hz.
+    pub out_rate: u32,
+    /// Wanted tone at [`REFERENCE_HZ`] minus the strongest unwanted component, dB.
+    pub rejection_db: f64,
+    /// Level of the wanted tone at the reference frequency, dBFS.
+    pub reference_dbfs: f64,
+    /// The reference frequency, Hz ([`REFERENCE_HZ`] unless outside the passband).
+    pub reference_hz: f64,
+    /// The converter's gain at the reference frequency, dB.
+    pub reference_gain_db: f64,
+    /// The frame holding the strongest unwanted component.
+    pub worst: Frame,
+    /// Passband ripple, dB peak to peak.
+    pub passband_ripple_db: f64,
+    /// Upper end of the band the ripple was measured over, Hz.
+    pub passband_edge_hz: f64,
+    /// Where the response falls 0.1 dB below its reference level, Hz (`None`: not inside
+    /// the swept band).
+    pub bandwidth_0_1db_hz: Option<f64>,
+    /// Where the response falls 3 dB below its reference level, Hz.
+    pub bandwidth_3db_hz: Option<f64>,
+    /// Latency, output samples.
+    pub latency_samples: f64,
+    /// Latency, milliseconds.
+    pub latency_ms: f64,
+    /// Every analysis frame.
+    pub frames: Vec<Frame>,
+    /// The measured linear response.
+    pub transfer: Transfer,
+    /// Bin levels of every frame, when [`Settings::keep_spectrogram`] was set.
+    pub spectrogram: Option<Spectrogram>,
+}
+
+impl Measurement {
+    /// The measured response on `points` log-spaced frequencies over the swept band:
+    /// `(Hz, dB relative to the reference frequency)`.
+    pub fn response_curve(&self, points: usize) -> Vec<(f64, f64)> {
+        let (lo, hi) = self.transfer.band();
+        let gain0 = self.reference_gain_db;
+        let points = points.max(2);
+        let ratio = (hi / lo).ln() / points as f64;
+        (0..points)
+            .filter_map(|i| {
+                let a = lo * (ratio * i as f64).exp();
+                let b = lo * (ratio * (i + 1) as f64).exp();
+                let mut sum = 0.0;
+                let mut n = 0.0;
+                for (_, v) in self.transfer.smoothed_db(a, b) {
+                    sum += 10f64.powf(v / 10.0);
+                    n += 1.0;
+                }
+                (n > 0.0).then(|| ((a * b).sqrt(), 10.0 * (sum / n).max(1e-300).log10() - gain0))
+            })
+            .collect()
+    }
+}
+
+/// Run `convert` on `sweep` (rate A) and measure its output (rate `out_rate`).
+///
+/// `convert` gets the whole test signal and returns the whole output; any delay it adds is
+/// measured, not assumed.
+pub fn measure_converter<F>(
+    sweep: &Sweep,
+    out_rate: u32,
+    settings: &Settings,
+    convert: F,
+) -> Result<Measurement>
+where
+    F: FnOnce(&[f64]) -> Vec<f64>,
+{
+    let x = sweep.samples()?;
+    let y = convert(&x);
+    analyse_with_input(sweep, &x, &y, out_rate, settings)
+}
+
+/// Measure `output` (rate `out_rate`), a converter's output of `sweep`.
+pub fn analyse(
+    sweep: &Sweep,
+    output: &[f64],
+    out_rate: u32,
+    settings: &Settings,
+) -> Result<Measurement> {
+    let x = sweep.samples()?;
+    analyse_with_input(sweep, &x, output, out_rate, settings)
+}
+
+/// Analysis frame length for a sweep at an output rate: the Kaiser window (close to a
+/// Gaussian of width `sigma = len / (2 sqrt(beta))`) is sized so that the spread of the
+/// fastest part of the sweep over the frame equals the window's spread in frequency,
+/// `sigma_t = 1 / sqrt(2 pi rate)`, which keeps the guard band narrowest.
+pub fn frame_len(sweep: &Sweep, out_rate: u32) -> usize {
+    let chirp = sweep.f2() * (sweep.f2() / sweep.f1()).ln() / sweep.duration();
+    let sigma_t = 1.0 / (2.0 * core::f64::consts::PI * chirp).sqrt();
+    let tw = 2.0 * sigma_t * ANALYSIS_BETA.sqrt();
+    let n = (tw * f64::from(out_rate) / 2.0).round() as usize * 2;
+    n.clamp(64, 1 << 16)
+}
+
+fn db(p: f64) -> f64 {
+    if p > 0.0 {
+        (10.0 * p.log10()).max(FLOOR_DBFS)
+    } else {
+        FLOOR_DBFS
+    }
+}
+
+fn analyse_with_input(
+    sweep: &Sweep,
+    x: &[f64],
+    y: &[f64],
+    out_rate: u32,
+    settings: &Settings,
+) -> Result<Measurement> {
+    sweep.check()?;
+    crate::RatePair::new(sweep.rate(), out_rate)?;
+    if let Some(i) = y.iter().position(|v| !v.is_finite()) {
+        return Err(Error::MeasureSetup {
+            problem: format!("output sample {i} is not a finite number"),
+        });
+    }
+    let in_rate = sweep.rate();
+    let (a_hz, b_hz) = (f64::from(in_rate), f64::from(out_rate));
+    let lower_nyq = a_hz.min(b_hz) / 2.0;
+    let len = frame_len(sweep, out_rate);
+    if y.len() < 2 * len {
+        return Err(Error::MeasureSetup {
+            problem: format!(
+                "the output has {} samples; the analysis needs at least {}",
+                y.len(),
+                2 * len
+            ),
+        });
+    }
+    let f_top = sweep.f2().min(0.999 * lower_nyq);
+    let lo = 2.0 * sweep.f1();
+    let edge = settings
+        .passband_edge_hz
+        .unwrap_or(crate::design::DEFAULT_PASSBAND * lower_nyq)
+        .min(f_top);
+    if edge.is_nan() || edge <= lo {
+        return Err(Error::MeasureSetup {
+            problem: format!("passband edge {edge} Hz is below the swept band"),
+        });
+    }
+    let transfer = transfer::Transfer::measure(x, in_rate, y, out_rate, lo, f_top, edge)?;
+    let tau = transfer.latency_samples();
+    let f_ref = if REFERENCE_HZ > lo && REFERENCE_HZ < edge {
+        REFERENCE_HZ
+    } else {
+        (lo * edge).sqrt()
+    };
+    let ref_gain = transfer.mean_db(f_ref, 5.0).unwrap_or(FLOOR_DBFS);
+    let reference_dbfs = sweep.level() + ref_gain;
+    let passband_ripple_db = transfer.ripple_db(lo, edge);
+    let bw01 = transfer.bandwidth(f_ref, ref_gain, 0.1);
+    let bw3 = transfer.bandwidth(f_ref, ref_gain, 3.0);
+
+    // Upsampling: everything above the input's Nyquist frequency is an image.
+    let high = if b_hz > a_hz {
+        Some(transfer.output_above(a_hz / 2.0, y.len())?)
+    } else {
+        None
+    };
+
+    let an = Analyser::new(len, out_rate)?;
+    let bin = an.bin_hz();
+    let lobe_bins = an.lobe_bins();
+    let lobe_hz = lobe_bins * bin;
+    // The fades are shaped by a Kaiser window of beta FADE_BETA: its main lobe, plus a bin.
+    let fade_lobe_hz =
+        ((1.0 + (sweep::FADE_BETA / core::f64::consts::PI).powi(2)).sqrt() + 1.0) / FADE_SECONDS;
+    let nbins = len / 2 + 1;
+    let cut = match high {
+        Some(_) => ((a_hz / 2.0 / bin).ceil() as usize).min(nbins),
+        None => nbins,
+    };
+    let law = sweep.law();
+    let (ts, te) = law.tone_span();
+    let mut planner = RealFftPlanner::new();
+    let mut frames = Vec::new();
+    let mut levels = Vec::new();
+    let mut start = 0usize;
+    while start + len <= y.len() {
+        let s0 = (start as f64 - tau) / b_hz;
+        let s1 = ((start + len - 1) as f64 - tau) / b_hz;
+        let p = an.powers(y, start, &mut planner)?;
+        let (mut wanted, mut guard, mut span_hz) = (None, None, 0.0);
+        if s1 >= ts && s0 <= te {
+            let fa = law.tone_at(s0.max(ts)).unwrap_or(sweep.f1());
+            let fb = law.tone_at(s1.min(te)).unwrap_or(sweep.f2());
+            span_hz = fb - fa;
+            // A frame that holds part of a fade also holds the fade's spread.
+            let in_fade = s0 < ts + FADE_SECONDS || s1 > te - FADE_SECONDS;
+            let spread = lobe_hz + if in_fade { fade_lobe_hz } else { 0.0 };
+            if fa < b_hz / 2.0 {
+                wanted = Some((fa, fb));
+                let g0 = ((fa - spread) / bin).floor().max(0.0) as usize;
+                let g1 = (((fb.min(b_hz / 2.0) + spread) / bin).ceil() as usize).min(nbins - 1);
+                guard = Some((g0, g1));
+            }
+        }
+        let width = (span_hz / bin + 2.0 * lobe_bins).ceil() as usize + 1;
+        let mut best: (f64, usize) = (0.0, 0);
+        let mut wanted_p = 0.0;
+        let mut consider = |r: Option<(f64, usize)>| {
+            if let Some((v, k)) = r {
+                if v > best.0 {
+                    best = (v, k);
+                }
+            }
+        };
+        match guard {
+            Some((g0, g1)) => {
+                wanted_p = p[g0..=g1].iter().sum();
+                consider(strongest_band(&p, 0, g0.min(cut), width));
+                consider(strongest_band(&p, g1 + 1, cut, width));
+            }
+            None => consider(strongest_band(&p, 0, cut, width)),
+        }
+        if let Some(h) = &high {
+            let ph = an.powers(h, start, &mut planner)?;
+            consider(strongest_band(&ph, 0, nbins, width));
+        }
+        frames.push(Frame {
+            time_s: (start as f64 + len as f64 / 2.0) / b_hz,
+            wanted_hz: wanted,
+            wanted_dbfs: db(wanted_p),
+            unwanted_dbfs: db(best.0),
+            unwanted_hz: best.1 as f64 * bin,
+        });
+        if settings.keep_spectrogram {
+            levels.push(p.iter().map(|&v| db(v) as f32).collect());
+        }
+        start += an.hop();
+    }
+    let worst = frames
+        .iter()
+        .copied()
+        .max_by(|a, b| a.unwanted_dbfs.total_cmp(&b.unwanted_dbfs))
+        .ok_or_else(|| Error::MeasureSetup {
+            problem: "no analysis frame fits in the output".into(),
+        })?;
+    Ok(Measurement {
+        in_rate,
+        out_rate,
+        rejection_db: reference_dbfs - worst.unwanted_dbfs,
+        reference_dbfs,
+        reference_hz: f_ref,
+        reference_gain_db: ref_gain,
+        worst,
+        passband_ripple_db,
+        passband_edge_hz: edge,
+        bandwidth_0_1db_hz: bw01,
+        bandwidth_3db_hz: bw3,
+        latency_samples: tau,
+        latency_ms: 1000.0 * tau / b_hz,
+        frames,
+        transfer,
+        spectrogram: settings.keep_spectrogram.then(|| Spectrogram {
+            bin_hz: bin,
+            hop_s: an.hop() as f64 / b_hz,
+            levels_dbfs: levels,
+        }),
+    })
+}
