@@ -42,6 +42,8 @@ enum Command {
     Sweep(cmd::sweep::SweepArgs),
     /// Measure another converter's output of the sweep.
     Grade(cmd::grade::GradeArgs),
+    /// Table (and plot) of filter length against measured quality and speed.
+    Tradeoff(cmd::tradeoff::TradeoffArgs),
 }
 
 fn main() -> ExitCode {
@@ -53,6 +55,7 @@ fn main() -> ExitCode {
         Command::Verify(a) => cmd::verify::run(a),
         Command::Sweep(a) => cmd::sweep::run(a).map(|()| ExitCode::SUCCESS),
         Command::Grade(a) => cmd::grade::run(a),
+        Command::Tradeoff(a) => cmd::tradeoff::run(a).map(|()| ExitCode::SUCCESS),
     };
     match result {
         Ok(code) => code,

@@ -7,4 +7,6 @@ pub mod grade;
 pub mod measured;
 mod signals;
 pub mod sweep;
+pub mod tradeoff;
+pub mod tradeoff_plot;
 pub mod verify;
