@@ -2,7 +2,7 @@
 //! in dB relative to the wanted tone, so images and aliases show as lines away from the
 //! sweep. Bottom: the measured response in dB over frequency. PNG or SVG by extension.
 
-use std::path::Path;
+use std::path::{Path, PathBuf};
 
 use anyhow::{anyhow, bail, Context, Result};
 use plotters::coord::Shift;
@@ -23,9 +23,55 @@ const GRID: RGBColor = RGBColor(58, 64, 76);
 const TRACE: RGBColor = RGBColor(255, 184, 77);
 const LIMIT: RGBColor = RGBColor(230, 90, 90);
 
-fn register_font() -> Result<()> {
+/// A picture being drawn: the target checked, the font registered, and a temporary name
+/// beside the target that is renamed only when the picture is complete.
+#[derive(Debug)]
+pub struct Canvas {
+    /// True for SVG, false for PNG.
+    pub svg: bool,
+    /// Where to draw.
+    pub tmp: PathBuf,
+    path: PathBuf,
+}
+
+/// Start a picture at `path` (.png or .svg); refuse an existing file without `force`.
+pub fn begin(path: &Path, force: bool) -> Result<Canvas> {
+    if path.exists() && !force {
+        bail!(
+            "{}: already exists (use --force to overwrite)",
+            path.display()
+        );
+    }
+    let ext = path
+        .extension()
+        .map(|e| e.to_string_lossy().to_ascii_lowercase())
+        .unwrap_or_default();
+    let svg = match ext.as_str() {
+        "png" => false,
+        "svg" => true,
+        _ => bail!("{}: the plot file must end in .png or .svg", path.display()),
+    };
     plotters::style::register_font("sans-serif", FontStyle::Normal, FONT)
-        .map_err(|_| anyhow!("the embedded font cannot be read"))
+        .map_err(|_| anyhow!("the embedded font cannot be read"))?;
+    Ok(Canvas {
+        svg,
+        tmp: temp_path_for(path).with_extension(format!("tmp.{ext}")),
+        path: path.to_path_buf(),
+    })
+}
+
+impl Canvas {
+    /// Rename the finished picture into place, or remove it if drawing failed.
+    pub fn finish(self, drawn: Result<()>) -> Result<()> {
+        match drawn {
+            Ok(()) => std::fs::rename(&self.tmp, &self.path)
+                .with_context(|| format!("{}: cannot write", self.path.display())),
+            Err(e) => {
+                let _ = std::fs::remove_file(&self.tmp);
+                Err(e.context(format!("{}: cannot draw the plot", self.path.display())))
+            }
+        }
+    }
 }
 
 /// Colour for a level `0..=1` (0 = floor, 1 = reference): night blue through teal and
@@ -58,41 +104,17 @@ pub fn draw(
     limit_db: Option<f64>,
     force: bool,
 ) -> Result<()> {
-    if path.exists() && !force {
-        bail!(
-            "{}: already exists (use --force to overwrite)",
-            path.display()
-        );
-    }
-    let ext = path
-        .extension()
-        .map(|e| e.to_string_lossy().to_ascii_lowercase())
-        .unwrap_or_default();
-    register_font()?;
-    // Keep the final name free until the picture is complete.
-    let tmp = temp_path_for(path);
-    let tmp_named = tmp.with_extension(format!("tmp.{ext}"));
-    let result = match ext.as_str() {
-        "png" => {
-            let root = BitMapBackend::new(&tmp_named, SIZE).into_drawing_area();
-            paint(&root, m, title, limit_db, 360, 180)
-                .and_then(|()| root.present().map_err(|e| anyhow!("{e}")))
-        }
-        "svg" => {
-            let root = SVGBackend::new(&tmp_named, SIZE).into_drawing_area();
-            paint(&root, m, title, limit_db, 240, 120)
-                .and_then(|()| root.present().map_err(|e| anyhow!("{e}")))
-        }
-        _ => bail!("{}: the plot file must end in .png or .svg", path.display()),
+    let canvas = begin(path, force)?;
+    let drawn = if canvas.svg {
+        let root = SVGBackend::new(&canvas.tmp, SIZE).into_drawing_area();
+        paint(&root, m, title, limit_db, 240, 120)
+            .and_then(|()| root.present().map_err(|e| anyhow!("{e}")))
+    } else {
+        let root = BitMapBackend::new(&canvas.tmp, SIZE).into_drawing_area();
+        paint(&root, m, title, limit_db, 360, 180)
+            .and_then(|()| root.present().map_err(|e| anyhow!("{e}")))
     };
-    match result {
-        Ok(()) => std::fs::rename(&tmp_named, path)
-            .with_context(|| format!("{}: cannot write", path.display())),
-        Err(e) => {
-            let _ = std::fs::remove_file(&tmp_named);
-            Err(e.context(format!("{}: cannot draw the plot", path.display())))
-        }
-    }
+    canvas.finish(drawn)
 }
 
 fn paint<DB: DrawingBackend>(

@@ -4,15 +4,13 @@
 
 use std::path::Path;
 
-use anyhow::{anyhow, bail, Context, Result};
+use anyhow::{anyhow, Result};
 use plotters::coord::Shift;
 use plotters::prelude::*;
 
 use crate::cmd::tradeoff::Row;
-use crate::output::temp_path_for;
 
 const SIZE: (u32, u32) = (1100, 900);
-const FONT: &[u8] = include_bytes!("../../assets/DejaVuSansMono.ttf");
 const INK: RGBColor = RGBColor(30, 34, 40);
 const PAPER: RGBColor = RGBColor(250, 249, 245);
 const SINC: RGBColor = RGBColor(20, 110, 160);
@@ -25,40 +23,16 @@ const BASE: [RGBColor; 4] = [
 
 /// Draw the two panels to `path`.
 pub fn draw(path: &Path, rows: &[Row], in_rate: u32, out_rate: u32, force: bool) -> Result<()> {
-    if path.exists() && !force {
-        bail!(
-            "{}: already exists (use --force to overwrite)",
-            path.display()
-        );
-    }
-    let ext = path
-        .extension()
-        .map(|e| e.to_string_lossy().to_ascii_lowercase())
-        .unwrap_or_default();
-    plotters::style::register_font("sans-serif", FontStyle::Normal, FONT)
-        .map_err(|_| anyhow!("the embedded font cannot be read"))?;
     let title = format!("tradeoff {in_rate} Hz -> {out_rate} Hz (measured)");
-    let tmp = temp_path_for(path).with_extension(format!("tmp.{ext}"));
-    let result = match ext.as_str() {
-        "png" => {
-            let root = BitMapBackend::new(&tmp, SIZE).into_drawing_area();
-            paint(&root, rows, &title).and_then(|()| root.present().map_err(|e| anyhow!("{e}")))
-        }
-        "svg" => {
-            let root = SVGBackend::new(&tmp, SIZE).into_drawing_area();
-            paint(&root, rows, &title).and_then(|()| root.present().map_err(|e| anyhow!("{e}")))
-        }
-        _ => bail!("{}: the plot file must end in .png or .svg", path.display()),
+    let canvas = crate::plot::begin(path, force)?;
+    let drawn = if canvas.svg {
+        let root = SVGBackend::new(&canvas.tmp, SIZE).into_drawing_area();
+        paint(&root, rows, &title).and_then(|()| root.present().map_err(|e| anyhow!("{e}")))
+    } else {
+        let root = BitMapBackend::new(&canvas.tmp, SIZE).into_drawing_area();
+        paint(&root, rows, &title).and_then(|()| root.present().map_err(|e| anyhow!("{e}")))
     };
-    match result {
-        Ok(()) => {
-            std::fs::rename(&tmp, path).with_context(|| format!("{}: cannot write", path.display()))
-        }
-        Err(e) => {
-            let _ = std::fs::remove_file(&tmp);
-            Err(e.context(format!("{}: cannot draw the plot", path.display())))
-        }
-    }
+    canvas.finish(drawn)
 }
 
 fn paint<DB: DrawingBackend>(root: &DrawingArea<DB, Shift>, rows: &[Row], title: &str) -> Result<()>
