@@ -8,7 +8,6 @@ mod cmd;
 mod output;
 mod plot;
 mod rate;
-mod sweepwav;
 
 use std::process::ExitCode;
 

@@ -26,7 +26,7 @@ const EXIT_USAGE: u8 = 2;
 /// Dither choices.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum DitherArg {
-    /// Triangular-PDF dither, 2 LSB peak to peak (default for 8/16/24-bit output).
+    /// Triangular-PDF dither, 2 LSB peak to peak.
     Tpdf,
     /// Plain rounding.
     None,

@@ -1,14 +1,17 @@
 //! `rerate design`: show (or export) the filter a conversion would use.
 
 use std::io::Write;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 
 use anyhow::{Context, Result};
 use clap::Args;
 use resample_core::{DesignReport, FilterSpec};
 use serde_json::json;
 
-use crate::output::{fmt_db, write_atomically};
+use resample_cli::staged::StagedFile;
+
+use crate::cmd::sweep::wav_error;
+use crate::output::fmt_db;
 use crate::rate::parse_rate;
 
 /// Options of `rerate design`.
@@ -50,7 +53,7 @@ pub fn run(args: &DesignArgs) -> Result<()> {
             // Rust prints the shortest decimal that parses back to the same bits.
             text.push_str(&format!("{t:e}\n"));
         }
-        write_atomically(path, text.as_bytes(), args.force)?;
+        export(path, text.as_bytes(), args.force)?;
     }
     let r = design.report();
     let mut out = std::io::stdout().lock();
@@ -62,6 +65,17 @@ pub fn run(args: &DesignArgs) -> Result<()> {
             writeln!(out, "taps written to {}", path.display())?;
         }
     }
+    Ok(())
+}
+
+/// Write `bytes` to `path` through a temporary file moved into place when complete; never
+/// replace an existing file unless `force`.
+fn export(path: &Path, bytes: &[u8], force: bool) -> Result<()> {
+    let (staged, mut file) = StagedFile::create(path, force).map_err(|e| wav_error(path, e))?;
+    file.write_all(bytes)
+        .with_context(|| format!("{}: cannot write", path.display()))?;
+    drop(file);
+    staged.commit().map_err(|e| wav_error(path, e))?;
     Ok(())
 }
 

@@ -3,7 +3,7 @@
 //! whether the rejection met it.
 
 use std::io::Write;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 
 use anyhow::{bail, Context, Result};
@@ -12,13 +12,16 @@ use resample_core::measure::{self, Settings};
 use serde_json::{json, Value};
 
 use crate::cmd::measured::{metrics_json, metrics_text};
-use crate::cmd::sweep::SweepOpts;
+use resample_cli::wav::{NonFinite, WavReader};
+
+use crate::cmd::sweep::{wav_error, SweepOpts};
 use crate::rate::parse_rate;
 
 /// Options of `rerate grade`.
 #[derive(Debug, Args)]
 pub struct GradeArgs {
-    /// The converter's output of the sweep (WAV).
+    /// The converter's output of the sweep (WAV: 8/16/24/32-bit integer or 32-bit float,
+    /// any number of channels; every channel is measured and the worst one is reported).
     pub converted: PathBuf,
     /// Rate the sweep was made at (the converter's input rate).
     #[arg(long, value_parser = parse_rate)]
@@ -42,20 +45,57 @@ pub struct GradeArgs {
     pub force: bool,
 }
 
+/// A whole WAV file as planar channels, full scale = 1.0.
+struct Planar {
+    rate: u32,
+    channels: Vec<Vec<f64>>,
+}
+
+/// Read `path` through the shared WAV layer (header checked against the file before any
+/// allocation; NaN or infinite samples refused, naming frame and channel).
+fn read_planar(path: &Path) -> Result<Planar> {
+    let named = |e| wav_error(path, e);
+    let mut reader = WavReader::open(path).map_err(named)?;
+    let info = reader.info().clone();
+    let n = usize::from(info.channels);
+    // The reader has checked that the file holds `frames` frames.
+    let frames = usize::try_from(info.frames).unwrap_or(usize::MAX);
+    let mut channels = vec![Vec::with_capacity(frames); n];
+    let mut block = vec![0.0_f64; 8192 * n];
+    loop {
+        let got = reader
+            .read_frames(&mut block, NonFinite::Refuse)
+            .map_err(named)?;
+        if got == 0 {
+            break;
+        }
+        for frame in block[..got * n].chunks_exact(n) {
+            for (ch, &v) in channels.iter_mut().zip(frame) {
+                ch.push(v);
+            }
+        }
+    }
+    Ok(Planar {
+        rate: info.sample_rate,
+        channels,
+    })
+}
+
 /// Run `rerate grade`.
 pub fn run(args: &GradeArgs) -> Result<ExitCode> {
     if !(0.5..=0.995).contains(&args.passband) {
         bail!("--passband {}: choose 0.5 to 0.995", args.passband);
     }
     let sweep = args.sweep.sweep(args.source_rate)?;
-    let wav = crate::sweepwav::read(&args.converted)?;
+    let wav = read_planar(&args.converted)?;
     let name = args.converted.display();
     let lower_nyq = f64::from(wav.rate.min(args.source_rate)) / 2.0;
     let settings = Settings {
         passband_edge_hz: Some(args.passband * lower_nyq),
         keep_spectrogram: args.plot.is_some(),
     };
-    // Every channel is measured; the worst one is reported.
+    // Every channel is measured (a converter may treat channels differently); the worst one
+    // is reported, with its number.
     let mut worst: Option<(usize, measure::Measurement)> = None;
     for (c, ch) in wav.channels.iter().enumerate() {
         let m = measure::analyse(&sweep, ch, wav.rate, &settings)
