@@ -11,7 +11,7 @@ use clap::Args;
 use resample_core::measure::{self, Settings};
 use serde_json::{json, Value};
 
-use crate::cmd::measured::{metrics_json, metrics_text};
+use crate::cmd::measured::{metrics_json, metrics_text, ReportArgs};
 use resample_cli::wav::{NonFinite, WavReader};
 
 use crate::cmd::sweep::{wav_error, SweepOpts};
@@ -34,15 +34,9 @@ pub struct GradeArgs {
     /// Pass only if the rejection is at least DB; exit 1 if not.
     #[arg(long, value_name = "DB")]
     pub expect_db: Option<f64>,
-    /// Print one JSON object instead of text.
-    #[arg(long)]
-    pub json: bool,
-    /// Draw the output's time-frequency picture and response to FILE (.png or .svg).
-    #[arg(long, value_name = "FILE")]
-    pub plot: Option<PathBuf>,
-    /// Overwrite FILE given to --plot if it exists.
-    #[arg(long)]
-    pub force: bool,
+    /// How to report.
+    #[command(flatten)]
+    pub report: ReportArgs,
 }
 
 /// A whole WAV file as planar channels, full scale = 1.0.
@@ -92,7 +86,7 @@ pub fn run(args: &GradeArgs) -> Result<ExitCode> {
     let lower_nyq = f64::from(wav.rate.min(args.source_rate)) / 2.0;
     let settings = Settings {
         passband_edge_hz: Some(args.passband * lower_nyq),
-        keep_spectrogram: args.plot.is_some(),
+        keep_spectrogram: args.report.plot.is_some(),
     };
     // Every channel is measured (a converter may treat channels differently); the worst one
     // is reported, with its number.
@@ -112,7 +106,7 @@ pub fn run(args: &GradeArgs) -> Result<ExitCode> {
         bail!("{name}: no channels");
     };
     let pass = args.expect_db.map(|e| m.rejection_db >= e);
-    if let Some(path) = &args.plot {
+    if let Some(path) = &args.report.plot {
         let title = format!(
             "grade {} ({} Hz -> {} Hz)",
             args.converted
@@ -122,10 +116,10 @@ pub fn run(args: &GradeArgs) -> Result<ExitCode> {
             args.source_rate,
             wav.rate
         );
-        crate::plot::draw(path, &m, &title, args.expect_db, args.force)?;
+        crate::plot::draw(path, &m, &title, args.expect_db, args.report.force)?;
     }
     let mut out = std::io::stdout().lock();
-    if args.json {
+    if args.report.json {
         let mut o = metrics_json(&m);
         o.insert("channel".into(), json!(channel + 1));
         o.insert("channels".into(), json!(wav.channels.len()));

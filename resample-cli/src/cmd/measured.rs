@@ -1,7 +1,24 @@
 //! Printing a measurement (shared by `verify` and `grade`): one JSON object, or aligned text.
 
+use std::path::PathBuf;
+
+use clap::Args;
 use resample_core::measure::Measurement;
 use serde_json::{json, Map, Value};
+
+/// Report options shared by `verify` and `grade`.
+#[derive(Debug, Args)]
+pub struct ReportArgs {
+    /// Print one JSON object instead of text.
+    #[arg(long)]
+    pub json: bool,
+    /// Draw the output's time-frequency picture and response to FILE (.png or .svg).
+    #[arg(long, value_name = "FILE")]
+    pub plot: Option<PathBuf>,
+    /// Overwrite FILE given to --plot if it exists.
+    #[arg(long)]
+    pub force: bool,
+}
 
 /// A number for JSON: finite values as numbers, anything else as null.
 pub fn num(v: f64) -> Value {

@@ -2,7 +2,6 @@
 //! precision `convert` uses; exit code 0 when the measurement meets the request, 1 when not.
 
 use std::io::Write;
-use std::path::PathBuf;
 use std::process::ExitCode;
 
 use anyhow::{Context, Result};
@@ -14,7 +13,7 @@ use serde_json::{json, Value};
 use resample_cli::quality::{self, Precision};
 use resample_cli::wav::Encoding;
 
-use crate::cmd::measured::{metrics_json, metrics_text, num, small_db};
+use crate::cmd::measured::{metrics_json, metrics_text, num, small_db, ReportArgs};
 use crate::rate::parse_rate;
 
 /// Options of `rerate verify`.
@@ -43,15 +42,9 @@ pub struct VerifyArgs {
     /// Sweep duration in seconds (longer sweeps resolve the stopband edge more finely).
     #[arg(long, default_value_t = measure::DEFAULT_SECONDS)]
     pub seconds: f64,
-    /// Print one JSON object instead of text.
-    #[arg(long)]
-    pub json: bool,
-    /// Draw the output's time-frequency picture and response to FILE (.png or .svg).
-    #[arg(long, value_name = "FILE")]
-    pub plot: Option<PathBuf>,
-    /// Overwrite FILE given to --plot if it exists.
-    #[arg(long)]
-    pub force: bool,
+    /// How to report.
+    #[command(flatten)]
+    pub report: ReportArgs,
 }
 
 /// The output format whose rules `verify` applies: `--bits N`, `--float`, or 32-bit float.
@@ -108,7 +101,7 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode> {
     sweep.check().context("cannot make the sweep")?;
     let settings = Settings {
         passband_edge_hz: Some(design.report().passband_edge_hz),
-        keep_spectrogram: args.plot.is_some(),
+        keep_spectrogram: args.report.plot.is_some(),
     };
     let mut engine_error = None;
     let m = measure::measure_converter(&sweep, args.out_rate, &settings, |x| {
@@ -129,16 +122,16 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode> {
     let rejection_ok = m.rejection_db >= requested;
     let ripple_ok = m.passband_ripple_db <= ripple_limit;
     let pass = rejection_ok && ripple_ok;
-    if let Some(path) = &args.plot {
+    if let Some(path) = &args.report.plot {
         let title = format!(
             "verify {} Hz -> {} Hz, {} dB requested",
             args.in_rate, args.out_rate, requested
         );
-        crate::plot::draw(path, &m, &title, Some(requested), args.force)?;
+        crate::plot::draw(path, &m, &title, Some(requested), args.report.force)?;
     }
     let r = design.report();
     let mut out = std::io::stdout().lock();
-    if args.json {
+    if args.report.json {
         let mut o = metrics_json(&m);
         o.insert("requested_stopband_db".into(), json!(requested));
         o.insert("ripple_limit_db".into(), num(ripple_limit));
