@@ -1,8 +1,13 @@
 //! Kernel speed: multiply-accumulates per second of every kernel this CPU runs, at 16, 32,
-//! 64, 128 and 256 taps per phase, `f32` and `f64`, one and two channels per call, and the
-//! core's peak multiply-add rate measured in the same run by a register-only loop
+//! 64, 128 and 256 taps per phase, `f32` and `f64`, one and two channels, and the core's
+//! peak multiply-add rate measured in the same run by a register-only loop
 //! (`resample_core::kernel::peak`). Prints a summary table with the fraction of peak, then
 //! runs the same cases under criterion.
+//!
+//! One run is what a converter does for one block: every group of a 44.1 kHz -> 48 kHz
+//! group table (160/147) against the inputs of 2048 consecutive outputs per channel, through
+//! [`KernelFns::groups`] in batches of eight inputs. Only the useful multiply-adds are
+//! counted (outputs x taps per phase x channels), not the zero taps at a group's edges.
 //!
 //! `cargo bench -p resample-core --bench kernels` (add `-- --quick` for a shorter criterion
 //! pass; set `RERATE_SUMMARY_ONLY=1` to print only the summary). Summary rates are per
@@ -12,63 +17,84 @@ use std::hint::black_box;
 use std::time::{Duration, Instant};
 
 use criterion::{BenchmarkId, Criterion, Throughput};
-use resample_core::kernel::{peak, Block, Kernel, KernelFns, Sample};
+use resample_core::groups::GroupTable;
+use resample_core::kernel::{peak, Kernel, KernelFns, Sample};
 
 const TAPS: [usize; 5] = [16, 32, 64, 128, 256];
 const CHANNELS: [usize; 2] = [1, 2];
-/// Outputs per channel per kernel call (the stream converter's block size).
-const FRAMES: usize = 256;
-/// The 44.1 kHz -> 48 kHz ratio: 160 rows, consecutive outputs use different rows.
+/// Outputs per channel per run (the stream converter's block).
+const FRAMES: u64 = 2048;
+/// The 44.1 kHz -> 48 kHz ratio.
 const UP: u64 = 160;
 const DOWN: u64 = 147;
+/// Inputs per kernel call (as the converters batch them).
+const BATCH: usize = 64;
 
-/// A phase table and a history long enough for one block of every channel.
+/// A group table for a prototype of `taps` taps per phase, and an input history long enough
+/// for one run of every channel.
 struct Case<T> {
-    coeffs: Vec<T>,
+    table: GroupTable<T>,
     history: Vec<T>,
     stride: usize,
-    tpp: usize,
     channels: usize,
     out: Vec<T>,
+    fns: KernelFns<T>,
 }
 
 impl<T: Sample> Case<T> {
-    fn new(tpp: usize, channels: usize) -> Self {
-        let val = |i: usize| T::from_f64_lossy(((i * 7919) % 1000) as f64 / 1000.0 - 0.5);
-        let span = ((FRAMES as u64 * DOWN) / UP) as usize + 2;
-        let stride = span + tpp;
+    fn new(fns: KernelFns<T>, taps: usize, channels: usize) -> Self {
+        let val = |i: usize| ((i * 7919) % 1000) as f64 / 1000.0 - 0.5;
+        let proto: Vec<f64> = (0..UP as usize * taps)
+            .map(|i| val(i) / UP as f64)
+            .collect();
+        let half = proto.len() as u64 / 2;
+        let table = GroupTable::from_prototype(&proto, UP, DOWN, half, fns.lanes())
+            .expect("valid prototype");
+        let periods = FRAMES.div_ceil(table.period());
+        let last = table.first_input(table.groups() - 1) + (periods * table.period_inputs()) as i64;
+        let stride = (last - table.first_input(0)) as usize + table.rows();
         Self {
-            coeffs: (0..UP as usize * tpp).map(val).collect(),
-            history: (0..stride * channels).map(|i| val(i + 13)).collect(),
+            history: (0..stride * channels)
+                .map(|i| T::from_f64_lossy(val(i + 13)))
+                .collect(),
+            out: vec![T::zero(); BATCH * table.lanes()],
+            table,
             stride,
-            tpp,
             channels,
-            out: vec![T::zero(); FRAMES * channels],
+            fns,
         }
     }
 
     fn macs(&self) -> u64 {
-        (FRAMES * self.channels * self.tpp) as u64
+        FRAMES * self.channels as u64 * self.table.taps() as u64
     }
 
-    /// One block; returns the multiply-accumulates done.
-    fn run(&mut self, fns: &KernelFns<T>) -> u64 {
-        let block = Block::new(
-            &self.coeffs,
-            self.tpp,
-            UP,
-            DOWN,
-            &self.history,
-            self.stride,
-            self.channels,
-            0,
-            0,
-            FRAMES,
-        )
-        .expect("valid block");
-        fns.block(&block, &mut self.out).expect("output fits");
-        black_box(&self.out);
-        block.macs()
+    /// One run; returns the useful multiply-accumulates done.
+    fn run(&mut self) -> u64 {
+        let t = &self.table;
+        let periods = FRAMES.div_ceil(t.period());
+        let lanes = t.lanes();
+        let mut inputs: [&[T]; BATCH] = [&[]; BATCH];
+        for j in 0..t.groups() {
+            let mut k = 0;
+            for q in 0..periods {
+                let at = (t.first_input(j) - t.first_input(0)) as usize
+                    + (q * t.period_inputs()) as usize;
+                for c in 0..self.channels {
+                    let s = c * self.stride + at;
+                    inputs[k] = &self.history[s..s + t.rows()];
+                    k += 1;
+                    if k == BATCH || (q + 1 == periods && c + 1 == self.channels) {
+                        self.fns
+                            .groups(t.group(j), lanes, &inputs[..k], &mut self.out)
+                            .expect("sizes fit");
+                        black_box(&self.out);
+                        k = 0;
+                    }
+                }
+            }
+        }
+        self.macs()
     }
 }
 
@@ -132,15 +158,15 @@ fn summary<T: Sample>(type_name: &str, f64_type: bool) {
         core_peak / 1e9
     );
     println!(
-        "{type_name}: kernel rate, {FRAMES} outputs per call, ratio {UP}/{DOWN}\n  {:<10} {:>5} {:>3} {:>10} {:>12} {:>14}",
+        "{type_name}: kernel rate, {FRAMES} outputs per channel per run, ratio {UP}/{DOWN}\n  {:<10} {:>5} {:>3} {:>10} {:>12} {:>14}",
         "kernel", "taps", "ch", "GMAC/s", "of core peak", "of own peak"
     );
     for &(k, own_peak) in &peaks {
         let fns = KernelFns::<T>::new(k).expect("available");
         for &ch in &CHANNELS {
             for &tpp in &TAPS {
-                let mut case = Case::<T>::new(tpp, ch);
-                let r = best_rate(|| case.run(&fns));
+                let mut case = Case::<T>::new(fns, tpp, ch);
+                let r = best_rate(|| case.run());
                 println!(
                     "  {:<10} {:>5} {:>3} {:>10.2} {:>11.1}% {:>13.1}%",
                     k.name(),
@@ -161,11 +187,11 @@ fn criterion_cases<T: Sample>(c: &mut Criterion, type_name: &str) {
         let fns = KernelFns::<T>::new(k).expect("available");
         for &ch in &CHANNELS {
             for &tpp in &TAPS {
-                let mut case = Case::<T>::new(tpp, ch);
+                let mut case = Case::<T>::new(fns, tpp, ch);
                 group.throughput(Throughput::Elements(case.macs()));
                 group.bench_function(
                     BenchmarkId::new(k.name(), format!("{tpp}taps_{ch}ch")),
-                    |b| b.iter(|| case.run(&fns)),
+                    |b| b.iter(|| case.run()),
                 );
             }
         }

@@ -6,10 +6,11 @@
 //!
 //! * [`RatePair`]: two rates reduced to up/down factors L/M.
 //! * [`FilterSpec`] → [`Design`]: the prototype and its [`DesignReport`].
-//! * [`PhaseTable`]: the prototype split into L phases.
+//! * [`PhaseTable`]: the prototype split into L phases; [`groups::GroupTable`]: the same taps
+//!   arranged for wide vectors, one vector per input sample and one lane per output.
 //! * [`StreamConverter`]: chunked, allocation-free, multichannel (planar or interleaved).
 //! * [`offline`]: whole-signal conversion, delay compensated, exact length.
-//! * [`kernel`]: the dot-product kernels and the run-time choice between them.
+//! * [`kernel`]: the SIMD kernels and the run-time choice between them.
 //!
 //! ```
 //! use resample_core::{offline, FilterSpec};
@@ -35,12 +36,14 @@
 pub mod baseline;
 pub mod design;
 mod error;
+pub mod groups;
 pub mod kernel;
 #[cfg(feature = "measure")]
 pub mod measure;
 pub mod offline;
 pub mod polyphase;
 mod ratio;
+mod render;
 pub mod response;
 pub mod stream;
 pub mod window;

@@ -3,8 +3,9 @@
 
 use rayon::prelude::*;
 
-use crate::kernel::{Block, Kernel, KernelFns, Sample};
-use crate::polyphase::PhaseTable;
+use crate::groups::GroupTable;
+use crate::kernel::{Kernel, KernelFns, Sample};
+use crate::render::{render, History};
 use crate::{Design, Error, Result};
 
 #[cfg(doc)]
@@ -80,7 +81,7 @@ pub fn convert_planar_with<T: Sample, I: AsRef<[T]> + Sync>(
         expected: usize::MAX,
         got: usize::MAX,
     })?;
-    let table = PhaseTable::<T>::new(design);
+    let table = GroupTable::<T>::new(design, fns.lanes())?;
     let mut out = vec![vec![T::zero(); total]; channels];
     // One task per (channel pair, segment of output frames).
     let mut tasks: Vec<(usize, usize, Vec<&mut [T]>)> = Vec::new();
@@ -122,7 +123,7 @@ pub const SEGMENT_FRAMES: usize = 1 << 15;
 
 /// Outputs `first..first + outs[0].len()` of the channels `ins`, into `outs`.
 fn segment<T: Sample>(
-    table: &PhaseTable<T>,
+    table: &GroupTable<T>,
     fns: &KernelFns<T>,
     ins: &[&[T]],
     first: u64,
@@ -132,38 +133,29 @@ fn segment<T: Sample>(
     if frames == 0 {
         return Ok(());
     }
-    let (up, down, tpp) = (table.up(), table.down(), table.taps_per_phase());
-    let pos = |m: u64| u128::from(m) * u128::from(down) + u128::from(table.half());
-    let p0 = pos(first);
-    let newest_first = (p0 / u128::from(up)) as i128;
-    let newest_last = (pos(first + frames as u64 - 1) / u128::from(up)) as i128;
-    let start = newest_first + 1 - tpp as i128;
-    let stride = (newest_last - start + 1) as usize;
-    let n = ins.first().map_or(0, |i| i.len()) as i128;
+    // Every group touching the segment reads between the first row of the first output's
+    // group and the last row of the last output's.
+    let start = table.first_input_of(first);
+    let stop = table.first_input_of(first + frames as u64 - 1) + table.rows() as i64;
+    let stride = (stop - start) as usize;
+    let n = ins.first().map_or(0, |i| i.len()) as i64;
     let mut hist = vec![T::zero(); stride * ins.len()];
     // Copy the part of the input inside the signal; the rest stays zero.
-    let lo = start.max(0);
-    let hi = (start + stride as i128).min(n);
+    let (lo, hi) = (start.max(0), stop.min(n));
     if lo < hi {
         for (h, x) in hist.chunks_exact_mut(stride).zip(ins) {
             let (a, b) = ((lo - start) as usize, (hi - start) as usize);
             h[a..b].copy_from_slice(&x[lo as usize..hi as usize]);
         }
     }
-    let block = Block::new(
-        table.coeffs(),
-        tpp,
-        up,
-        down,
-        &hist,
+    let history = History {
+        data: &hist,
         stride,
-        ins.len(),
-        0,
-        (p0 % u128::from(up)) as u64,
-        frames,
-    )?;
+        channels: ins.len(),
+        base: start,
+    };
     let mut planar = vec![T::zero(); frames * ins.len()];
-    fns.block(&block, &mut planar)?;
+    render(table, fns, &history, first, frames, &mut planar)?;
     for (o, src) in outs.iter_mut().zip(planar.chunks_exact(frames)) {
         o.copy_from_slice(src);
     }

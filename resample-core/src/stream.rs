@@ -1,15 +1,17 @@
 //! The streaming converter: per-channel history, any chunk size in, exactly the offline
 //! result out, without allocating or locking once built.
 
-use crate::kernel::{Block, Kernel, KernelFns, Sample};
-use crate::polyphase::PhaseTable;
+use crate::groups::GroupTable;
+use crate::kernel::{Kernel, KernelFns, Sample};
+use crate::render::{render, History};
 use crate::{Design, Error, RatePair, Result};
 
 /// Input frames buffered per channel beyond the filter's history.
 const BLOCK: usize = 4096;
 
-/// Output frames per channel computed by one kernel call.
-const OUT_BLOCK: usize = 256;
+/// Output frames per channel computed by one run of the groups (several periods of the
+/// group table for common ratios, so that each group's taps serve many outputs).
+const OUT_BLOCK: usize = 2048;
 
 /// How much one processing call read and wrote.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -45,13 +47,15 @@ pub struct Progress {
 /// ```
 #[derive(Debug, Clone)]
 pub struct StreamConverter<T> {
-    table: PhaseTable<T>,
+    table: GroupTable<T>,
     pair: RatePair,
     channels: usize,
     fns: KernelFns<T>,
-    /// Planar history: channel `c` at `hist[c * cap..(c + 1) * cap]`.
+    /// Planar history: channel `c` at `hist[c * stride..]`, `cap` samples of history and
+    /// input followed by room for one group's reads past the newest input (kept zero).
     hist: Vec<T>,
     cap: usize,
+    stride: usize,
     /// Kernel output, channel `c` at `scratch[c * n..(c + 1) * n]` for a block of `n`.
     scratch: Vec<T>,
     /// Input index of `bufs[c][0]` (negative for the zero history before the start).
@@ -80,14 +84,16 @@ impl<T: Sample> StreamConverter<T> {
             return Err(Error::ChannelsOutOfRange { channels });
         }
         let fns = KernelFns::new(kernel)?;
-        let table = PhaseTable::new(design);
-        let cap = table.taps_per_phase() + BLOCK;
+        let table = GroupTable::new(design, fns.lanes())?;
+        let cap = table.rows() + BLOCK;
+        let stride = cap + table.rows();
         let mut conv = Self {
             pair: design.pair(),
             channels,
             fns,
-            hist: vec![T::zero(); cap * channels],
+            hist: vec![T::zero(); stride * channels],
             cap,
+            stride,
             scratch: vec![T::zero(); OUT_BLOCK * channels],
             table,
             base: 0,
@@ -104,8 +110,8 @@ impl<T: Sample> StreamConverter<T> {
 
     /// Forget all input: back to the state right after construction. Does not allocate.
     pub fn reset(&mut self) {
-        let hist = self.table.taps_per_phase() - 1;
-        for b in self.hist.chunks_exact_mut(self.cap) {
+        let hist = self.table.taps() - 1;
+        for b in self.hist.chunks_exact_mut(self.stride) {
             b[..hist].fill(T::zero());
         }
         self.base = -(hist as i64);
@@ -215,9 +221,9 @@ impl<T: Sample> StreamConverter<T> {
         Ok(self.run(
             frames_in,
             frames_out,
-            |hist, cap, at, from, n| {
+            |hist, stride, at, from, n| {
                 let src = &input[from * ch..(from + n) * ch];
-                for (c, buf) in hist.chunks_exact_mut(cap).enumerate() {
+                for (c, buf) in hist.chunks_exact_mut(stride).enumerate() {
                     let dst = &mut buf[at..at + n];
                     for (d, frame) in dst.iter_mut().zip(src.chunks_exact(ch)) {
                         *d = frame[c];
@@ -243,8 +249,8 @@ impl<T: Sample> StreamConverter<T> {
         Ok(self.run(
             frames_in,
             frames_out,
-            |hist, cap, at, from, n| {
-                for (buf, src) in hist.chunks_exact_mut(cap).zip(input) {
+            |hist, stride, at, from, n| {
+                for (buf, src) in hist.chunks_exact_mut(stride).zip(input) {
                     buf[at..at + n].copy_from_slice(&src.as_ref()[from..from + n]);
                 }
             },
@@ -353,7 +359,7 @@ impl<T: Sample> StreamConverter<T> {
             if take == 0 {
                 break;
             }
-            load(&mut self.hist, self.cap, self.fill, read, take);
+            load(&mut self.hist, self.stride, self.fill, read, take);
             self.fill += take;
             self.n_in += take as u64;
             read += take;
@@ -364,15 +370,15 @@ impl<T: Sample> StreamConverter<T> {
         }
     }
 
-    /// Drop history older than the next output needs.
+    /// Drop history older than the group of the next output reads.
     fn make_room(&mut self) {
-        let start = self.next_i as i64 - (self.table.taps_per_phase() as i64 - 1);
+        let start = self.table.first_input_of(self.n_out);
         let rel = start - self.base;
         if rel <= 0 {
             return;
         }
         let drop = (rel as usize).min(self.fill);
-        for b in self.hist.chunks_exact_mut(self.cap) {
+        for b in self.hist.chunks_exact_mut(self.stride) {
             b.copy_within(drop..self.fill, 0);
         }
         self.fill -= drop;
@@ -385,7 +391,6 @@ impl<T: Sample> StreamConverter<T> {
     /// Compute outputs while their input is present (or, when flushing, while any remain),
     /// at most `max` frames. Returns frames produced.
     fn produce(&mut self, max: usize, mut store: impl FnMut(usize, usize, T)) -> usize {
-        let tpp = self.table.taps_per_phase();
         let up = self.table.up();
         let down = self.table.down();
         let total = if self.flushing {
@@ -407,7 +412,7 @@ impl<T: Sample> StreamConverter<T> {
                 let end = self.base + self.fill as i64;
                 let need = (self.next_i as i64 + 1 - end).max(0) as usize;
                 let k = need.min(self.cap - self.fill);
-                for b in self.hist.chunks_exact_mut(self.cap) {
+                for b in self.hist.chunks_exact_mut(self.stride) {
                     b[self.fill..self.fill + k].fill(T::zero());
                 }
                 self.fill += k;
@@ -422,22 +427,27 @@ impl<T: Sample> StreamConverter<T> {
             if n == 0 {
                 break; // cannot happen: next_i < end and max > done
             }
-            let start = (self.next_i as i64 + 1 - tpp as i64 - self.base) as usize;
-            let block = Block::new(
-                self.table.coeffs(),
-                tpp,
-                up,
-                down,
-                &self.hist,
-                self.cap,
-                self.channels,
-                start,
-                self.next_p,
+            // Groups that stick out past the newest input read zeros there.
+            let (fill, rows) = (self.fill, self.table.rows());
+            for b in self.hist.chunks_exact_mut(self.stride) {
+                b[fill..fill + rows].fill(T::zero());
+            }
+            let hist = History {
+                data: &self.hist,
+                stride: self.stride,
+                channels: self.channels,
+                base: self.base,
+            };
+            let ok = render(
+                &self.table,
+                &self.fns,
+                &hist,
+                self.n_out,
                 n,
+                &mut self.scratch,
             );
-            let ok = block.and_then(|b| self.fns.block(&b, &mut self.scratch));
             if ok.is_err() {
-                break; // cannot happen: the window bounds were established above
+                break; // cannot happen: the history holds every group of the run
             }
             for (c, chan) in self.scratch.chunks_exact(n).take(self.channels).enumerate() {
                 for (k, &v) in chan.iter().enumerate() {

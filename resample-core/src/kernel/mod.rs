@@ -5,19 +5,19 @@
 //! A kernel has two entry points for each sample type:
 //!
 //! * a single dot product ([`DotFn`]), and
-//! * a *block* ([`Block`]): many consecutive outputs of a polyphase converter for several
-//!   channels in one call. The kernel steps through the phases itself, so there is one
-//!   indirect call per block instead of one per output, and channels are taken in pairs
-//!   so that each vector of taps loaded from the phase table serves two channels.
+//! * *groups* ([`KernelFns::groups`]): one group of a [`crate::groups::GroupTable`] (a
+//!   vector of taps per input sample, one lane per output) against several inputs, the
+//!   converters' inner loop. Each input sample is broadcast to all lanes, so a group of
+//!   outputs costs one multiply-add per input sample, with aligned loads and no horizontal
+//!   sums, and each loaded vector of taps serves up to four inputs (channels, or periods
+//!   of the same group).
 //!
-//! Every output of a block is computed by the same sequence of operations whatever its
-//! position in the block and whatever the block size, so a converter gives bit-identical
-//! results for any chunking of its input.
+//! Every output is computed by the same sequence of operations whatever inputs it was
+//! grouped with, so a converter gives bit-identical results for any chunking of its input.
 //!
 //! All `unsafe` code of the crate is confined to this module tree; every block says why it is
 //! sound in a `// Safety:` comment.
 
-mod block;
 #[cfg(target_arch = "aarch64")]
 mod neon;
 pub mod peak;
@@ -28,8 +28,6 @@ mod x86_avx2;
 #[cfg(target_arch = "x86_64")]
 mod x86_avx512;
 
-pub use block::Block;
-
 use num_traits::{Float, FromPrimitive};
 
 use crate::{Error, Result};
@@ -37,9 +35,9 @@ use crate::{Error, Result};
 /// A dot product of two slices (taps, samples); extra elements of the longer one are ignored.
 pub type DotFn<T> = fn(&[T], &[T]) -> T;
 
-/// A block of converter outputs: writes output `k` of channel `c` to `out[c * frames + k]`.
-/// Only ever called (through [`KernelFns::block`]) with `out.len() >= block.channels() * block.frames()`.
-pub(crate) type BlockFn<T> = fn(&Block<'_, T>, &mut [T]);
+/// Groups of outputs (see [`KernelFns::groups`]). Only ever called through that method,
+/// which checks the sizes first.
+pub(crate) type GroupsFn<T> = fn(&[T], usize, &[&[T]], &mut [T]);
 
 /// Which dot-product implementation a converter uses.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
@@ -146,7 +144,8 @@ pub(crate) fn neon_detected() -> bool {
 pub struct KernelFns<T> {
     kernel: Kernel,
     dot: DotFn<T>,
-    block: BlockFn<T>,
+    groups: GroupsFn<T>,
+    lanes: usize,
 }
 
 impl<T> core::fmt::Debug for KernelFns<T> {
@@ -168,7 +167,8 @@ impl<T: Sample> KernelFns<T> {
         Ok(Self {
             kernel,
             dot: T::dot_fn(kernel),
-            block: T::block_fn(kernel),
+            groups: T::groups_fn(kernel),
+            lanes: T::lanes(kernel),
         })
     }
 
@@ -183,35 +183,77 @@ impl<T: Sample> KernelFns<T> {
         (self.dot)(taps, x)
     }
 
-    /// Compute a block of outputs: output `k` of channel `c` goes to `out[c * frames + k]`.
-    /// [`Error::BufferShape`] if `out` is shorter than `channels * frames`.
+    /// Lanes (outputs per group) this kernel's vectors hold: the width to build a
+    /// [`crate::groups::GroupTable`] with.
+    pub fn lanes(&self) -> usize {
+        self.lanes
+    }
+
+    /// One group of outputs for several inputs: `taps` holds `rows` vectors of `lanes` taps
+    /// (`taps.len() = rows lanes`), every input at least `rows` samples; writes
+    /// `out[i lanes + l] = sum_r taps[r lanes + l] inputs[i][r]`. The sum is taken as two
+    /// partial sums, even and odd rows, each in row order, then added (with fused
+    /// multiply-adds in SIMD kernels). Tables of another width than [`KernelFns::lanes`]
+    /// fall back to the scalar reference. [`Error::BufferShape`] if `lanes` is zero or does
+    /// not divide `taps.len()`, an input is too short or `out` holds fewer than
+    /// `inputs.len() lanes` values.
+    ///
+    /// ```
+    /// use resample_core::kernel::{Kernel, KernelFns};
+    /// let k = KernelFns::<f32>::new(Kernel::Scalar)?;
+    /// // Two rows of two lanes; lane 0 takes the first input sample, lane 1 half the second.
+    /// let taps = [1.0, 0.0, 0.0, 0.5];
+    /// let mut out = [0.0; 4];
+    /// k.groups(&taps, 2, &[&[3.0, 4.0], &[5.0, 6.0]], &mut out)?;
+    /// assert_eq!(out, [3.0, 2.0, 5.0, 3.0]);
+    /// # Ok::<(), resample_core::Error>(())
+    /// ```
     #[inline]
-    pub fn block(&self, block: &Block<'_, T>, out: &mut [T]) -> Result<()> {
-        let need = block.channels() * block.frames();
+    pub fn groups(&self, taps: &[T], lanes: usize, inputs: &[&[T]], out: &mut [T]) -> Result<()> {
+        let rows = taps.len() / lanes.max(1);
+        if lanes == 0 || rows * lanes != taps.len() {
+            return Err(Error::BufferShape {
+                what: "group taps (whole rows of lanes)",
+                expected: (rows + 1) * lanes.max(1),
+                got: taps.len(),
+            });
+        }
+        if let Some(x) = inputs.iter().find(|x| x.len() < rows) {
+            return Err(Error::BufferShape {
+                what: "group input (one sample per row)",
+                expected: rows,
+                got: x.len(),
+            });
+        }
+        let need = inputs.len() * lanes;
         if out.len() < need {
             return Err(Error::BufferShape {
-                what: "block output length (channels x frames)",
+                what: "group output (lanes per input)",
                 expected: need,
                 got: out.len(),
             });
         }
-        (self.block)(block, out);
+        (self.groups)(taps, lanes, inputs, out);
         Ok(())
     }
 }
 
 mod sealed {
-    /// Block functions are reached only through [`super::KernelFns::block`], which checks
-    /// the output length first; this trait cannot be named outside the crate.
-    pub trait BlockKernels: Sized {
-        /// The block function of a kernel for this type (scalar fallback if unavailable).
-        fn block_fn(kernel: super::Kernel) -> super::BlockFn<Self>;
+    /// Group functions are reached only through [`super::KernelFns::groups`], which checks
+    /// the sizes first; this trait cannot be named outside the crate.
+    pub trait GroupKernels: Sized {
+        /// The group function of a kernel for this type (scalar fallback if unavailable).
+        fn groups_fn(kernel: super::Kernel) -> super::GroupsFn<Self>;
+
+        /// Lanes of that kernel's vectors for this type (32 bytes' worth for the scalar
+        /// reference).
+        fn lanes(kernel: super::Kernel) -> usize;
     }
 }
 
 /// A sample type the converters work in: `f32` or `f64`.
 pub trait Sample:
-    Float + FromPrimitive + Default + core::fmt::Debug + Send + Sync + 'static + sealed::BlockKernels
+    Float + FromPrimitive + Default + core::fmt::Debug + Send + Sync + 'static + sealed::GroupKernels
 {
     /// The dot product of `kernel` for this type. Falls back to the scalar reference if the
     /// kernel is not available on this CPU.
@@ -225,7 +267,7 @@ pub trait Sample:
 }
 
 macro_rules! impl_sample {
-    ($t:ty, $dot:ident, $block:ident, $from:expr, $to:expr) => {
+    ($t:ty, $dot:ident, $groups:ident, $from:expr, $to:expr) => {
         impl Sample for $t {
             fn dot_fn(kernel: Kernel) -> DotFn<Self> {
                 match kernel {
@@ -248,24 +290,34 @@ macro_rules! impl_sample {
             }
         }
 
-        impl sealed::BlockKernels for $t {
-            fn block_fn(kernel: Kernel) -> BlockFn<Self> {
+        impl sealed::GroupKernels for $t {
+            fn groups_fn(kernel: Kernel) -> GroupsFn<Self> {
                 match kernel {
                     #[cfg(target_arch = "x86_64")]
-                    Kernel::Avx2Fma if kernel.is_available() => x86_avx2::$block,
+                    Kernel::Avx2Fma if kernel.is_available() => x86_avx2::$groups,
                     #[cfg(target_arch = "x86_64")]
-                    Kernel::Avx512 if kernel.is_available() => x86_avx512::$block,
+                    Kernel::Avx512 if kernel.is_available() => x86_avx512::$groups,
                     #[cfg(target_arch = "aarch64")]
-                    Kernel::Neon if kernel.is_available() => neon::$block,
-                    _ => scalar::block::<$t>,
+                    Kernel::Neon if kernel.is_available() => neon::$groups,
+                    _ => scalar::groups::<$t>,
                 }
+            }
+
+            fn lanes(kernel: Kernel) -> usize {
+                let bytes = match kernel {
+                    Kernel::Avx2Fma if kernel.is_available() => 32,
+                    Kernel::Avx512 if kernel.is_available() => 64,
+                    Kernel::Neon if kernel.is_available() => 16,
+                    _ => 32,
+                };
+                bytes / core::mem::size_of::<$t>()
             }
         }
     };
 }
 
-impl_sample!(f32, dot_f32, block_f32, |v: f64| v as f32, f64::from);
-impl_sample!(f64, dot_f64, block_f64, |v: f64| v, |v: f64| v);
+impl_sample!(f32, dot_f32, groups_f32, |v: f64| v as f32, f64::from);
+impl_sample!(f64, dot_f64, groups_f64, |v: f64| v, |v: f64| v);
 
 #[cfg(test)]
 mod tests;

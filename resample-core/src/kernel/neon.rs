@@ -9,6 +9,8 @@ mod v32 {
 
     pub(crate) type V = float32x4_t;
     pub(crate) const W: usize = 4;
+    /// Inputs taken together per kernel call (each with two accumulators in registers).
+    pub(crate) const JOBS: usize = 8;
 
     #[target_feature(enable = "neon")]
     #[inline]
@@ -38,6 +40,24 @@ mod v32 {
         }
     }
 
+    /// # Safety
+    /// `p` valid for one read; NEON present.
+    #[target_feature(enable = "neon")]
+    #[inline]
+    pub(crate) unsafe fn splat(p: *const f32) -> V {
+        // Safety: the caller's guarantee.
+        unsafe { vld1q_dup_f32(p) }
+    }
+
+    /// # Safety
+    /// `p` valid for 4 writes; NEON present.
+    #[target_feature(enable = "neon")]
+    #[inline]
+    pub(crate) unsafe fn store(p: *mut f32, v: V) {
+        // Safety: the caller's guarantee.
+        unsafe { vst1q_f32(p, v) }
+    }
+
     #[target_feature(enable = "neon")]
     #[inline]
     pub(crate) fn fma(acc: V, w: V, x: V) -> V {
@@ -63,6 +83,8 @@ mod v64 {
 
     pub(crate) type V = float64x2_t;
     pub(crate) const W: usize = 2;
+    /// Inputs taken together per kernel call (each with two accumulators in registers).
+    pub(crate) const JOBS: usize = 8;
 
     #[target_feature(enable = "neon")]
     #[inline]
@@ -92,6 +114,24 @@ mod v64 {
         }
     }
 
+    /// # Safety
+    /// `p` valid for one read; NEON present.
+    #[target_feature(enable = "neon")]
+    #[inline]
+    pub(crate) unsafe fn splat(p: *const f64) -> V {
+        // Safety: the caller's guarantee.
+        unsafe { vld1q_dup_f64(p) }
+    }
+
+    /// # Safety
+    /// `p` valid for 2 writes; NEON present.
+    #[target_feature(enable = "neon")]
+    #[inline]
+    pub(crate) unsafe fn store(p: *mut f64, v: V) {
+        // Safety: the caller's guarantee.
+        unsafe { vst1q_f64(p, v) }
+    }
+
     #[target_feature(enable = "neon")]
     #[inline]
     pub(crate) fn fma(acc: V, w: V, x: V) -> V {
@@ -114,5 +154,5 @@ mod v64 {
 simd_kernels!("neon", crate::kernel::neon_detected, f32, v32, k32);
 simd_kernels!("neon", crate::kernel::neon_detected, f64, v64, k64);
 
-pub(crate) use k32::{block as block_f32, dot as dot_f32};
-pub(crate) use k64::{block as block_f64, dot as dot_f64};
+pub(crate) use k32::{dot as dot_f32, groups as groups_f32};
+pub(crate) use k64::{dot as dot_f64, groups as groups_f64};

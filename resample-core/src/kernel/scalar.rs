@@ -1,9 +1,7 @@
-//! The scalar reference: plain, in order, one accumulator. Every SIMD kernel is tested
+//! The scalar reference: plain arithmetic in a fixed order. Every SIMD kernel is tested
 //! against it, and it can be forced with [`super::Kernel::Scalar`].
 
 use num_traits::Float;
-
-use super::Block;
 
 /// `sum_i taps[i] * x[i]`, accumulated left to right. Extra elements of the longer slice are
 /// ignored.
@@ -15,19 +13,32 @@ pub fn dot<T: Float>(taps: &[T], x: &[T]) -> T {
     acc
 }
 
-/// A block of outputs, each by [`dot`]. `out.len() >= channels * frames` (checked by the
-/// caller; a shorter `out` only receives the outputs that fit).
-pub(crate) fn block<T: Float>(b: &Block<'_, T>, out: &mut [T]) {
-    let tpp = b.tpp;
-    let frames = b.frames;
-    for c in 0..b.channels {
-        let hist = &b.history[c * b.channel_stride..];
-        let Some(dst) = out.get_mut(c * frames..(c + 1) * frames) else {
+/// Groups of outputs: `out[i lanes + l] = sum_r taps[r lanes + l] * inputs[i][r]`, summed as
+/// every kernel sums it: even rows into one accumulator and odd rows into another, each in
+/// row order, then the two added. Stops at the shortest of inputs and `out` (the caller
+/// checks their sizes).
+pub(crate) fn groups<T: Float>(taps: &[T], lanes: usize, inputs: &[&[T]], out: &mut [T]) {
+    if lanes == 0 {
+        return;
+    }
+    let rows = taps.len() / lanes;
+    for (x, o) in inputs.iter().zip(out.chunks_exact_mut(lanes)) {
+        if x.len() < rows {
             return;
-        };
-        b.for_each_output(|k, row, at| {
-            dst[k] = dot(&b.coeffs[row..row + tpp], &hist[at..at + tpp]);
-        });
+        }
+        for (l, y) in o.iter_mut().enumerate() {
+            let (mut a, mut b) = (T::zero(), T::zero());
+            let mut r = 0;
+            while r + 2 <= rows {
+                a = a + taps[r * lanes + l] * x[r];
+                b = b + taps[(r + 1) * lanes + l] * x[r + 1];
+                r += 2;
+            }
+            if r < rows {
+                a = a + taps[r * lanes + l] * x[r];
+            }
+            *y = a + b;
+        }
     }
 }
 

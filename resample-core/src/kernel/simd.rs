@@ -1,19 +1,24 @@
 //! The body shared by every SIMD kernel, written once as a macro over a small vector
-//! vocabulary (`zero`, `load`, `partial`, `fma`, `add`, `hsum`, lane count `W`) that each
-//! instruction-set module supplies per sample type.
+//! vocabulary (`zero`, `load`, `partial`, `splat`, `store`, `fma`, `add`, `hsum`, lane count
+//! `W`) that each instruction-set module supplies per sample type.
 //!
-//! Accumulation order, fixed for every output whatever its block: two accumulators per
-//! channel, `a` taking even vectors and `b` odd ones in steps of `2 W` taps, then one
-//! whole vector into `a` if `W` taps remain, then a zero-filled partial vector into `b`;
-//! finally `hsum(a + b)`. Channels are taken in pairs so each loaded vector of taps serves
-//! two channels, and outputs in pairs so the core has independent chains to overlap; pairs
-//! and singles run the same operations per output and channel.
+//! `dot`: two accumulators, `a` taking even vectors and `b` odd ones in steps of `2 W`
+//! taps, then one whole vector into `a` if `W` taps remain, then a zero-filled partial
+//! vector into `b`; finally `hsum(a + b)`.
+//!
+//! `groups`: a group table holds one vector of `W` taps per input sample (one lane per
+//! output). Each input sample is broadcast to every lane and multiplied with its vector, so
+//! a group of `W` outputs costs one multiply-add per input sample, with aligned loads of
+//! taps and no horizontal sums. Up to four inputs (other channels, or other periods of the
+//! same group) share each loaded vector of taps. Every output has its own two accumulators
+//! (even and odd rows, added at the end), so its value does not depend on which inputs it
+//! was computed with.
 
-/// Generate `dot` and `block` functions for one instruction set and sample type.
+/// Generate `dot` and `groups` functions for one instruction set and sample type.
 ///
 /// `$feat`: the `target_feature` string; `$detect`: run-time check of those features;
 /// `$t`: sample type; `$v`: sibling module with the vector vocabulary for `$t`; `$m`: name
-/// of the generated module (with `dot` and `block`).
+/// of the generated module (with `dot` and `groups`).
 macro_rules! simd_kernels {
     ($feat:literal, $detect:path, $t:ty, $v:ident, $m:ident) => {
         /// The kernels for one sample type.
@@ -31,15 +36,94 @@ macro_rules! simd_kernels {
                 unsafe { dot_impl(taps.as_ptr(), x.as_ptr(), n) }
             }
 
-            /// A block of outputs (see [`crate::kernel::Block`]).
-            pub(crate) fn block(b: &$crate::kernel::Block<'_, $t>, out: &mut [$t]) {
-                if !$detect() || out.len() < b.channels * b.frames {
-                    return $crate::kernel::scalar::block(b, out);
+            /// Groups of outputs (see [`crate::kernel::KernelFns::groups`]): `out[i W + l]` is
+            /// lane `l` of the taps times input `i`. The caller has checked that every input
+            /// holds at least `taps.len() / lanes` samples and `out` holds `inputs.len() lanes`.
+            pub(crate) fn groups(taps: &[$t], lanes: usize, inputs: &[&[$t]], out: &mut [$t]) {
+                if !$detect() || lanes != $v::W {
+                    return $crate::kernel::scalar::groups(taps, lanes, inputs, out);
                 }
-                // Safety: the CPU features were detected just above; `Block::new` checked that
-                // every row and every channel's window lies inside `coeffs` and `history`, and
-                // `out` holds `channels * frames` values (checked above).
-                unsafe { block_impl(b, out) }
+                let rows = taps.len() / $v::W;
+                let fits =
+                    inputs.iter().all(|x| x.len() >= rows) && out.len() >= inputs.len() * lanes;
+                if !fits {
+                    return $crate::kernel::scalar::groups(taps, lanes, inputs, out);
+                }
+                let t = taps.as_ptr();
+                let mut i = 0;
+                // Batches as even as possible, so that none is left with too few inputs to
+                // keep the multiply-add units busy.
+                let mut batches = inputs.len().div_ceil($v::JOBS);
+                while i < inputs.len() {
+                    let n = (inputs.len() - i).div_ceil(batches);
+                    batches -= 1;
+                    let x = |k: usize| inputs[i + k.min(n - 1)].as_ptr();
+                    // Safety: the CPU features were detected just above; the taps hold `rows`
+                    // vectors of `W` lanes, every input at least `rows` samples and `out` one
+                    // vector per input (all checked above).
+                    unsafe {
+                        let o = out.as_mut_ptr().add(i * lanes);
+                        match n {
+                            8 => jobs::<8>(
+                                t,
+                                rows,
+                                [x(0), x(1), x(2), x(3), x(4), x(5), x(6), x(7)],
+                                o,
+                            ),
+                            7 => jobs::<7>(t, rows, [x(0), x(1), x(2), x(3), x(4), x(5), x(6)], o),
+                            6 => jobs::<6>(t, rows, [x(0), x(1), x(2), x(3), x(4), x(5)], o),
+                            5 => jobs::<5>(t, rows, [x(0), x(1), x(2), x(3), x(4)], o),
+                            4 => jobs::<4>(t, rows, [x(0), x(1), x(2), x(3)], o),
+                            3 => jobs::<3>(t, rows, [x(0), x(1), x(2)], o),
+                            2 => jobs::<2>(t, rows, [x(0), x(1)], o),
+                            _ => jobs::<1>(t, rows, [x(0)], o),
+                        }
+                    }
+                    i += n;
+                }
+            }
+
+            /// One group of taps against `R` inputs: two accumulators per input (even and
+            /// odd rows), added at the end, so every output is computed the same way
+            /// whatever `R`.
+            ///
+            /// # Safety
+            /// The CPU supports `$feat`; `t` is valid for `rows W` reads, every `x[i]` for
+            /// `rows` reads and `out` for `R W` writes.
+            #[target_feature(enable = $feat)]
+            #[inline]
+            unsafe fn jobs<const R: usize>(
+                t: *const $t,
+                rows: usize,
+                x: [*const $t; R],
+                out: *mut $t,
+            ) {
+                use $v::*;
+                // Safety: every read is below `rows` rows, every write below `R W` (the
+                // caller's guarantee); features as above.
+                unsafe {
+                    let mut a = [zero(); R];
+                    let mut b = [zero(); R];
+                    let mut r = 0;
+                    while r + 2 <= rows {
+                        let t0 = load(t.add(r * W));
+                        let t1 = load(t.add((r + 1) * W));
+                        for i in 0..R {
+                            a[i] = fma(a[i], t0, splat(x[i].add(r)));
+                            b[i] = fma(b[i], t1, splat(x[i].add(r + 1)));
+                        }
+                        r += 2;
+                    }
+                    if r < rows {
+                        let t0 = load(t.add(r * W));
+                        for i in 0..R {
+                            a[i] = fma(a[i], t0, splat(x[i].add(r)));
+                        }
+                    }
+                    for i in 0..R {
+                        store(out.add(i * W), add(a[i], b[i]));
+                    }
+                }
             }
 
             /// # Safety
@@ -65,146 +149,6 @@ macro_rules! simd_kernels {
                         b = fma(b, partial(w.add(j), n - j), partial(x.add(j), n - j));
                     }
                     hsum(add(a, b))
-                }
-            }
-
-            /// `K` outputs of `N` channels each: output `o` uses the row at `w[o]` and the
-            /// channel windows at `x[o][c]`. Several outputs in one loop give the core
-            /// independent chains to overlap; each output's arithmetic is the same whatever `K`
-            /// and `N`.
-            ///
-            /// # Safety
-            /// The CPU supports `$feat`; every `w[o]` and `x[o][c]` is valid for `tpp` reads.
-            #[target_feature(enable = $feat)]
-            #[inline]
-            unsafe fn outputs<const K: usize, const N: usize>(
-                w: [*const $t; K],
-                x: [[*const $t; N]; K],
-                tpp: usize,
-            ) -> [[$t; N]; K] {
-                use $v::*;
-                // Safety: every read is below `tpp` (the caller's guarantee); features as above.
-                unsafe {
-                    let mut a = [[zero(); N]; K];
-                    let mut b = [[zero(); N]; K];
-                    let mut j = 0;
-                    while j + 2 * W <= tpp {
-                        for o in 0..K {
-                            let w0 = load(w[o].add(j));
-                            let w1 = load(w[o].add(j + W));
-                            for c in 0..N {
-                                a[o][c] = fma(a[o][c], w0, load(x[o][c].add(j)));
-                                b[o][c] = fma(b[o][c], w1, load(x[o][c].add(j + W)));
-                            }
-                        }
-                        j += 2 * W;
-                    }
-                    if j + W <= tpp {
-                        for o in 0..K {
-                            let w0 = load(w[o].add(j));
-                            for c in 0..N {
-                                a[o][c] = fma(a[o][c], w0, load(x[o][c].add(j)));
-                            }
-                        }
-                        j += W;
-                    }
-                    if j < tpp {
-                        for o in 0..K {
-                            let w0 = partial(w[o].add(j), tpp - j);
-                            for c in 0..N {
-                                b[o][c] = fma(b[o][c], w0, partial(x[o][c].add(j), tpp - j));
-                            }
-                        }
-                    }
-                    let mut r = [[0.0; N]; K];
-                    for o in 0..K {
-                        for c in 0..N {
-                            r[o][c] = hsum(add(a[o][c], b[o][c]));
-                        }
-                    }
-                    r
-                }
-            }
-
-            /// # Safety
-            /// The CPU supports `$feat`; `b` was checked by `Block::new`;
-            /// `out.len() >= b.channels * b.frames`.
-            #[target_feature(enable = $feat)]
-            unsafe fn block_impl(b: &$crate::kernel::Block<'_, $t>, out: &mut [$t]) {
-                let tpp = b.tpp;
-                let frames = b.frames;
-                let stride = b.channel_stride;
-                let dq = (b.down / b.up) as usize;
-                let dr = b.down % b.up;
-                let w = b.coeffs.as_ptr();
-                let h = b.history.as_ptr();
-                let o = out.as_mut_ptr();
-                let mut c = 0;
-                while c < b.channels {
-                    let pair = c + 1 < b.channels;
-                    let (mut p, mut i) = (b.phase, b.start);
-                    let mut k = 0;
-                    while k < frames {
-                        let two = k + 1 < frames;
-                        let (r0, i0) = (p as usize * tpp, i);
-                        p += dr;
-                        i += dq;
-                        if p >= b.up {
-                            p -= b.up;
-                            i += 1;
-                        }
-                        let (r1, i1) = (p as usize * tpp, i);
-                        if two {
-                            p += dr;
-                            i += dq;
-                            if p >= b.up {
-                                p -= b.up;
-                                i += 1;
-                            }
-                        }
-                        // Safety: rows `r0`, `r1` (the phases of outputs `k`, `k + 1`, below
-                        // `up`) lie inside `coeffs`, and channel `c` (and `c + 1`)'s windows at
-                        // `i0`, `i1` lie within its `stride` samples of `history` (both checked
-                        // by `Block::new`; `r1`, `i1` are used only if output `k + 1` exists);
-                        // the `out` indices are below `channels * frames`.
-                        unsafe {
-                            let x0 = h.add(c * stride + i0);
-                            let x1 = h.add(c * stride + i1);
-                            let (w0, w1) = (w.add(r0), w.add(r1));
-                            let y0 = o.add(c * frames + k);
-                            match (pair, two) {
-                                (true, true) => {
-                                    let [[v00, v01], [v10, v11]] = outputs::<2, 2>(
-                                        [w0, w1],
-                                        [[x0, x0.add(stride)], [x1, x1.add(stride)]],
-                                        tpp,
-                                    );
-                                    *y0 = v00;
-                                    *y0.add(frames) = v01;
-                                    *y0.add(1) = v10;
-                                    *y0.add(frames + 1) = v11;
-                                }
-                                (true, false) => {
-                                    let [[v00, v01]] =
-                                        outputs::<1, 2>([w0], [[x0, x0.add(stride)]], tpp);
-                                    *y0 = v00;
-                                    *y0.add(frames) = v01;
-                                }
-                                (false, true) => {
-                                    let [[v00], [v10]] =
-                                        outputs::<2, 1>([w0, w1], [[x0], [x1]], tpp);
-                                    *y0 = v00;
-                                    *y0.add(1) = v10;
-                                }
-                                (false, false) => {
-                                    let [[v00]] = outputs::<1, 1>([w0], [[x0]], tpp);
-                                    *y0 = v00;
-                                }
-                            }
-                        }
-                        k += if two { 2 } else { 1 };
-                    }
-                    c += if pair { 2 } else { 1 };
                 }
             }
         }

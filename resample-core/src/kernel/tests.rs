@@ -1,9 +1,8 @@
 //! Every kernel compiled into this build and runnable on this CPU against the scalar
-//! reference: single dot products, blocks of outputs over several channels, and the
-//! independence of each output from how outputs are grouped into blocks.
+//! reference: single dot products, groups of outputs on random and designed tables, and the
+//! independence of each output from which inputs share its kernel call.
 
 use super::*;
-use crate::polyphase::PhaseTable;
 use crate::FilterSpec;
 
 /// Small deterministic generator (xorshift64*), values in [-1, 1).
@@ -77,167 +76,110 @@ fn dot_agrees_with_scalar_f64() {
     dot_agrees::<f64>();
 }
 
-/// Run a block of `frames` outputs and check every output against the scalar dot product
-/// of the row and window it should use.
-#[allow(clippy::too_many_arguments)]
-fn check_block<T: Sample>(
-    fns: &KernelFns<T>,
-    coeffs: &[T],
-    tpp: usize,
-    up: u64,
-    down: u64,
-    history: &[T],
-    stride: usize,
-    channels: usize,
-    frames: usize,
-) {
-    let block = Block::new(
-        coeffs,
-        tpp,
-        up,
-        down,
-        history,
-        stride,
-        channels,
-        3,
-        1 % up,
-        frames,
-    )
-    .expect("valid block");
-    let mut out = vec![T::nan(); channels * frames];
-    fns.block(&block, &mut out).unwrap();
-    for c in 0..channels {
-        let hist = &history[c * stride..(c + 1) * stride];
-        for k in 0..frames {
-            let pos = (1 % up) + k as u64 * down;
-            let row = (pos % up) as usize * tpp;
-            let at = 3 + (pos / up) as usize;
-            let t = &coeffs[row..row + tpp];
-            let x = &hist[at..at + tpp];
-            let want = scalar::dot(t, x).to_f64_exact();
-            let got = out[c * frames + k].to_f64_exact();
-            let scale = abs_dot(t, x).max(f64::MIN_POSITIVE);
+/// Check `fns.groups` on `taps` (rows of `lanes`) against the scalar reference with the same
+/// layout, output by output, within [`tolerance`] of the terms' size.
+fn check_groups<T: Sample>(fns: &KernelFns<T>, taps: &[T], lanes: usize, inputs: &[&[T]]) {
+    let rows = taps.len() / lanes;
+    let mut got = vec![T::nan(); inputs.len() * lanes];
+    let mut want = vec![T::nan(); inputs.len() * lanes];
+    fns.groups(taps, lanes, inputs, &mut got).unwrap();
+    scalar::groups(taps, lanes, inputs, &mut want);
+    for (i, x) in inputs.iter().enumerate() {
+        for l in 0..lanes {
+            let column: Vec<T> = (0..rows).map(|r| taps[r * lanes + l]).collect();
+            let scale = abs_dot(&column, x).max(f64::MIN_POSITIVE);
+            let (g, w) = (
+                got[i * lanes + l].to_f64_exact(),
+                want[i * lanes + l].to_f64_exact(),
+            );
             assert!(
-                (got - want).abs() <= tolerance::<T>() * scale,
-                "{} tpp={tpp} up={up} down={down} ch={c}/{channels} k={k}: {got} vs {want}",
+                (g - w).abs() <= tolerance::<T>() * scale,
+                "{} rows={rows} lanes={lanes} input {i} lane {l}: {g} vs {w}",
                 fns.kernel().name()
             );
         }
     }
 }
 
-fn block_agrees_random<T: Sample>() {
+fn groups_agree_random<T: Sample>() {
     let mut rng = Rng(0xD1B5_4A32_D192_ED03);
     for kernel in Kernel::available() {
         let fns = KernelFns::<T>::new(kernel).unwrap();
-        for &tpp in &[8, 16, 24, 32, 40, 64, 72, 128, 136, 256] {
-            for &(up, down) in &[(1, 1), (2, 1), (160, 147), (147, 160), (1, 3), (3, 7)] {
-                let frames = 37;
-                let span = 3 + ((1 % up) + (frames as u64 - 1) * down) / up;
-                let stride = span as usize + tpp + 5;
-                for channels in 1..=5 {
-                    let coeffs: Vec<T> = rng.vec(up as usize * tpp);
-                    let history: Vec<T> = rng.vec(stride * channels);
-                    check_block(
-                        &fns, &coeffs, tpp, up, down, &history, stride, channels, frames,
-                    );
-                }
+        let lanes = fns.lanes();
+        for rows in [1, 2, 3, 7, 8, 64, 65, 200, 301] {
+            for count in 1..=9 {
+                let taps: Vec<T> = rng.vec(rows * lanes);
+                let xs: Vec<Vec<T>> = (0..count).map(|_| rng.vec(rows + 2)).collect();
+                let refs: Vec<&[T]> = xs.iter().map(Vec::as_slice).collect();
+                check_groups(&fns, &taps, lanes, &refs);
             }
         }
     }
 }
 
 #[test]
-fn block_agrees_with_scalar_on_random_data_f32() {
-    block_agrees_random::<f32>();
+fn groups_agree_with_scalar_on_random_data_f32() {
+    groups_agree_random::<f32>();
 }
 
 #[test]
-fn block_agrees_with_scalar_on_random_data_f64() {
-    block_agrees_random::<f64>();
+fn groups_agree_with_scalar_on_random_data_f64() {
+    groups_agree_random::<f64>();
 }
 
-/// The real tables the converters use, for a few designs.
-fn block_agrees_designed<T: Sample>() {
+/// The real tables the converters use, for a few designs, every group.
+fn groups_agree_designed<T: Sample>() {
     let mut rng = Rng(7);
     for &(a, b, db) in &[
         (44_100, 48_000, 100.0),
         (48_000, 44_100, 140.0),
         (44_100, 16_000, 60.0),
+        (48_000, 16_000, 120.0),
     ] {
         let design = FilterSpec::new(a, b).stopband_db(db).design().unwrap();
-        let table = PhaseTable::<T>::new(&design);
-        let tpp = table.taps_per_phase();
-        let frames = 300;
-        let span = 3 + (1 + (frames as u64 - 1) * table.down()) / table.up();
-        let stride = span as usize + tpp;
-        let history: Vec<T> = rng.vec(stride * 2);
         for kernel in Kernel::available() {
             let fns = KernelFns::<T>::new(kernel).unwrap();
-            check_block(
-                &fns,
-                table.coeffs(),
-                tpp,
-                table.up(),
-                table.down(),
-                &history,
-                stride,
-                2,
-                frames,
-            );
+            let table = crate::groups::GroupTable::<T>::new(&design, fns.lanes()).unwrap();
+            let xs: Vec<Vec<T>> = (0..3).map(|_| rng.vec(table.rows())).collect();
+            let refs: Vec<&[T]> = xs.iter().map(Vec::as_slice).collect();
+            for j in 0..table.groups() {
+                check_groups(&fns, table.group(j), table.lanes(), &refs);
+            }
         }
     }
 }
 
 #[test]
-fn block_agrees_with_scalar_on_designed_tables_f32() {
-    block_agrees_designed::<f32>();
+fn groups_agree_with_scalar_on_designed_tables_f32() {
+    groups_agree_designed::<f32>();
 }
 
 #[test]
-fn block_agrees_with_scalar_on_designed_tables_f64() {
-    block_agrees_designed::<f64>();
+fn groups_agree_with_scalar_on_designed_tables_f64() {
+    groups_agree_designed::<f64>();
 }
 
-/// An output's value must not depend on its position in a block, on the block's size or on
-/// how many channels share the call: the converters rely on this for bit-identical results
-/// under any chunking.
-fn outputs_independent_of_grouping<T: Sample>() {
+/// An output's value must not depend on which other inputs share its kernel call: the
+/// converters rely on this for bit-identical results under any chunking.
+fn outputs_independent_of_batching<T: Sample>() {
     let mut rng = Rng(99);
-    let (up, down, tpp) = (160_u64, 147_u64, 72);
-    let coeffs: Vec<T> = rng.vec(up as usize * tpp);
-    let frames = 200;
-    let stride = 3 + ((frames as u64) * down / up) as usize + tpp + 1;
-    let history: Vec<T> = rng.vec(stride * 3);
     for kernel in Kernel::available() {
         let fns = KernelFns::<T>::new(kernel).unwrap();
-        let whole = Block::new(&coeffs, tpp, up, down, &history, stride, 3, 3, 5, frames).unwrap();
-        let mut all = vec![T::zero(); 3 * frames];
-        fns.block(&whole, &mut all).unwrap();
-        // One channel at a time, one output at a time.
-        for c in 0..3 {
-            let hist = &history[c * stride..(c + 1) * stride];
-            for k in 0..frames {
-                let pos = 5 + k as u64 * down;
-                let one = Block::new(
-                    &coeffs,
-                    tpp,
-                    up,
-                    down,
-                    hist,
-                    stride,
-                    1,
-                    3 + (pos / up) as usize,
-                    pos % up,
-                    1,
-                )
-                .unwrap();
-                let mut v = [T::zero()];
-                fns.block(&one, &mut v).unwrap();
+        let lanes = fns.lanes();
+        let rows = 77;
+        let taps: Vec<T> = rng.vec(rows * lanes);
+        let xs: Vec<Vec<T>> = (0..9).map(|_| rng.vec(rows)).collect();
+        let refs: Vec<&[T]> = xs.iter().map(Vec::as_slice).collect();
+        let mut all = vec![T::zero(); 9 * lanes];
+        fns.groups(&taps, lanes, &refs, &mut all).unwrap();
+        for (i, x) in refs.iter().enumerate() {
+            let mut one = vec![T::zero(); lanes];
+            fns.groups(&taps, lanes, &[x], &mut one).unwrap();
+            for l in 0..lanes {
                 assert_eq!(
-                    v[0].to_f64_exact().to_bits(),
-                    all[c * frames + k].to_f64_exact().to_bits(),
-                    "{} channel {c} output {k}",
+                    one[l].to_f64_exact().to_bits(),
+                    all[i * lanes + l].to_f64_exact().to_bits(),
+                    "{} input {i} lane {l}",
                     kernel.name()
                 );
             }
@@ -246,39 +188,47 @@ fn outputs_independent_of_grouping<T: Sample>() {
 }
 
 #[test]
-fn outputs_independent_of_grouping_f32() {
-    outputs_independent_of_grouping::<f32>();
+fn outputs_independent_of_batching_f32() {
+    outputs_independent_of_batching::<f32>();
 }
 
 #[test]
-fn outputs_independent_of_grouping_f64() {
-    outputs_independent_of_grouping::<f64>();
+fn outputs_independent_of_batching_f64() {
+    outputs_independent_of_batching::<f64>();
+}
+
+/// A table of another width than the kernel's runs on the scalar reference, bit for bit.
+#[test]
+fn other_widths_fall_back_to_the_reference() {
+    let mut rng = Rng(5);
+    let taps: Vec<f32> = rng.vec(30 * 3);
+    let x: Vec<f32> = rng.vec(30);
+    let mut want = vec![0.0_f32; 3];
+    scalar::groups(&taps, 3, &[&x], &mut want);
+    for kernel in Kernel::available() {
+        let mut got = vec![0.0_f32; 3];
+        KernelFns::new(kernel)
+            .unwrap()
+            .groups(&taps, 3, &[&x], &mut got)
+            .unwrap();
+        assert_eq!(got, want, "{}", kernel.name());
+    }
 }
 
 #[test]
-fn bad_blocks_are_errors_not_panics() {
-    let c = vec![0.0_f32; 32];
-    let h = vec![0.0_f32; 40];
-    // Taps per phase not a multiple of 8.
-    assert!(Block::new(&c, 12, 2, 1, &h, 40, 1, 0, 0, 1).is_err());
-    assert!(Block::new(&c, 0, 2, 1, &h, 40, 1, 0, 0, 1).is_err());
-    // Zero factors, phase out of range, table too short.
-    assert!(Block::new(&c, 8, 0, 1, &h, 40, 1, 0, 0, 1).is_err());
-    assert!(Block::new(&c, 8, 2, 0, &h, 40, 1, 0, 0, 1).is_err());
-    assert!(Block::new(&c, 8, 2, 1, &h, 40, 1, 0, 2, 1).is_err());
-    assert!(Block::new(&c, 16, 4, 1, &h, 40, 1, 0, 0, 1).is_err());
-    // Windows past the channel stride or the history.
-    assert!(Block::new(&c, 8, 2, 1, &h, 40, 1, 0, 0, 67).is_err());
-    assert!(Block::new(&c, 8, 2, 1, &h, 20, 1, 0, 0, 27).is_err());
-    assert!(Block::new(&c, 8, 2, 1, &h, 20, 3, 0, 0, 2).is_err());
-    assert!(Block::new(&c, 8, 2, 1, &h, 40, 0, 0, 0, 1).is_err());
-    assert!(Block::new(&c, 8, u64::MAX, u64::MAX, &h, 40, 1, 0, 0, 3).is_err());
-    // The largest block that fits is fine; a short output buffer is an error.
-    let ok = Block::new(&c, 8, 2, 1, &h, 40, 1, 0, 0, 66).unwrap();
-    let mut out = vec![0.0_f32; 65];
+fn bad_groups_are_errors_not_panics() {
+    let taps = vec![0.0_f32; 32];
+    let x = vec![0.0_f32; 4];
+    let mut out = vec![0.0_f32; 16];
     for k in Kernel::available() {
         let fns = KernelFns::new(k).unwrap();
-        assert!(fns.block(&ok, &mut out).is_err());
+        // Zero lanes; lanes not dividing the taps; an input shorter than the rows; an
+        // output shorter than lanes per input.
+        assert!(fns.groups(&taps, 0, &[&x], &mut out).is_err());
+        assert!(fns.groups(&taps, 5, &[&x], &mut out).is_err());
+        assert!(fns.groups(&taps, 4, &[&x[..3]], &mut out).is_err());
+        assert!(fns.groups(&taps, 8, &[&x, &x, &x], &mut out).is_err());
+        assert!(fns.groups(&taps, 8, &[&x, &x], &mut out).is_ok());
     }
 }
 

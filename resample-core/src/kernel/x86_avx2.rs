@@ -30,6 +30,8 @@ mod v32 {
 
     pub(crate) type V = __m256;
     pub(crate) const W: usize = 8;
+    /// Inputs taken together per kernel call (each with two accumulators in registers).
+    pub(crate) const JOBS: usize = 4;
 
     #[target_feature(enable = "avx2,fma")]
     #[inline]
@@ -58,6 +60,24 @@ mod v32 {
         unsafe { _mm256_maskload_ps(p, mask) }
     }
 
+    /// # Safety
+    /// `p` valid for one read; AVX2 present.
+    #[target_feature(enable = "avx2,fma")]
+    #[inline]
+    pub(crate) unsafe fn splat(p: *const f32) -> V {
+        // Safety: the caller's guarantee.
+        unsafe { _mm256_set1_ps(*p) }
+    }
+
+    /// # Safety
+    /// `p` valid for 8 writes; AVX2 present.
+    #[target_feature(enable = "avx2,fma")]
+    #[inline]
+    pub(crate) unsafe fn store(p: *mut f32, v: V) {
+        // Safety: the caller's guarantee.
+        unsafe { _mm256_storeu_ps(p, v) }
+    }
+
     #[target_feature(enable = "avx2,fma")]
     #[inline]
     pub(crate) fn fma(acc: V, w: V, x: V) -> V {
@@ -83,6 +103,8 @@ mod v64 {
 
     pub(crate) type V = __m256d;
     pub(crate) const W: usize = 4;
+    /// Inputs taken together per kernel call (each with two accumulators in registers).
+    pub(crate) const JOBS: usize = 4;
 
     #[target_feature(enable = "avx2,fma")]
     #[inline]
@@ -111,6 +133,24 @@ mod v64 {
         unsafe { _mm256_maskload_pd(p, mask) }
     }
 
+    /// # Safety
+    /// `p` valid for one read; AVX2 present.
+    #[target_feature(enable = "avx2,fma")]
+    #[inline]
+    pub(crate) unsafe fn splat(p: *const f64) -> V {
+        // Safety: the caller's guarantee.
+        unsafe { _mm256_set1_pd(*p) }
+    }
+
+    /// # Safety
+    /// `p` valid for 4 writes; AVX2 present.
+    #[target_feature(enable = "avx2,fma")]
+    #[inline]
+    pub(crate) unsafe fn store(p: *mut f64, v: V) {
+        // Safety: the caller's guarantee.
+        unsafe { _mm256_storeu_pd(p, v) }
+    }
+
     #[target_feature(enable = "avx2,fma")]
     #[inline]
     pub(crate) fn fma(acc: V, w: V, x: V) -> V {
@@ -133,5 +173,5 @@ mod v64 {
 simd_kernels!("avx2,fma", crate::kernel::avx2_fma_detected, f32, v32, k32);
 simd_kernels!("avx2,fma", crate::kernel::avx2_fma_detected, f64, v64, k64);
 
-pub(crate) use k32::{block as block_f32, dot as dot_f32};
-pub(crate) use k64::{block as block_f64, dot as dot_f64};
+pub(crate) use k32::{dot as dot_f32, groups as groups_f32};
+pub(crate) use k64::{dot as dot_f64, groups as groups_f64};

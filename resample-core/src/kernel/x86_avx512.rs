@@ -9,6 +9,8 @@ mod v32 {
 
     pub(crate) type V = __m512;
     pub(crate) const W: usize = 16;
+    /// Inputs taken together per kernel call (each with two accumulators in registers).
+    pub(crate) const JOBS: usize = 8;
 
     #[target_feature(enable = "avx512f,avx2,fma")]
     #[inline]
@@ -33,6 +35,24 @@ mod v32 {
         let mask = ((1u32 << n) - 1) as __mmask16;
         // Safety: masked-off lanes are not read (and cannot fault); the first `n` are valid.
         unsafe { _mm512_maskz_loadu_ps(mask, p) }
+    }
+
+    /// # Safety
+    /// `p` valid for one read; AVX-512F present.
+    #[target_feature(enable = "avx512f,avx2,fma")]
+    #[inline]
+    pub(crate) unsafe fn splat(p: *const f32) -> V {
+        // Safety: the caller's guarantee.
+        unsafe { _mm512_set1_ps(*p) }
+    }
+
+    /// # Safety
+    /// `p` valid for 16 writes; AVX-512F present.
+    #[target_feature(enable = "avx512f,avx2,fma")]
+    #[inline]
+    pub(crate) unsafe fn store(p: *mut f32, v: V) {
+        // Safety: the caller's guarantee.
+        unsafe { _mm512_storeu_ps(p, v) }
     }
 
     #[target_feature(enable = "avx512f,avx2,fma")]
@@ -62,6 +82,8 @@ mod v64 {
 
     pub(crate) type V = __m512d;
     pub(crate) const W: usize = 8;
+    /// Inputs taken together per kernel call (each with two accumulators in registers).
+    pub(crate) const JOBS: usize = 8;
 
     #[target_feature(enable = "avx512f,avx2,fma")]
     #[inline]
@@ -86,6 +108,24 @@ mod v64 {
         let mask = ((1u32 << n) - 1) as __mmask8;
         // Safety: masked-off lanes are not read (and cannot fault); the first `n` are valid.
         unsafe { _mm512_maskz_loadu_pd(mask, p) }
+    }
+
+    /// # Safety
+    /// `p` valid for one read; AVX-512F present.
+    #[target_feature(enable = "avx512f,avx2,fma")]
+    #[inline]
+    pub(crate) unsafe fn splat(p: *const f64) -> V {
+        // Safety: the caller's guarantee.
+        unsafe { _mm512_set1_pd(*p) }
+    }
+
+    /// # Safety
+    /// `p` valid for 8 writes; AVX-512F present.
+    #[target_feature(enable = "avx512f,avx2,fma")]
+    #[inline]
+    pub(crate) unsafe fn store(p: *mut f64, v: V) {
+        // Safety: the caller's guarantee.
+        unsafe { _mm512_storeu_pd(p, v) }
     }
 
     #[target_feature(enable = "avx512f,avx2,fma")]
@@ -124,5 +164,5 @@ simd_kernels!(
     k64
 );
 
-pub(crate) use k32::{block as block_f32, dot as dot_f32};
-pub(crate) use k64::{block as block_f64, dot as dot_f64};
+pub(crate) use k32::{dot as dot_f32, groups as groups_f32};
+pub(crate) use k64::{dot as dot_f64, groups as groups_f64};
