@@ -5,12 +5,13 @@
 //! runs the same cases under criterion.
 //!
 //! One run is what a converter does for one block: every group of a 44.1 kHz -> 48 kHz
-//! group table (160/147) against the inputs of 2048 consecutive outputs per channel, through
+//! group table (160/147) against the inputs of 4096 consecutive outputs per channel, through
 //! [`KernelFns::groups`] in batches of eight inputs. Only the useful multiply-adds are
 //! counted (outputs x taps per phase x channels), not the zero taps at a group's edges.
 //!
 //! `cargo bench -p resample-core --bench kernels` (add `-- --quick` for a shorter criterion
-//! pass; set `RERATE_SUMMARY_ONLY=1` to print only the summary). Summary rates are per
+//! pass; set `RERATE_SUMMARY_ONLY=1` to print only the summary, `RERATE_KERNEL=avx512f` (a
+//! kernel name) to summarise one kernel). Summary rates are per
 //! second of this thread's CPU time, so they hold on a machine busy with other work.
 
 use std::hint::black_box;
@@ -23,7 +24,7 @@ use resample_core::kernel::{peak, Kernel, KernelFns, Sample};
 const TAPS: [usize; 5] = [16, 32, 64, 128, 256];
 const CHANNELS: [usize; 2] = [1, 2];
 /// Outputs per channel per run (the stream converter's block).
-const FRAMES: u64 = 2048;
+const FRAMES: u64 = 4096;
 /// The 44.1 kHz -> 48 kHz ratio.
 const UP: u64 = 160;
 const DOWN: u64 = 147;
@@ -161,7 +162,11 @@ fn summary<T: Sample>(type_name: &str, f64_type: bool) {
         "{type_name}: kernel rate, {FRAMES} outputs per channel per run, ratio {UP}/{DOWN}\n  {:<10} {:>5} {:>3} {:>10} {:>12} {:>14}",
         "kernel", "taps", "ch", "GMAC/s", "of core peak", "of own peak"
     );
+    let only = std::env::var("RERATE_KERNEL").ok();
     for &(k, own_peak) in &peaks {
+        if only.as_deref().is_some_and(|name| name != k.name()) {
+            continue;
+        }
         let fns = KernelFns::<T>::new(k).expect("available");
         for &ch in &CHANNELS {
             for &tpp in &TAPS {

@@ -164,9 +164,11 @@ pub struct DesignReport {
     pub latency_output_frames: f64,
     /// Delay in milliseconds.
     pub latency_ms: f64,
-    /// Bytes of the polyphase table in `f32`.
+    /// Bytes of the converter's tap table in `f32`, arranged for 512-bit vectors (16
+    /// outputs per group; see [`crate::groups`]).
     pub table_bytes_f32: u64,
-    /// Bytes of the polyphase table in `f64`.
+    /// Bytes of the converter's tap table in `f64`, arranged for 512-bit vectors (8 outputs
+    /// per group).
     pub table_bytes_f64: u64,
 }
 
@@ -229,8 +231,8 @@ impl Design {
             latency_input_frames: 0.0,
             latency_output_frames: 0.0,
             latency_ms: 0.0,
-            table_bytes_f32: (PHASE_ALIGN * 4) as u64,
-            table_bytes_f64: (PHASE_ALIGN * 8) as u64,
+            table_bytes_f32: table_bytes(1, 1, 1, 0, 4),
+            table_bytes_f64: table_bytes(1, 1, 1, 0, 8),
         };
         Self {
             pair,
@@ -268,6 +270,12 @@ fn windowed_sinc(phases: u64, half: usize, cutoff: f64, beta: f64) -> Vec<f64> {
     h
 }
 
+/// Bytes of the converter's group table for 512-bit vectors, elements of `size` bytes.
+fn table_bytes(len: usize, up: u64, down: u64, half: usize, size: u64) -> u64 {
+    crate::groups::Layout::new(len as u64, up, down, half as u64, 64 / size)
+        .map_or(u64::MAX, |l| l.bytes(size))
+}
+
 fn padded(taps_per_phase: usize) -> usize {
     taps_per_phase.div_ceil(PHASE_ALIGN) * PHASE_ALIGN
 }
@@ -293,12 +301,12 @@ fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> {
         let half = taps / 2; // odd length 2 half + 1 >= taps
         let len = 2 * half + 1;
         let tpp = (len as u64).div_ceil(up) as usize;
-        let table_bytes = up * padded(tpp) as u64 * 8;
-        if table_bytes > spec.table_budget {
+        let bytes_f64 = table_bytes(len, up, pair.down().into(), half, 8);
+        if bytes_f64 > spec.table_budget {
             return Err(Error::TableTooLarge {
                 up,
                 down: pair.down().into(),
-                needed_bytes: table_bytes,
+                needed_bytes: bytes_f64,
                 budget_bytes: spec.table_budget,
             });
         }
@@ -352,8 +360,8 @@ fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> {
                 latency_input_frames: latency_in,
                 latency_output_frames: half as f64 / f64::from(pair.down()),
                 latency_ms: 1000.0 * latency_in / in_rate,
-                table_bytes_f32: up * padded(tpp) as u64 * 4,
-                table_bytes_f64: table_bytes,
+                table_bytes_f32: table_bytes(len, up, pair.down().into(), half, 4),
+                table_bytes_f64: bytes_f64,
             };
             return Ok(Design {
                 pair,

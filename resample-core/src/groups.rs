@@ -41,6 +41,79 @@ const TABLE_ALIGN: usize = 64;
 /// Largest share of empty lanes accepted before the period is doubled (one in eight).
 const MAX_EMPTY_SHARE: u64 = 8;
 
+/// The shape of a group table: how many outputs a period holds, how many groups it is split
+/// into and how many rows each group reads. Computed without building the table, e.g. to
+/// state the memory a converter will need.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Layout {
+    /// Outputs after which the groups repeat (a multiple of L).
+    pub period: u64,
+    /// Inputs the window moves on by in one period.
+    pub period_inputs: u64,
+    /// Groups per period.
+    pub groups: u64,
+    /// Inputs (rows of taps) one group reads.
+    pub rows: u64,
+    /// Window length K (the most taps any phase has).
+    pub taps: u64,
+    /// Outputs per group.
+    pub lanes: u64,
+}
+
+impl Layout {
+    /// The layout for a prototype of `n_taps` taps (centre tap `half`), factors `up`/`down`
+    /// and `lanes` outputs per group; `None` for zero sizes or a centre past the end.
+    pub fn new(n_taps: u64, up: u64, down: u64, half: u64, lanes: u64) -> Option<Self> {
+        if n_taps == 0 || up == 0 || down == 0 || lanes == 0 || half >= n_taps {
+            return None;
+        }
+        let w = lanes;
+        // The period: L c outputs, c the smallest power of two that leaves at most one lane
+        // in eight empty (c = lanes / gcd(L, lanes) leaves none).
+        let c_max = w / gcd(up, w);
+        let mut c = 1;
+        while c < c_max {
+            let p = up * c;
+            let empty = p.div_ceil(w) * w - p;
+            if empty * MAX_EMPTY_SHARE <= p {
+                break;
+            }
+            c *= 2;
+        }
+        let period = up.checked_mul(c)?;
+        let taps = n_taps.div_ceil(up);
+        let groups = period.div_ceil(w);
+        let newest = |n: u64| newest_input(n, up, down, half);
+        let rows = (0..groups)
+            .map(|j| {
+                let last = j * w + w.min(period - j * w) - 1;
+                (newest(last) - newest(j * w)) as u64 + taps
+            })
+            .max()?;
+        Some(Self {
+            period,
+            period_inputs: down.checked_mul(c)?,
+            groups,
+            rows,
+            taps,
+            lanes,
+        })
+    }
+
+    /// Bytes of the taps for elements of `size` bytes (saturating).
+    pub fn bytes(&self, size: u64) -> u64 {
+        self.groups
+            .saturating_mul(self.rows)
+            .saturating_mul(self.lanes)
+            .saturating_mul(size)
+    }
+}
+
+/// `floor((n M + half) / L)`: the newest input output `n` reads.
+fn newest_input(n: u64, up: u64, down: u64, half: u64) -> i64 {
+    ((u128::from(n) * u128::from(down) + u128::from(half)) / u128::from(up)) as i64
+}
+
 fn gcd(mut a: u64, mut b: u64) -> u64 {
     while b != 0 {
         (a, b) = (b, a % b);
@@ -72,38 +145,23 @@ impl<T: Sample> GroupTable<T> {
             expected: 1,
             got: 0,
         };
-        if h.is_empty() || up == 0 || down == 0 || lanes == 0 || lanes > 64 {
-            return Err(bad("prototype, factors and lanes (1 to 64)"));
+        if lanes > 64 {
+            return Err(bad("lanes (1 to 64)"));
         }
-        if half >= h.len() as u64 {
-            return Err(bad("centre tap inside the prototype"));
-        }
+        let lay = Layout::new(h.len() as u64, up, down, half, lanes as u64)
+            .ok_or_else(|| bad("prototype, factors and lanes (non-zero, centre inside)"))?;
         let n_taps = h.len() as u64;
-        let taps = n_taps.div_ceil(up);
         let w = lanes as u64;
-        // The period: L c outputs, c the smallest power of two that leaves at most one lane
-        // in eight empty (c = lanes / gcd(L, lanes) leaves none).
-        let c_max = w / gcd(up, w);
-        let mut c = 1;
-        while c < c_max {
-            let p = up * c;
-            let empty = p.div_ceil(w) * w - p;
-            if empty * MAX_EMPTY_SHARE <= p {
-                break;
-            }
-            c *= 2;
-        }
-        let period = up * c;
-        let period_inputs = down * c;
-        let groups = period.div_ceil(w);
-        let newest = |n: u64| {
-            ((u128::from(n) * u128::from(down) + u128::from(half)) / u128::from(up)) as i64
-        };
+        let Layout {
+            period,
+            period_inputs,
+            groups,
+            rows,
+            taps,
+            ..
+        } = lay;
+        let newest = |n: u64| newest_input(n, up, down, half);
         let lane_count = |j: u64| w.min(period - j * w);
-        let rows = (0..groups)
-            .map(|j| newest(j * w + lane_count(j) - 1) - newest(j * w) + taps as i64)
-            .max()
-            .unwrap_or(0) as u64;
         let total = groups
             .checked_mul(rows)
             .and_then(|v| v.checked_mul(w))
@@ -300,6 +358,24 @@ mod tests {
             .unwrap();
         let t = GroupTable::<f32>::new(&d, 16).unwrap();
         assert_eq!((t.period(), t.groups(), t.lanes_in(0)), (16, 1, 16));
+        // The design report states the bytes of exactly these tables.
+        for (a, b) in [
+            (44_100, 48_000),
+            (48_000, 44_100),
+            (44_100, 16_000),
+            (96_000, 48_000),
+        ] {
+            let d = FilterSpec::new(a, b).stopband_db(140.0).design().unwrap();
+            let r = d.report();
+            assert_eq!(
+                GroupTable::<f32>::new(&d, 16).unwrap().bytes() as u64,
+                r.table_bytes_f32
+            );
+            assert_eq!(
+                GroupTable::<f64>::new(&d, 8).unwrap().bytes() as u64,
+                r.table_bytes_f64
+            );
+        }
         assert!(GroupTable::<f32>::from_prototype(&[], 1, 1, 0, 16).is_err());
         assert!(GroupTable::<f32>::from_prototype(&[1.0], 1, 1, 1, 16).is_err());
         assert!(GroupTable::<f32>::from_prototype(&[1.0], 0, 1, 0, 16).is_err());

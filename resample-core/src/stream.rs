@@ -11,7 +11,7 @@ const BLOCK: usize = 4096;
 
 /// Output frames per channel computed by one run of the groups (several periods of the
 /// group table for common ratios, so that each group's taps serve many outputs).
-const OUT_BLOCK: usize = 2048;
+const OUT_BLOCK: usize = 4096;
 
 /// How much one processing call read and wrote.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -131,6 +131,11 @@ impl<T: Sample> StreamConverter<T> {
     /// The kernel in use.
     pub fn kernel(&self) -> Kernel {
         self.fns.kernel()
+    }
+
+    /// Bytes of the tap table this converter holds (arranged for its kernel's vectors).
+    pub fn table_bytes(&self) -> usize {
+        self.table.bytes()
     }
 
     /// The rate pair.

@@ -121,8 +121,8 @@ pub fn report_text(r: &DesignReport) -> String {
     line(
         "taps",
         format!(
-            "{} total, {} per phase ({} stored), Kaiser formula alone: {} per phase",
-            r.total_taps, r.taps_per_phase, r.padded_taps_per_phase, r.formula_taps_per_phase
+            "{} total, {} per phase, Kaiser formula alone: {} per phase",
+            r.total_taps, r.taps_per_phase, r.formula_taps_per_phase
         ),
     );
     line("Kaiser beta", format!("{:.4}", r.beta));
