@@ -1,4 +1,4 @@
-//! Dot-product kernels: the scalar reference that every other kernel is tested against,
+//! The kernels: the scalar reference that every other kernel is tested against,
 //! SIMD versions for x86_64 (AVX2 + FMA, AVX-512F) and aarch64 (NEON), and the choice of
 //! kernel, made once when a converter is built and stored with it as function pointers.
 //!
@@ -9,8 +9,8 @@
 //!   vector of taps per input sample, one lane per output) against several inputs, the
 //!   converters' inner loop. Each input sample is broadcast to all lanes, so a group of
 //!   outputs costs one multiply-add per input sample, with aligned loads and no horizontal
-//!   sums, and each loaded vector of taps serves up to four inputs (channels, or periods
-//!   of the same group).
+//!   sums, and each loaded vector of taps serves several inputs from registers (channels,
+//!   or periods of the same group: eight with AVX-512 and NEON, four with AVX2).
 //!
 //! Every output is computed by the same sequence of operations whatever inputs it was
 //! grouped with, so a converter gives bit-identical results for any chunking of its input.

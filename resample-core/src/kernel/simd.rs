@@ -1,6 +1,6 @@
 //! The body shared by every SIMD kernel, written once as a macro over a small vector
 //! vocabulary (`zero`, `load`, `partial`, `splat`, `store`, `fma`, `add`, `hsum`, lane count
-//! `W`) that each instruction-set module supplies per sample type.
+//! `W`, inputs per call `JOBS`) that each instruction-set module supplies per sample type.
 //!
 //! `dot`: two accumulators, `a` taking even vectors and `b` odd ones in steps of `2 W`
 //! taps, then one whole vector into `a` if `W` taps remain, then a zero-filled partial
@@ -9,8 +9,9 @@
 //! `groups`: a group table holds one vector of `W` taps per input sample (one lane per
 //! output). Each input sample is broadcast to every lane and multiplied with its vector, so
 //! a group of `W` outputs costs one multiply-add per input sample, with aligned loads of
-//! taps and no horizontal sums. Up to four inputs (other channels, or other periods of the
-//! same group) share each loaded vector of taps. Every output has its own two accumulators
+//! taps and no horizontal sums. Up to `JOBS` inputs (other channels, or other periods of the
+//! same group; 8 for 512-bit and 128-bit vectors, 4 for AVX2's 16 registers) share each
+//! loaded vector of taps, in batches as even as possible. Every output has its own two accumulators
 //! (even and odd rows, added at the end), so its value does not depend on which inputs it
 //! was computed with.
 
