@@ -147,7 +147,17 @@ fn flush<T: Sample>(
         let b = valid.min(end - n0);
         if a < b {
             let o = c * frames + (n0 + a - first) as usize;
-            out[o..o + (b - a) as usize].copy_from_slice(&v[a as usize..b as usize]);
+            let (src, dst) = (
+                &v[a as usize..b as usize],
+                &mut out[o..o + (b - a) as usize],
+            );
+            // Whole groups (the common case) as fixed-size copies, which compile to a few
+            // vector moves instead of a call.
+            match (src.len(), dst.len()) {
+                (16, 16) => dst[..16].copy_from_slice(&src[..16]),
+                (8, 8) => dst[..8].copy_from_slice(&src[..8]),
+                _ => dst.copy_from_slice(src),
+            }
         }
     }
     Ok(())
