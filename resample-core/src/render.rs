@@ -70,8 +70,10 @@ pub(crate) fn render<T: Sample>(
             0
         };
         let taps = table.group(j);
+        let jobs = q_hi.saturating_sub(q_lo) as usize * hist.channels;
         let mut k = 0;
-        for q in q_lo..q_hi {
+        for job in 0..jobs {
+            let (q, c) = (q_lo + (job / hist.channels) as u64, job % hist.channels);
             let lo = table.first_input(j) + (q * table.period_inputs()) as i64;
             let at = lo - hist.base;
             if at < 0 || at as usize + rows > hist.stride {
@@ -81,66 +83,36 @@ pub(crate) fn render<T: Sample>(
                     got: hist.stride,
                 });
             }
-            for c in 0..hist.channels {
-                let s = c * hist.stride + at as usize;
-                xs[k] = hist.data.get(s..s + rows).ok_or(Error::BufferShape {
-                    what: "render history length (channels x stride)",
-                    expected: s + rows,
-                    got: hist.data.len(),
-                })?;
-                dst[k] = (c, q * period + g0);
-                k += 1;
-                if k == BATCH {
-                    flush(
-                        fns,
-                        taps,
-                        lanes,
-                        wj,
-                        &xs[..k],
-                        &dst[..k],
-                        &mut tmp,
-                        first,
-                        frames,
-                        out,
-                    )?;
-                    k = 0;
-                }
+            let s = c * hist.stride + at as usize;
+            xs[k] = hist.data.get(s..s + rows).ok_or(Error::BufferShape {
+                what: "render history length (channels x stride)",
+                expected: s + rows,
+                got: hist.data.len(),
+            })?;
+            dst[k] = (c, q * period + g0);
+            k += 1;
+            if k == BATCH || job + 1 == jobs {
+                fns.groups(taps, lanes, &xs[..k], &mut tmp)?;
+                keep(&dst[..k], &tmp, lanes, wj, first, frames, out);
+                k = 0;
             }
-        }
-        if k > 0 {
-            flush(
-                fns,
-                taps,
-                lanes,
-                wj,
-                &xs[..k],
-                &dst[..k],
-                &mut tmp,
-                first,
-                frames,
-                out,
-            )?;
         }
     }
     Ok(())
 }
 
-/// Run the kernel for a batch and keep the lanes inside the run.
-#[allow(clippy::too_many_arguments)]
+/// Keep the lanes of a batch's groups (`tmp`, one vector per input) that are inside the
+/// run; `valid` lanes of each group exist.
 #[inline]
-fn flush<T: Sample>(
-    fns: &KernelFns<T>,
-    taps: &[T],
+fn keep<T: Sample>(
+    dst: &[(usize, u64)],
+    tmp: &[T],
     lanes: usize,
     valid: u64,
-    xs: &[&[T]],
-    dst: &[(usize, u64)],
-    tmp: &mut [T],
     first: u64,
     frames: usize,
     out: &mut [T],
-) -> Result<()> {
-    fns.groups(taps, lanes, xs, tmp)?;
+) {
     let end = first + frames as u64;
     for (&(c, n0), v) in dst.iter().zip(tmp.chunks_exact(lanes)) {
         let a = first.saturating_sub(n0);
@@ -160,5 +132,4 @@ fn flush<T: Sample>(
             }
         }
     }
-    Ok(())
 }
