@@ -35,6 +35,10 @@ pub struct Progress {
 /// A call consumes input only while there is room for the output it makes possible; it
 /// returns how many frames it read and wrote, and the caller passes the rest again.
 ///
+/// Input should be finite: a NaN or infinite sample makes every output whose filter window
+/// reaches it non-finite, and also the other outputs of the same groups (up to 15 more
+/// frames each side, see [`crate::groups`]), since a zero tap times an infinity is NaN.
+///
 /// ```
 /// use resample_core::{FilterSpec, StreamConverter};
 /// let design = FilterSpec::new(48_000, 44_100).stopband_db(100.0).design()?;
