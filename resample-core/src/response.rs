@@ -1,6 +1,7 @@
 //! Measuring a symmetric FIR prototype's magnitude response on a dense grid (zero-padded FFT
 //! with peak refinement), so that a design's stopband and ripple are measured, not assumed.
 
+use rayon::prelude::*;
 use realfft::num_complex::Complex;
 use realfft::RealFftPlanner;
 
@@ -56,6 +57,8 @@ pub fn measure(taps: &[f64], pass: f64, stop: f64) -> Measured {
 /// [`measure`]'s.
 pub struct Measurer {
     planner: RealFftPlanner<f64>,
+    /// FFT length the planner holds a plan for (0: none).
+    planned: usize,
     input: Vec<f64>,
     spectrum: Vec<Complex<f64>>,
     scratch: Vec<Complex<f64>>,
@@ -82,6 +85,7 @@ impl Measurer {
     pub fn new() -> Self {
         Self {
             planner: RealFftPlanner::new(),
+            planned: 0,
             input: Vec::new(),
             spectrum: Vec::new(),
             scratch: Vec::new(),
@@ -90,10 +94,45 @@ impl Measurer {
         }
     }
 
+    /// Plan the FFT and size the buffers for measuring a filter of `taps_len` taps (what
+    /// [`Measurer::measure`] does first; calling it early, e.g. beside computing the taps,
+    /// takes that work off the critical path).
+    pub fn prepare(&mut self, taps_len: usize) {
+        let size = fft_size(taps_len);
+        self.forget_other_plans(size);
+        let Self {
+            planner,
+            input,
+            spectrum,
+            scratch,
+            mag,
+            ..
+        } = self;
+        // Planning (twiddle factors) and touching the buffers' pages run side by side.
+        let (fft, ()) = rayon::join(
+            || planner.plan_fft_forward(size),
+            || {
+                input.resize(size, 0.0);
+                spectrum.resize(size / 2 + 1, Complex::new(0.0, 0.0));
+                mag.resize(size / 2 + 1, 0.0);
+            },
+        );
+        scratch.resize(fft.get_scratch_len(), Complex::new(0.0, 0.0));
+    }
+
+    /// Drop the plans of another FFT length (their twiddle tables are as large as the
+    /// buffers; one length at a time is kept).
+    fn forget_other_plans(&mut self, size: usize) {
+        if self.planned != size {
+            self.planner = RealFftPlanner::new();
+            self.planned = size;
+        }
+    }
+
     /// Measure `taps` as [`measure`] does.
     pub fn measure(&mut self, taps: &[f64], pass: f64, stop: f64) -> Measured {
-        let n = taps.len().max(1);
-        let size = smooth_at_least(n * OVERSAMPLE).clamp(4096, MAX_MEASURE_FFT);
+        let size = fft_size(taps.len());
+        self.forget_other_plans(size);
         let fft = self.planner.plan_fft_forward(size);
         // Buffers keep their allocation (and their pages) from one call to the next; only
         // their contents are rewritten.
@@ -148,22 +187,41 @@ impl Measurer {
                 })
                 .map(|k| (mag[k], k)),
         );
+        // Only peaks within GRID_LOSS of the largest can ever be refined (the running best
+        // starts there and only grows; the rest sort after them, and the first of them
+        // stops the walk). Those are refined in parallel, then taken in the same order,
+        // with the same stopping rule, as one at a time. (A NaN, from non-finite taps,
+        // would sort out of place: then every peak is kept.)
+        if !peaks.iter().any(|p| p.0.is_nan()) {
+            let first = peaks.iter().fold(0.0_f64, |a, p| a.max(p.0));
+            peaks.retain(|p| p.0 >= first * GRID_LOSS);
+        }
         peaks.sort_by(|a, b| b.0.total_cmp(&a.0));
         let mut speak = peaks.first().map_or(0.0, |p| p.0);
         let bin = 1.0 / size as f64;
-        for &(m, k) in peaks.iter() {
+        let peaks = &*peaks;
+        let (refined, (at_stop, at_pass)) = rayon::join(
+            || -> Vec<f64> {
+                peaks
+                    .par_iter()
+                    .map(|&(_, k)| {
+                        let f = k as f64 * bin;
+                        let lo = (f - bin).max(stop);
+                        let hi = (f + bin).min(0.5);
+                        refine_peak(taps, lo, hi)
+                    })
+                    .collect()
+            },
+            // The band edges rarely fall on a grid point, and the response changes fastest
+            // there: evaluate them exactly.
+            || rayon::join(|| magnitude_at(taps, stop), || magnitude_at(taps, pass)),
+        );
+        for (&(m, _), &r) in peaks.iter().zip(&refined) {
             if m < speak * GRID_LOSS {
                 break;
             }
-            let f = k as f64 * bin;
-            let lo = (f - bin).max(stop);
-            let hi = (f + bin).min(0.5);
-            speak = speak.max(refine_peak(taps, lo, hi));
+            speak = speak.max(r);
         }
-        // The band edges rarely fall on a grid point, and the response changes fastest
-        // there: evaluate them exactly.
-        let at_stop = magnitude_at(taps, stop);
-        let at_pass = magnitude_at(taps, pass);
         Measured {
             stopband_peak: speak.max(at_stop),
             passband_max: pmax.max(at_pass),
@@ -171,6 +229,11 @@ impl Measurer {
             dc: mag[0],
         }
     }
+}
+
+/// FFT length [`measure`] uses for a filter of `taps_len` taps.
+fn fft_size(taps_len: usize) -> usize {
+    smooth_at_least(taps_len.max(1) * OVERSAMPLE).clamp(4096, MAX_MEASURE_FFT)
 }
 
 /// Smallest even number at or above `n` with no prime factor above 5 (fast FFT sizes).
