@@ -17,6 +17,8 @@ use crate::wav::{WavError, WavReader, WavWriter};
 const READ_AHEAD_BYTES: usize = 4 << 20;
 /// Output blocks queued for the writer.
 const WRITE_QUEUE: usize = 4;
+/// The writer has the disk catch up every this many bytes (see [`WavWriter::sync_every`]).
+const SYNC_EVERY_BYTES: u64 = 4 << 20;
 
 impl Run<'_> {
     /// Convert with reading and writing on helper threads; `setup` (design the filter,
@@ -57,6 +59,7 @@ impl Run<'_> {
             let (out_tx, out_rx) = mpsc::sync_channel::<(Vec<T>, usize)>(WRITE_QUEUE);
             let (out_back_tx, out_back_rx) = mpsc::channel::<Vec<T>>();
             let write = s.spawn(move || -> Result<WavWriter, WavError> {
+                writer.sync_every(SYNC_EVERY_BYTES);
                 for (buf, n) in out_rx {
                     writer.write_frames(&buf[..n])?;
                     let _ = out_back_tx.send(buf);

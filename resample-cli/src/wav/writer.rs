@@ -69,6 +69,10 @@ pub struct WavWriter {
     /// Bytes of audio written.
     data_bytes: u64,
     bytes: Vec<u8>,
+    /// Write back to the disk every this many bytes (0: only on finish).
+    sync_every: u64,
+    /// `data_bytes` at the last write-back.
+    synced: u64,
 }
 
 impl std::fmt::Debug for WavWriter {
@@ -143,12 +147,21 @@ impl WavWriter {
             header_len: header.len() as u32,
             data_bytes: 0,
             bytes: Vec::new(),
+            sync_every: 0,
+            synced: 0,
         })
     }
 
     /// Whether dither is being added.
     pub fn dithers(&self) -> bool {
         self.quant.dithers()
+    }
+
+    /// Have the data written back to the disk every `bytes` bytes as it comes, rather than
+    /// all at once by [`WavWriter::finish`] (which still makes the whole file durable): for
+    /// a writer on a thread of its own, so that little is left to wait for at the end.
+    pub fn sync_every(&mut self, bytes: u64) {
+        self.sync_every = bytes;
     }
 
     /// Frames written so far.
@@ -184,6 +197,12 @@ impl WavWriter {
         }
         self.data_bytes = total;
         self.frames += (samples.len() / ch) as u64;
+        if self.sync_every > 0 && total - self.synced >= self.sync_every {
+            self.synced = total;
+            out.flush()
+                .and_then(|()| out.get_ref().sync_data())
+                .map_err(|e| WavError::io("cannot write", e))?;
+        }
         Ok(())
     }
 
