@@ -93,10 +93,37 @@ impl Raw {
 /// Where samples come from.
 enum Source {
     /// The audio bytes, read in large slices and decoded here.
-    Bulk { stream: Stream, raw: Raw },
+    Bulk { stream: Audio, raw: Raw },
     /// Any other layout hound accepted: decoded by hound sample by sample (it reports what
     /// it cannot decode).
     Hound(hound::WavReader<Stream>),
+}
+
+/// The audio bytes for bulk reads: the file itself once hound has read the whole clean
+/// header (large reads then go straight into the caller's buffer), else the stream as is.
+enum Audio {
+    File(File),
+    Stream(Stream),
+}
+
+impl Audio {
+    fn new(stream: Stream) -> Self {
+        let (header, buffered) = stream.into_inner();
+        if header.position() == header.get_ref().len() as u64 && buffered.buffer().is_empty() {
+            Self::File(buffered.into_inner())
+        } else {
+            Self::Stream(header.chain(buffered))
+        }
+    }
+}
+
+impl Read for Audio {
+    fn read(&mut self, buf: &mut [u8]) -> io::Result<usize> {
+        match self {
+            Self::File(f) => f.read(buf),
+            Self::Stream(s) => s.read(buf),
+        }
+    }
 }
 
 /// Bytes of audio read from the file at a time (at most).
@@ -195,7 +222,7 @@ impl WavReader {
         let inner = match Raw::of(&spec, block_align / spec.channels) {
             // hound has read the whole clean header: the stream is at the first audio byte.
             Some(raw) => Source::Bulk {
-                stream: inner.into_inner(),
+                stream: Audio::new(inner.into_inner()),
                 raw,
             },
             None => Source::Hound(inner),
@@ -533,7 +560,16 @@ mod tests {
                     Float => h.samples::<f32>().map(|s| f64::from(s.unwrap())).collect(),
                 };
                 let mut r = WavReader::open(&path).unwrap();
-                assert!(matches!(r.inner, Source::Bulk { .. }), "{bits}/{bytes}");
+                assert!(
+                    matches!(
+                        r.inner,
+                        Source::Bulk {
+                            stream: Audio::File(_),
+                            ..
+                        }
+                    ),
+                    "{bits}/{bytes}"
+                );
                 // Blocks of an odd size, so block edges fall anywhere.
                 let mut got = Vec::new();
                 let mut block = vec![0.0_f64; 777 * usize::from(channels)];

@@ -105,9 +105,12 @@ fn header(spec: hound::WavSpec) -> Result<Vec<u8>, WavError> {
 fn encode<T: Sample>(quant: &mut Quantizer, samples: &[T], bytes: &mut Vec<u8>) {
     match quant.encoding() {
         Encoding::Float32 => {
-            for &s in samples {
-                bytes.extend_from_slice(&quant.to_float(s.to_f64_exact()).to_le_bytes());
-            }
+            let start = bytes.len();
+            bytes.resize(start + 4 * samples.len(), 0);
+            let out = &mut bytes[start..];
+            quant.to_floats(samples, |i, v| {
+                out[4 * i..4 * i + 4].copy_from_slice(&v.to_le_bytes());
+            });
         }
         Encoding::Int(bits) => {
             for &s in samples {
