@@ -5,6 +5,7 @@
 mod cache;
 mod pipeline;
 mod report;
+mod segments;
 
 use std::path::Path;
 use std::sync::atomic::{AtomicBool, Ordering};
@@ -43,9 +44,9 @@ pub struct Settings {
     pub sanitize: bool,
     /// Replace an existing output file.
     pub force: bool,
-    /// Read and decode, and requantize and write, on two helper threads beside the one
-    /// converting (for a file converted while cores are free). The output is the same
-    /// either way.
+    /// Read and decode, and requantize and write, on two helper threads, and convert
+    /// segments of the file side by side on rayon's pool (for a file converted while cores
+    /// are free). The output is the same either way.
     pub pipeline: bool,
 }
 
