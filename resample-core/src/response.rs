@@ -140,9 +140,9 @@ impl Measurer {
         self.input.clear();
         self.input.extend_from_slice(&taps[..len]);
         self.input.resize(size, 0.0);
-        self.spectrum.clear();
+        // The FFT writes every output value and uses the scratch as scratch: their old
+        // contents do not matter.
         self.spectrum.resize(size / 2 + 1, Complex::new(0.0, 0.0));
-        self.scratch.clear();
         self.scratch
             .resize(fft.get_scratch_len(), Complex::new(0.0, 0.0));
         // The buffers are sized from the plan itself, so their lengths always match.
