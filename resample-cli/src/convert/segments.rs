@@ -128,8 +128,12 @@ pub(crate) fn convert_segment<T: Sample>(
     let ch = conv.channels();
     conv.reset();
     let total = seg.skip + seg.keep;
-    out.clear();
-    out.resize(total * ch, T::zero());
+    // Every sample is written below: a recycled buffer is only cut or grown to size.
+    if out.len() >= total * ch {
+        out.truncate(total * ch);
+    } else {
+        out.resize(total * ch, T::zero());
+    }
     let mut written = 0;
     for piece in pieces {
         let frames = piece.len() / ch;
