@@ -2,7 +2,9 @@
 //! symmetric Kaiser-windowed-sinc prototype whose stopband is *measured* to meet the request,
 //! and the report that states what was built.
 
-use crate::response::{self, MAX_MEASURE_FFT, OVERSAMPLE};
+use rayon::prelude::*;
+
+use crate::response::{Measurer, MAX_MEASURE_FFT, OVERSAMPLE};
 use crate::window::{bessel_i0, kaiser_at, kaiser_length};
 use crate::{Error, RatePair, Result};
 
@@ -251,17 +253,27 @@ fn windowed_sinc(phases: u64, half: usize, cutoff: f64, beta: f64) -> Vec<f64> {
     // Cutoff as a fraction of the prototype's Nyquist frequency.
     let wc = 2.0 * cutoff / phases as f64;
     let mut h = vec![0.0; len];
-    // Compute the first half and the centre; mirror for exact symmetry.
-    for n in 0..=half {
-        let x = wc * (n as f64 - half as f64);
-        let sinc = if x == 0.0 {
-            1.0
-        } else {
-            (core::f64::consts::PI * x).sin() / (core::f64::consts::PI * x)
-        };
-        let v = wc * sinc * kaiser_at(n as f64, len, beta, i0b);
-        h[n] = v;
-        h[len - 1 - n] = v;
+    // Compute the first half and the centre (in parallel pieces: each tap depends only on
+    // its index); mirror for exact symmetry.
+    const PIECE: usize = 4096;
+    h[..=half]
+        .par_chunks_mut(PIECE)
+        .enumerate()
+        .for_each(|(i, piece)| {
+            for (j, v) in piece.iter_mut().enumerate() {
+                let n = i * PIECE + j;
+                let x = wc * (n as f64 - half as f64);
+                let sinc = if x == 0.0 {
+                    1.0
+                } else {
+                    (core::f64::consts::PI * x).sin() / (core::f64::consts::PI * x)
+                };
+                *v = wc * sinc * kaiser_at(n as f64, len, beta, i0b);
+            }
+        });
+    let (head, tail) = h.split_at_mut(half + 1);
+    for (t, &v) in tail.iter_mut().zip(head[..half].iter().rev()) {
+        *t = v;
     }
     let sum: f64 = h.iter().sum();
     for v in &mut h {
@@ -296,6 +308,8 @@ fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> {
 
     let mut target = requested;
     let mut best = f64::NEG_INFINITY;
+    // One set of FFT plans and buffers for every attempt.
+    let mut measurer = Measurer::new();
     for attempt in 1..=MAX_ATTEMPTS {
         let (taps, beta) = kaiser_length(target, width);
         let half = taps / 2; // odd length 2 half + 1 >= taps
@@ -319,8 +333,12 @@ fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> {
             let h = (half as f64 * phases as f64 / up as f64).round() as usize;
             (phases, h)
         };
-        let probe = windowed_sinc(m_phases, m_half, cutoff, beta);
-        let m = response::measure(
+        // The FFT is planned while the taps are computed.
+        let ((), probe) = rayon::join(
+            || measurer.prepare(2 * m_half + 1),
+            || windowed_sinc(m_phases, m_half, cutoff, beta),
+        );
+        let m = measurer.measure(
             &probe,
             f_pass / (in_rate * m_phases as f64),
             f_stop / (in_rate * m_phases as f64),
@@ -386,6 +404,7 @@ fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::response;
 
     #[test]
     fn prototype_is_odd_symmetric_unity_dc() {

@@ -1,6 +1,8 @@
 //! Measuring a symmetric FIR prototype's magnitude response on a dense grid (zero-padded FFT
 //! with peak refinement), so that a design's stopband and ripple are measured, not assumed.
 
+use rayon::prelude::*;
+use realfft::num_complex::Complex;
 use realfft::RealFftPlanner;
 
 /// Largest FFT the design measurement will run (points). Larger prototypes are measured on
@@ -43,70 +45,195 @@ impl Measured {
 /// [`MAX_MEASURE_FFT`]); the stopband's local peaks that could hold the maximum are refined
 /// on the exact response, and both band edges are evaluated exactly, so lobe tops between
 /// grid points are not missed.
+///
+/// Each call plans its FFT afresh; to measure several filters, a [`Measurer`] keeps the plans
+/// and buffers between calls (same results, bit for bit).
 pub fn measure(taps: &[f64], pass: f64, stop: f64) -> Measured {
-    let n = taps.len().max(1);
-    let size = smooth_at_least(n * OVERSAMPLE).clamp(4096, MAX_MEASURE_FFT);
-    let mut planner = RealFftPlanner::<f64>::new();
-    let fft = planner.plan_fft_forward(size);
-    let mut input = fft.make_input_vec();
-    let len = taps.len().min(size);
-    input[..len].copy_from_slice(&taps[..len]);
-    let mut spectrum = fft.make_output_vec();
-    // The buffers come from the plan itself, so their lengths always match.
-    if fft.process(&mut input, &mut spectrum).is_err() {
-        return Measured {
-            stopband_peak: f64::INFINITY,
-            passband_max: f64::INFINITY,
-            passband_min: 0.0,
-            dc: 1.0,
-        };
-    }
-    let mag: Vec<f64> = spectrum.iter().map(|c| c.norm_sqr().sqrt()).collect();
-    let bins = mag.len() - 1; // bin k is at frequency k / size; the last is 0.5
-    let pass_end = ((pass * size as f64).floor() as usize).min(bins);
-    let stop_start = ((stop * size as f64).ceil() as usize).min(bins);
+    Measurer::new().measure(taps, pass, stop)
+}
 
-    let (mut pmax, mut pmin) = (0.0_f64, f64::INFINITY);
-    for &m in &mag[..=pass_end] {
-        pmax = pmax.max(m);
-        pmin = pmin.min(m);
+/// [`measure`] with FFT plans and work buffers kept between calls, for measuring several
+/// filters in a row (a design's successive attempts). The results are bit-identical to
+/// [`measure`]'s.
+pub struct Measurer {
+    planner: RealFftPlanner<f64>,
+    /// FFT length the planner holds a plan for (0: none).
+    planned: usize,
+    input: Vec<f64>,
+    spectrum: Vec<Complex<f64>>,
+    scratch: Vec<Complex<f64>>,
+    mag: Vec<f64>,
+    peaks: Vec<(f64, usize)>,
+}
+
+impl std::fmt::Debug for Measurer {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("Measurer")
+            .field("buffer_len", &self.input.len())
+            .finish_non_exhaustive()
     }
-    // Every local peak of the grid that could still beat the best value found, largest
-    // first, refined by a golden-section search on the exact response within one bin either
-    // side. The narrowest lobes, next to the transition band of a Kaiser design, are about a
-    // third of 1 / taps wide, so the grid has five or more points across each and sits at
-    // most about 0.45 dB (a factor 0.9) under any lobe's top. (scipy.signal.freqz on a 16 x
-    // grid plus the exact edges agrees: see tests/reference_scipy.rs.)
-    const GRID_LOSS: f64 = 0.9;
-    let mut peaks: Vec<(f64, usize)> = (stop_start..=bins)
-        .filter(|&k| {
-            let m = mag[k];
-            (k == stop_start || m >= mag[k - 1]) && (k == bins || m >= mag[k + 1])
-        })
-        .map(|k| (mag[k], k))
-        .collect();
-    peaks.sort_by(|a, b| b.0.total_cmp(&a.0));
-    let mut speak = peaks.first().map_or(0.0, |p| p.0);
-    let bin = 1.0 / size as f64;
-    for &(m, k) in &peaks {
-        if m < speak * GRID_LOSS {
-            break;
+}
+
+impl Default for Measurer {
+    fn default() -> Self {
+        Self::new()
+    }
+}
+
+impl Measurer {
+    /// A measurer with no plans yet.
+    pub fn new() -> Self {
+        Self {
+            planner: RealFftPlanner::new(),
+            planned: 0,
+            input: Vec::new(),
+            spectrum: Vec::new(),
+            scratch: Vec::new(),
+            mag: Vec::new(),
+            peaks: Vec::new(),
         }
-        let f = k as f64 * bin;
-        let lo = (f - bin).max(stop);
-        let hi = (f + bin).min(0.5);
-        speak = speak.max(refine_peak(taps, lo, hi));
     }
-    // The band edges rarely fall on a grid point, and the response changes fastest there:
-    // evaluate them exactly.
-    let at_stop = magnitude_at(taps, stop);
-    let at_pass = magnitude_at(taps, pass);
-    Measured {
-        stopband_peak: speak.max(at_stop),
-        passband_max: pmax.max(at_pass),
-        passband_min: pmin.min(at_pass),
-        dc: mag[0],
+
+    /// Plan the FFT and size the buffers for measuring a filter of `taps_len` taps (what
+    /// [`Measurer::measure`] does first; calling it early, e.g. beside computing the taps,
+    /// takes that work off the critical path).
+    pub fn prepare(&mut self, taps_len: usize) {
+        let size = fft_size(taps_len);
+        self.forget_other_plans(size);
+        let Self {
+            planner,
+            input,
+            spectrum,
+            scratch,
+            mag,
+            ..
+        } = self;
+        // Planning (twiddle factors) and touching the buffers' pages run side by side.
+        let (fft, ()) = rayon::join(
+            || planner.plan_fft_forward(size),
+            || {
+                input.resize(size, 0.0);
+                spectrum.resize(size / 2 + 1, Complex::new(0.0, 0.0));
+                mag.resize(size / 2 + 1, 0.0);
+            },
+        );
+        scratch.resize(fft.get_scratch_len(), Complex::new(0.0, 0.0));
     }
+
+    /// Drop the plans of another FFT length (their twiddle tables are as large as the
+    /// buffers; one length at a time is kept).
+    fn forget_other_plans(&mut self, size: usize) {
+        if self.planned != size {
+            self.planner = RealFftPlanner::new();
+            self.planned = size;
+        }
+    }
+
+    /// Measure `taps` as [`measure`] does.
+    pub fn measure(&mut self, taps: &[f64], pass: f64, stop: f64) -> Measured {
+        let size = fft_size(taps.len());
+        self.forget_other_plans(size);
+        let fft = self.planner.plan_fft_forward(size);
+        // Buffers keep their allocation (and their pages) from one call to the next; only
+        // their contents are rewritten.
+        let len = taps.len().min(size);
+        self.input.clear();
+        self.input.extend_from_slice(&taps[..len]);
+        self.input.resize(size, 0.0);
+        // The FFT writes every output value and uses the scratch as scratch: their old
+        // contents do not matter.
+        self.spectrum.resize(size / 2 + 1, Complex::new(0.0, 0.0));
+        self.scratch
+            .resize(fft.get_scratch_len(), Complex::new(0.0, 0.0));
+        // The buffers are sized from the plan itself, so their lengths always match.
+        if fft
+            .process_with_scratch(&mut self.input, &mut self.spectrum, &mut self.scratch)
+            .is_err()
+        {
+            return Measured {
+                stopband_peak: f64::INFINITY,
+                passband_max: f64::INFINITY,
+                passband_min: 0.0,
+                dc: 1.0,
+            };
+        }
+        let mag = &mut self.mag;
+        mag.clear();
+        mag.extend(self.spectrum.iter().map(|c| c.norm_sqr().sqrt()));
+        let bins = mag.len() - 1; // bin k is at frequency k / size; the last is 0.5
+        let pass_end = ((pass * size as f64).floor() as usize).min(bins);
+        let stop_start = ((stop * size as f64).ceil() as usize).min(bins);
+
+        let (mut pmax, mut pmin) = (0.0_f64, f64::INFINITY);
+        for &m in &mag[..=pass_end] {
+            pmax = pmax.max(m);
+            pmin = pmin.min(m);
+        }
+        // Every local peak of the grid that could still beat the best value found, largest
+        // first, refined by a golden-section search on the exact response within one bin
+        // either side. The narrowest lobes, next to the transition band of a Kaiser design,
+        // are about a third of 1 / taps wide, so the grid has five or more points across
+        // each and sits at most about 0.45 dB (a factor 0.9) under any lobe's top.
+        // (scipy.signal.freqz on a 16 x grid plus the exact edges agrees: see
+        // tests/reference_scipy.rs.)
+        const GRID_LOSS: f64 = 0.9;
+        let peaks = &mut self.peaks;
+        peaks.clear();
+        peaks.extend(
+            (stop_start..=bins)
+                .filter(|&k| {
+                    let m = mag[k];
+                    (k == stop_start || m >= mag[k - 1]) && (k == bins || m >= mag[k + 1])
+                })
+                .map(|k| (mag[k], k)),
+        );
+        // Only peaks within GRID_LOSS of the largest can ever be refined (the running best
+        // starts there and only grows; the rest sort after them, and the first of them
+        // stops the walk). Those are refined in parallel, then taken in the same order,
+        // with the same stopping rule, as one at a time. (A NaN, from non-finite taps,
+        // would sort out of place: then every peak is kept.)
+        if !peaks.iter().any(|p| p.0.is_nan()) {
+            let first = peaks.iter().fold(0.0_f64, |a, p| a.max(p.0));
+            peaks.retain(|p| p.0 >= first * GRID_LOSS);
+        }
+        peaks.sort_by(|a, b| b.0.total_cmp(&a.0));
+        let mut speak = peaks.first().map_or(0.0, |p| p.0);
+        let bin = 1.0 / size as f64;
+        let peaks = &*peaks;
+        let (refined, (at_stop, at_pass)) = rayon::join(
+            || -> Vec<f64> {
+                peaks
+                    .par_iter()
+                    .map(|&(_, k)| {
+                        let f = k as f64 * bin;
+                        let lo = (f - bin).max(stop);
+                        let hi = (f + bin).min(0.5);
+                        refine_peak(taps, lo, hi)
+                    })
+                    .collect()
+            },
+            // The band edges rarely fall on a grid point, and the response changes fastest
+            // there: evaluate them exactly.
+            || rayon::join(|| magnitude_at(taps, stop), || magnitude_at(taps, pass)),
+        );
+        for (&(m, _), &r) in peaks.iter().zip(&refined) {
+            if m < speak * GRID_LOSS {
+                break;
+            }
+            speak = speak.max(r);
+        }
+        Measured {
+            stopband_peak: speak.max(at_stop),
+            passband_max: pmax.max(at_pass),
+            passband_min: pmin.min(at_pass),
+            dc: mag[0],
+        }
+    }
+}
+
+/// FFT length [`measure`] uses for a filter of `taps_len` taps.
+fn fft_size(taps_len: usize) -> usize {
+    smooth_at_least(taps_len.max(1) * OVERSAMPLE).clamp(4096, MAX_MEASURE_FFT)
 }
 
 /// Smallest even number at or above `n` with no prime factor above 5 (fast FFT sizes).

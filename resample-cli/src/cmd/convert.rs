@@ -106,7 +106,7 @@ pub fn run(args: &ConvertArgs) -> Result<ExitCode> {
         (Some(b), false) => Encoding::int(b.parse().unwrap_or(0)),
         (None, false) => None,
     };
-    let settings = Settings {
+    let mut settings = Settings {
         out_rate: args.out_rate,
         stopband_db: args.stopband_db,
         passband: args.passband,
@@ -118,6 +118,7 @@ pub fn run(args: &ConvertArgs) -> Result<ExitCode> {
         gain_db: args.gain,
         sanitize: args.sanitize,
         force: args.force,
+        pipeline: false,
     };
     if !args.gain.is_finite() {
         return usage("--gain must be a finite number of dB");
@@ -166,6 +167,9 @@ pub fn run(args: &ConvertArgs) -> Result<ExitCode> {
         .jobs
         .map(|j| j as usize)
         .unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()));
+    // Files run in parallel, one per worker; a file also gets a reader and a writer thread
+    // when there are fewer files than workers (otherwise every core already has a file).
+    settings.pipeline = tasks.len() < jobs;
     let pool = rayon::ThreadPoolBuilder::new()
         .num_threads(jobs)
         .build()

@@ -3,10 +3,13 @@
 //! the output format ([`crate::quality`]).
 
 mod cache;
+mod pipeline;
 mod report;
+mod segments;
 
 use std::path::Path;
 use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::Arc;
 use std::time::Instant;
 
 use resample_core::{Design, Sample, StreamConverter};
@@ -41,11 +44,15 @@ pub struct Settings {
     pub sanitize: bool,
     /// Replace an existing output file.
     pub force: bool,
+    /// Read and decode, and requantize and write, on two helper threads, and convert
+    /// segments of the file side by side on rayon's pool (for a file converted while cores
+    /// are free). The output is the same either way.
+    pub pipeline: bool,
 }
 
 impl Settings {
     /// Defaults for `out_rate`: stopband by format, passband 0.91, keep the encoding, TPDF
-    /// dither, no gain, refuse non-finite samples, never overwrite.
+    /// dither, no gain, refuse non-finite samples, never overwrite, pipelined.
     pub fn new(out_rate: u32) -> Self {
         Self {
             out_rate,
@@ -56,6 +63,7 @@ impl Settings {
             gain_db: 0.0,
             sanitize: false,
             force: false,
+            pipeline: true,
         }
     }
 }
@@ -114,40 +122,44 @@ pub fn convert_file(
         .stopband_db
         .unwrap_or_else(|| default_stopband_db(encoding));
     let precision = precision_for(encoding);
-    let design = designs.get(
-        info.sample_rate,
-        settings.out_rate,
-        stopband,
-        settings.passband,
-    )?;
-    let frames_out = design.pair().output_len(info.frames);
-    let opts = WriterOptions {
-        sample_rate: settings.out_rate,
-        channels: info.channels,
-        encoding,
-        dither: settings.dither,
-        force: settings.force,
-        expected_frames: Some(frames_out),
+    // Designing the filter and creating the output: done by the engine once the input is
+    // being read (the pipelined engine reads ahead meanwhile).
+    let setup = || -> Result<(Arc<Design>, WavWriter), ConvertError> {
+        let design = designs.get(
+            info.sample_rate,
+            settings.out_rate,
+            stopband,
+            settings.passband,
+        )?;
+        let opts = WriterOptions {
+            sample_rate: settings.out_rate,
+            channels: info.channels,
+            encoding,
+            dither: settings.dither,
+            force: settings.force,
+            expected_frames: Some(design.pair().output_len(info.frames)),
+        };
+        let writer = WavWriter::create(output, &opts)?;
+        Ok((design, writer))
     };
-    let mut writer = WavWriter::create(output, &opts)?;
     let non_finite = if settings.sanitize {
         NonFinite::Zero
     } else {
         NonFinite::Refuse
     };
-    let gain = 10f64.powf(settings.gain_db / 20.0);
-    let bytes_per_frame = u64::from(info.channels) * u64::from(info.encoding.bytes());
     let run = Run {
-        design: &design,
-        gain,
+        gain: 10f64.powf(settings.gain_db / 20.0),
         non_finite,
-        bytes_per_frame,
+        bytes_per_frame: u64::from(info.channels) * u64::from(info.encoding.bytes()),
         ctl,
     };
-    match precision {
-        Precision::F32 => run.stream::<f32>(&mut reader, &mut writer)?,
-        Precision::F64 => run.stream::<f64>(&mut reader, &mut writer)?,
-    }
+    let (design, writer) = match (precision, settings.pipeline) {
+        (Precision::F32, false) => run.sequential::<f32>(&mut reader, setup)?,
+        (Precision::F64, false) => run.sequential::<f64>(&mut reader, setup)?,
+        (Precision::F32, true) => run.pipelined::<f32>(&mut reader, setup)?,
+        (Precision::F64, true) => run.pipelined::<f64>(&mut reader, setup)?,
+    };
+    let frames_out = design.pair().output_len(info.frames);
     if writer.frames() != frames_out {
         return Err(ConvertError::Length {
             written: writer.frames(),
@@ -181,8 +193,8 @@ pub fn convert_file(
     })
 }
 
+/// What the engines need besides the design.
 struct Run<'a> {
-    design: &'a Design,
     gain: f64,
     non_finite: NonFinite,
     bytes_per_frame: u64,
@@ -190,51 +202,104 @@ struct Run<'a> {
 }
 
 impl Run<'_> {
-    fn stream<T: Sample>(
+    /// Read one block of at most [`BLOCK_FRAMES`] frames into `buf` (resized to what was
+    /// read), gain applied. Returns the frames read; 0 at the end.
+    fn read_block<T: Sample>(
         &self,
         reader: &mut WavReader,
-        writer: &mut WavWriter,
-    ) -> Result<(), ConvertError> {
+        buf: &mut Vec<T>,
+    ) -> Result<usize, ConvertError> {
         let ch = usize::from(reader.info().channels);
-        let mut conv = StreamConverter::<T>::new(self.design, ch)?;
-        let out_frames = usize::try_from(self.design.pair().output_len(BLOCK_FRAMES as u64))
-            .unwrap_or(BLOCK_FRAMES)
-            .max(1)
-            + 1;
-        let mut inb = vec![T::zero(); BLOCK_FRAMES * ch];
-        let mut outb = vec![T::zero(); out_frames * ch];
-        let gain = T::from_f64_lossy(self.gain);
-        let apply_gain = self.gain != 1.0;
+        buf.resize(BLOCK_FRAMES * ch, T::zero());
+        let n = reader.read_frames(buf, self.non_finite)?;
+        buf.truncate(n * ch);
+        if self.gain != 1.0 {
+            let gain = T::from_f64_lossy(self.gain);
+            buf.iter_mut().for_each(|v| *v = *v * gain);
+        }
+        Ok(n)
+    }
+
+    /// Everything on this thread: read a block, convert it, write the result.
+    fn sequential<T: Sample>(
+        &self,
+        reader: &mut WavReader,
+        setup: impl FnOnce() -> Result<(Arc<Design>, WavWriter), ConvertError>,
+    ) -> Result<(Arc<Design>, WavWriter), ConvertError> {
+        let (design, mut writer) = setup()?;
+        let mut engine = Engine::<T>::new(&design, usize::from(reader.info().channels))?;
+        let mut inb = Vec::new();
+        let mut emit = |out: &mut Vec<T>, n: usize| writer.write_frames(&out[..n]);
         loop {
             if self.ctl.cancel.load(Ordering::Relaxed) {
                 return Err(WavError::Interrupted.into());
             }
-            let n = reader.read_frames(&mut inb, self.non_finite)?;
+            let n = self.read_block(reader, &mut inb)?;
             if n == 0 {
                 break;
             }
-            let block = &mut inb[..n * ch];
-            if apply_gain {
-                block.iter_mut().for_each(|v| *v = *v * gain);
-            }
-            let mut off = 0;
-            while off < n {
-                let p = conv.process_interleaved(&block[off * ch..], &mut outb)?;
-                writer.write_frames(&outb[..p.frames_written * ch])?;
-                off += p.frames_read;
-                if p.frames_read == 0 && p.frames_written == 0 {
-                    break;
-                }
-            }
+            engine.block(&inb, &mut emit)?;
             (self.ctl.progress)(n as u64 * self.bytes_per_frame);
         }
-        loop {
-            let k = conv.flush_interleaved(&mut outb)?;
-            if k == 0 {
+        engine.flush(&mut emit)?;
+        Ok((design, writer))
+    }
+}
+
+/// The converter and its output buffer.
+pub(crate) struct Engine<T> {
+    conv: StreamConverter<T>,
+    ch: usize,
+    out: Vec<T>,
+}
+
+impl<T: Sample> Engine<T> {
+    pub(crate) fn new(design: &Design, ch: usize) -> Result<Self, ConvertError> {
+        let conv = StreamConverter::<T>::new(design, ch)?;
+        let out_frames = usize::try_from(design.pair().output_len(BLOCK_FRAMES as u64))
+            .unwrap_or(BLOCK_FRAMES)
+            .max(1)
+            + 1;
+        Ok(Self {
+            conv,
+            ch,
+            out: vec![T::zero(); out_frames * ch],
+        })
+    }
+
+    /// Convert one block of interleaved input; `emit(buffer, samples)` takes each piece of
+    /// output (it may swap the buffer for another of the same length).
+    pub(crate) fn block<E>(&mut self, input: &[T], emit: &mut E) -> Result<(), ConvertError>
+    where
+        E: FnMut(&mut Vec<T>, usize) -> Result<(), WavError>,
+    {
+        let ch = self.ch;
+        let n = input.len() / ch;
+        let mut off = 0;
+        while off < n {
+            let p = self
+                .conv
+                .process_interleaved(&input[off * ch..], &mut self.out)?;
+            emit(&mut self.out, p.frames_written * ch)?;
+            off += p.frames_read;
+            if p.frames_read == 0 && p.frames_written == 0 {
                 break;
             }
-            writer.write_frames(&outb[..k * ch])?;
         }
         Ok(())
+    }
+
+    /// The converter's tail after the last block.
+    pub(crate) fn flush<E>(&mut self, emit: &mut E) -> Result<(), ConvertError>
+    where
+        E: FnMut(&mut Vec<T>, usize) -> Result<(), WavError>,
+    {
+        loop {
+            let k = self.conv.flush_interleaved(&mut self.out)?;
+            if k == 0 {
+                return Ok(());
+            }
+            emit(&mut self.out, k * self.ch)?;
+        }
     }
 }

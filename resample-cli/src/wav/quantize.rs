@@ -1,6 +1,8 @@
 //! From floating-point samples (full scale ±1.0) to the codes of the output encoding:
 //! dither, round, clip what does not fit, and keep count of level and overs.
 
+use resample_core::Sample;
+
 use super::dither::{Dither, Tpdf, DITHER_SEED};
 use super::encoding::Encoding;
 
@@ -101,6 +103,35 @@ impl Quantizer {
         x as f32
     }
 
+    /// [`Quantizer::to_float`] for each of `xs`, handing sample `i`'s value to `put(i, v)`:
+    /// the same values and the same level figures, with the scan for peak and overs spread
+    /// over independent lanes so that it vectorizes.
+    #[inline]
+    pub fn to_floats<T: Sample>(&mut self, xs: &[T], mut put: impl FnMut(usize, f32)) {
+        const LANES: usize = 8;
+        let mut peak = [0.0_f64; LANES];
+        let mut over = [0_u64; LANES];
+        for (c, chunk) in xs.chunks(LANES).enumerate() {
+            for (j, x) in chunk.iter().enumerate() {
+                let x = x.to_f64_exact();
+                let a = x.abs();
+                // As in `observe`: a NaN never becomes the peak.
+                if a > peak[j] {
+                    peak[j] = a;
+                }
+                over[j] += u64::from(a > 1.0);
+                put(c * LANES + j, x as f32);
+            }
+        }
+        self.stats.samples += xs.len() as u64;
+        for (p, o) in peak.into_iter().zip(over) {
+            if p > self.stats.peak {
+                self.stats.peak = p;
+            }
+            self.stats.over += o;
+        }
+    }
+
     #[inline]
     fn observe(&mut self, x: f64) {
         self.stats.samples += 1;
@@ -174,6 +205,27 @@ mod tests {
             let x = f64::from(i) / 32768.0;
             assert_eq!(q.to_code(x), i);
             assert_eq!(q.to_code(0.0), 0);
+        }
+    }
+
+    #[test]
+    fn block_of_floats_is_sample_by_sample() {
+        // Odd length (a partial last lane group), NaN and overs of both signs included.
+        let xs: Vec<f64> = (0..1003)
+            .map(|i| match i {
+                17 => f64::NAN,
+                500 => -3.5,
+                _ => 1.3 * (i as f64 * 0.37).sin(),
+            })
+            .collect();
+        let mut one = Quantizer::new(Encoding::Float32, Dither::None);
+        let expect: Vec<f32> = xs.iter().map(|&x| one.to_float(x)).collect();
+        let mut block = Quantizer::new(Encoding::Float32, Dither::None);
+        let mut got = vec![0.0_f32; xs.len()];
+        block.to_floats(&xs, |i, v| got[i] = v);
+        assert_eq!(one.stats(), block.stats());
+        for (a, b) in expect.iter().zip(&got) {
+            assert_eq!(a.to_bits(), b.to_bits());
         }
     }
 

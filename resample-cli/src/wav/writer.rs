@@ -3,7 +3,7 @@
 //! that becomes the final file only on [`WavWriter::finish`].
 
 use std::fs::File;
-use std::io::BufWriter;
+use std::io::{self, BufWriter, Seek, SeekFrom, Write};
 use std::path::Path;
 
 use resample_core::Sample;
@@ -50,13 +50,29 @@ impl WriterOptions {
     }
 }
 
+/// Samples encoded per chunk of bytes handed to the file.
+const ENCODE_CHUNK: usize = 16 << 10;
+
 /// A WAV file being written.
+///
+/// The header is the one `hound` writes for the spec (made in memory); the sample bytes are
+/// encoded here in chunks, exactly as hound encodes them one at a time, and the two size
+/// fields are completed on [`WavWriter::finish`] as hound completes them.
 pub struct WavWriter {
-    inner: Option<hound::WavWriter<BufWriter<File>>>,
+    out: Option<BufWriter<File>>,
     staged: StagedFile,
     quant: Quantizer,
     channels: u16,
     frames: u64,
+    /// Length of the header; the data chunk's size field is its last 4 bytes.
+    header_len: u32,
+    /// Bytes of audio written.
+    data_bytes: u64,
+    bytes: Vec<u8>,
+    /// Write back to the disk every this many bytes (0: only on finish).
+    sync_every: u64,
+    /// `data_bytes` at the last write-back.
+    synced: u64,
 }
 
 impl std::fmt::Debug for WavWriter {
@@ -75,6 +91,41 @@ fn map_write(e: hound::Error) -> WavError {
     }
 }
 
+/// The header hound writes for `spec` (RIFF, format chunk, data chunk header), sizes 0.
+fn header(spec: hound::WavSpec) -> Result<Vec<u8>, WavError> {
+    let mut buf = io::Cursor::new(Vec::new());
+    hound::WavWriter::new(&mut buf, spec)
+        .and_then(|w| w.finalize())
+        .map_err(map_write)?;
+    Ok(buf.into_inner())
+}
+
+/// Requantize `samples` and append their bytes to `bytes` as hound 3.5 writes them
+/// (`Sample::write_padded`: little-endian; 8-bit unsigned with offset 128).
+fn encode<T: Sample>(quant: &mut Quantizer, samples: &[T], bytes: &mut Vec<u8>) {
+    match quant.encoding() {
+        Encoding::Float32 => {
+            let start = bytes.len();
+            bytes.resize(start + 4 * samples.len(), 0);
+            let out = &mut bytes[start..];
+            quant.to_floats(samples, |i, v| {
+                out[4 * i..4 * i + 4].copy_from_slice(&v.to_le_bytes());
+            });
+        }
+        Encoding::Int(bits) => {
+            for &s in samples {
+                let c = quant.to_code(s.to_f64_exact());
+                match bits {
+                    8 => bytes.push((c + 128) as u8),
+                    16 => bytes.extend_from_slice(&(c as i16).to_le_bytes()),
+                    24 => bytes.extend_from_slice(&c.to_le_bytes()[..3]),
+                    _ => bytes.extend_from_slice(&c.to_le_bytes()),
+                }
+            }
+        }
+    }
+}
+
 impl WavWriter {
     /// Start writing `path` (through a temporary file beside it).
     pub fn create(path: &Path, opts: &WriterOptions) -> Result<Self, WavError> {
@@ -84,22 +135,36 @@ impl WavWriter {
         if let Some(frames) = opts.expected_frames {
             check_riff_size(frames, opts.channels, opts.encoding)?;
         }
-        let (staged, file) = StagedFile::create(path, opts.force)?;
         let spec = opts.encoding.spec(opts.sample_rate, opts.channels);
-        let inner = hound::WavWriter::new(BufWriter::with_capacity(WRITE_BUFFER, file), spec)
-            .map_err(map_write)?;
+        let header = header(spec)?;
+        let (staged, file) = StagedFile::create(path, opts.force)?;
+        let mut out = BufWriter::with_capacity(WRITE_BUFFER, file);
+        out.write_all(&header)
+            .map_err(|e| WavError::io("cannot write", e))?;
         Ok(Self {
-            inner: Some(inner),
+            out: Some(out),
             staged,
             quant: Quantizer::new(opts.encoding, opts.dither),
             channels: opts.channels,
             frames: 0,
+            header_len: header.len() as u32,
+            data_bytes: 0,
+            bytes: Vec::new(),
+            sync_every: 0,
+            synced: 0,
         })
     }
 
     /// Whether dither is being added.
     pub fn dithers(&self) -> bool {
         self.quant.dithers()
+    }
+
+    /// Have the data written back to the disk every `bytes` bytes as it comes, rather than
+    /// all at once by [`WavWriter::finish`] (which still makes the whole file durable): for
+    /// a writer on a thread of its own, so that little is left to wait for at the end.
+    pub fn sync_every(&mut self, bytes: u64) {
+        self.sync_every = bytes;
     }
 
     /// Frames written so far.
@@ -116,24 +181,31 @@ impl WavWriter {
                 channels: self.channels,
             });
         }
-        let Some(w) = self.inner.as_mut() else {
+        let Some(out) = self.out.as_mut() else {
             return Err(WavError::Malformed("writer already finished".into()));
         };
-        match self.quant.encoding() {
-            Encoding::Float32 => {
-                for &s in samples {
-                    w.write_sample(self.quant.to_float(s.to_f64_exact()))
-                        .map_err(map_write)?;
-                }
-            }
-            Encoding::Int(_) => {
-                for &s in samples {
-                    w.write_sample(self.quant.to_code(s.to_f64_exact()))
-                        .map_err(map_write)?;
-                }
-            }
+        let width = usize::from(self.quant.encoding().bytes());
+        let total = self.data_bytes + (samples.len() * width) as u64;
+        // The RIFF size field must hold the header and the data (hound's limit too).
+        if total + u64::from(self.header_len) - 8 > u64::from(u32::MAX) {
+            return Err(WavError::Malformed(
+                "more audio than a WAV file can hold (4 GiB)".into(),
+            ));
         }
+        for chunk in samples.chunks(ENCODE_CHUNK) {
+            self.bytes.clear();
+            encode(&mut self.quant, chunk, &mut self.bytes);
+            out.write_all(&self.bytes)
+                .map_err(|e| WavError::io("cannot write", e))?;
+        }
+        self.data_bytes = total;
         self.frames += (samples.len() / ch) as u64;
+        if self.sync_every > 0 && total - self.synced >= self.sync_every {
+            self.synced = total;
+            out.flush()
+                .and_then(|()| out.get_ref().sync_data())
+                .map_err(|e| WavError::io("cannot write", e))?;
+        }
         Ok(())
     }
 
@@ -144,8 +216,19 @@ impl WavWriter {
 
     /// Complete the header, make the file durable and move it to its final name.
     pub fn finish(mut self) -> Result<LevelStats, WavError> {
-        if let Some(w) = self.inner.take() {
-            w.finalize().map_err(map_write)?;
+        if let Some(mut out) = self.out.take() {
+            // The two size fields hound fills in when finalizing: the RIFF chunk (everything
+            // after its first 8 bytes) and the data chunk. Both fit: checked on every write.
+            let data = self.data_bytes as u32;
+            let riff = data + self.header_len - 8;
+            let fill = |out: &mut BufWriter<File>| -> io::Result<()> {
+                out.seek(SeekFrom::Start(4))?;
+                out.write_all(&riff.to_le_bytes())?;
+                out.seek(SeekFrom::Start(u64::from(self.header_len) - 4))?;
+                out.write_all(&data.to_le_bytes())?;
+                out.flush()
+            };
+            fill(&mut out).map_err(|e| WavError::io("cannot write", e))?;
         }
         let stats = self.quant.stats();
         self.staged.commit()?;
@@ -157,6 +240,54 @@ impl WavWriter {
 mod tests {
     use super::*;
     use crate::wav::{NonFinite, WavReader};
+
+    #[test]
+    fn bytes_match_hound_sample_by_sample() {
+        // The same samples through hound's own per-sample writer, with a quantizer of the same
+        // settings: the files must be identical, header and size fields included.
+        let dir = tempfile::tempdir().unwrap();
+        for enc in [
+            Encoding::Int(8),
+            Encoding::Int(16),
+            Encoding::Int(24),
+            Encoding::Int(32),
+            Encoding::Float32,
+        ] {
+            for channels in [1u16, 2, 6] {
+                for dither in [Dither::Tpdf, Dither::None] {
+                    let x: Vec<f64> = (0..40_000 * usize::from(channels))
+                        .map(|i| 1.2 * ((i as f64) * 0.001_37).sin())
+                        .collect();
+                    let ours = dir.path().join("ours.wav");
+                    let mut opts = WriterOptions::new(44_100, channels, enc);
+                    opts.dither = dither;
+                    opts.force = true;
+                    let mut w = WavWriter::create(&ours, &opts).unwrap();
+                    // Uneven pieces, so chunk edges fall anywhere.
+                    for piece in x.chunks(777 * usize::from(channels)) {
+                        w.write_frames(piece).unwrap();
+                    }
+                    w.finish().unwrap();
+                    let theirs = dir.path().join("theirs.wav");
+                    let mut h =
+                        hound::WavWriter::create(&theirs, enc.spec(44_100, channels)).unwrap();
+                    let mut q = Quantizer::new(enc, dither);
+                    for &v in &x {
+                        match enc {
+                            Encoding::Float32 => h.write_sample(q.to_float(v)).unwrap(),
+                            Encoding::Int(_) => h.write_sample(q.to_code(v)).unwrap(),
+                        }
+                    }
+                    h.finalize().unwrap();
+                    let (a, b) = (
+                        std::fs::read(&ours).unwrap(),
+                        std::fs::read(&theirs).unwrap(),
+                    );
+                    assert!(a == b, "{enc} x{channels} {dither:?}");
+                }
+            }
+        }
+    }
 
     #[test]
     fn round_trip_every_encoding() {

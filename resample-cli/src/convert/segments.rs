@@ -1,0 +1,260 @@
+//! Cutting one conversion into segments that can be converted at the same time on several
+//! cores, each by a converter of its own, with the same result as one converter run over
+//! the whole file.
+//!
+//! Output frame `m` depends only on the input frames under the filter around input time
+//! `m M / L`. A segment covers the outputs of the input frames `[a, b)`, `a` and `b`
+//! multiples of M (so `a L / M` is a whole output index and the phase pattern starts as
+//! at the beginning of the file). Its converter starts from silence at frame
+//! `a - P` (`P` a multiple of M at least one filter span), so the history it sees before
+//! its first kept output is the file's own; the first `P L / M` outputs, made partly from
+//! that silence, are dropped.
+
+use resample_core::{Design, Sample, StreamConverter};
+
+use super::ConvertError;
+
+/// Input samples (frames times channels) per segment, aimed at.
+const SEGMENT_SAMPLES: usize = 1 << 16;
+/// A segment is at least this many times as long as the input it re-reads before it.
+const MIN_SEGMENT_TO_PRIME: usize = 16;
+/// Segments longer than this many times the aim are not made (the engine then converts in
+/// one piece).
+const MAX_OVER_AIM: u64 = 16;
+
+/// How a file of `frames_in` frames is cut.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Cuts {
+    up: u64,
+    down: u64,
+    half: u64,
+    frames_in: u64,
+    /// Input frames per segment (a multiple of M).
+    seg: u64,
+    /// Input frames re-read before a segment (a multiple of M).
+    prime: u64,
+}
+
+/// One segment: the input it reads and the output it keeps.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) struct Segment {
+    /// First input frame read.
+    pub start: u64,
+    /// One past the last input frame read.
+    pub end: u64,
+    /// Outputs made and dropped first.
+    pub skip: usize,
+    /// Outputs kept.
+    pub keep: usize,
+    /// The input reaches the end of the file: the converter is flushed.
+    pub last: bool,
+}
+
+impl Cuts {
+    /// Cuts for `design` over `frames_in` frames of `channels` channels, or `None` when
+    /// segments would be too short to be worth it (very many channels, or a filter very
+    /// long against the segment).
+    pub(crate) fn new(design: &Design, frames_in: u64, channels: usize) -> Option<Self> {
+        let pair = design.pair();
+        let (up, down) = (u64::from(pair.up()), u64::from(pair.down()));
+        let span = (design.taps().len() as u64).div_ceil(up) + 1;
+        let prime = span.div_ceil(down) * down;
+        let aim = (SEGMENT_SAMPLES / channels.max(1)) as u64;
+        // Long enough against the re-read, but never many times the aim (memory).
+        let seg = aim.max(MIN_SEGMENT_TO_PRIME as u64 * prime).div_ceil(down) * down;
+        if seg > MAX_OVER_AIM * aim.max(1) {
+            return None;
+        }
+        Some(Self {
+            up,
+            down,
+            half: design.half() as u64,
+            frames_in,
+            seg,
+            prime,
+        })
+    }
+
+    /// Number of segments.
+    pub(crate) fn count(&self) -> u64 {
+        self.frames_in.div_ceil(self.seg)
+    }
+
+    /// Input frames covered by segment `j` (its share of the file, without the re-read).
+    pub(crate) fn covered(&self, j: u64) -> u64 {
+        let a = j * self.seg;
+        (a + self.seg).min(self.frames_in).saturating_sub(a)
+    }
+
+    /// Segment `j` (`j < count()`).
+    pub(crate) fn segment(&self, j: u64) -> Segment {
+        let a = j * self.seg;
+        let b = (a + self.seg).min(self.frames_in);
+        let start = a.saturating_sub(self.prime);
+        // `start` and `a` are multiples of M: whole output indices.
+        let skip = (a - start) * self.up / self.down;
+        let out_end = out_len(b, self.up, self.down);
+        let keep = out_end - a * self.up / self.down;
+        // Input needed for local output `skip + keep - 1`: it is ready once
+        // `k M + half < n L` (the stream's rule), i.e. n = floor((k M + half) / L) + 1.
+        let need = if skip + keep == 0 {
+            0
+        } else {
+            ((skip + keep - 1) * self.down + self.half) / self.up + 1
+        };
+        let end = (start + need).min(self.frames_in);
+        Segment {
+            start,
+            end,
+            skip: skip as usize,
+            keep: keep as usize,
+            last: end == self.frames_in,
+        }
+    }
+}
+
+fn out_len(frames: u64, up: u64, down: u64) -> u64 {
+    (u128::from(frames) * u128::from(up)).div_ceil(u128::from(down)) as u64
+}
+
+/// Convert one segment: `pieces` hold its input frames `[start, end)`, interleaved, in
+/// order; `out` gets the kept outputs, interleaved. `conv` is reset first.
+pub(crate) fn convert_segment<T: Sample>(
+    conv: &mut StreamConverter<T>,
+    seg: &Segment,
+    pieces: &[&[T]],
+    out: &mut Vec<T>,
+) -> Result<(), ConvertError> {
+    let ch = conv.channels();
+    conv.reset();
+    let total = seg.skip + seg.keep;
+    // Every sample is written below: a recycled buffer is only cut or grown to size.
+    if out.len() >= total * ch {
+        out.truncate(total * ch);
+    } else {
+        out.resize(total * ch, T::zero());
+    }
+    let mut written = 0;
+    for piece in pieces {
+        let frames = piece.len() / ch;
+        let mut read = 0;
+        while read < frames && written < total {
+            let p = conv.process_interleaved(&piece[read * ch..], &mut out[written * ch..])?;
+            read += p.frames_read;
+            written += p.frames_written;
+            if p.frames_read == 0 && p.frames_written == 0 {
+                break;
+            }
+        }
+    }
+    while seg.last && written < total {
+        let k = conv.flush_interleaved(&mut out[written * ch..])?;
+        if k == 0 {
+            break;
+        }
+        written += k;
+    }
+    if written != total {
+        return Err(ConvertError::Length {
+            written: written as u64,
+            expected: total as u64,
+        });
+    }
+    out.drain(..seg.skip * ch);
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use resample_core::FilterSpec;
+
+    /// One converter over everything, in blocks, then flushed.
+    fn straight<T: Sample>(design: &Design, x: &[T], ch: usize) -> Vec<T> {
+        let mut conv = StreamConverter::<T>::new(design, ch).unwrap();
+        let mut y = Vec::new();
+        let mut out = vec![T::zero(); 4096 * ch];
+        for block in x.chunks(1000 * ch) {
+            let mut off = 0;
+            while off < block.len() / ch {
+                let p = conv
+                    .process_interleaved(&block[off * ch..], &mut out)
+                    .unwrap();
+                y.extend_from_slice(&out[..p.frames_written * ch]);
+                off += p.frames_read;
+            }
+        }
+        loop {
+            let k = conv.flush_interleaved(&mut out).unwrap();
+            if k == 0 {
+                break;
+            }
+            y.extend_from_slice(&out[..k * ch]);
+        }
+        y
+    }
+
+    fn segmented<T: Sample>(design: &Design, x: &[T], ch: usize) -> Option<Vec<T>> {
+        let frames = (x.len() / ch) as u64;
+        let cuts = Cuts::new(design, frames, ch)?;
+        let mut conv = StreamConverter::<T>::new(design, ch).unwrap();
+        let mut y = Vec::new();
+        let mut out = Vec::new();
+        // Backwards, to show the segments do not depend on each other.
+        let mut pieces = Vec::new();
+        for j in (0..cuts.count()).rev() {
+            let s = cuts.segment(j);
+            // In two pieces, cut anywhere.
+            let input = &x[s.start as usize * ch..s.end as usize * ch];
+            let cut = (input.len() / ch / 3) * ch;
+            let (p, q) = input.split_at(cut);
+            convert_segment(&mut conv, &s, &[p, q], &mut out).unwrap();
+            pieces.push(out.clone());
+        }
+        for p in pieces.iter().rev() {
+            y.extend_from_slice(p);
+        }
+        Some(y)
+    }
+
+    fn check<T: Sample>(in_rate: u32, out_rate: u32, db: f64, ch: usize, frames: usize) {
+        let design = FilterSpec::new(in_rate, out_rate)
+            .stopband_db(db)
+            .design()
+            .unwrap();
+        let x: Vec<T> = (0..frames * ch)
+            .map(|i| {
+                let t = (i / ch) as f64;
+                T::from_f64_lossy(0.7 * (t * 0.013 * (1 + i % ch) as f64).sin() + 1e-3)
+            })
+            .collect();
+        let a = straight(&design, &x, ch);
+        let b = segmented(&design, &x, ch).expect("segments");
+        assert_eq!(a.len(), b.len(), "{in_rate}->{out_rate} x{ch}");
+        assert_eq!(
+            a.len() as u64,
+            design.pair().output_len(frames as u64) * ch as u64
+        );
+        for (i, (p, q)) in a.iter().zip(&b).enumerate() {
+            assert_eq!(
+                p.to_f64_exact().to_bits(),
+                q.to_f64_exact().to_bits(),
+                "{in_rate}->{out_rate} x{ch}: sample {i}"
+            );
+        }
+    }
+
+    #[test]
+    fn segments_give_the_straight_result_bit_for_bit() {
+        check::<f64>(44_100, 48_000, 140.0, 2, 200_000);
+        check::<f32>(44_100, 48_000, 110.0, 2, 150_001);
+        check::<f64>(48_000, 44_100, 160.0, 1, 150_000);
+        check::<f32>(96_000, 44_100, 120.0, 2, 120_007);
+        check::<f64>(8_000, 44_100, 100.0, 6, 40_000);
+        check::<f32>(44_100, 16_000, 110.0, 2, 100_000);
+        check::<f64>(44_056, 48_000, 100.0, 2, 200_000);
+        // Shorter than one segment, and exactly one segment long.
+        check::<f64>(44_100, 48_000, 100.0, 2, 5_000);
+        check::<f64>(44_100, 48_000, 100.0, 2, 32_781);
+    }
+}
