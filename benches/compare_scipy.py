@@ -96,6 +96,10 @@ def main():
             ours, theirs, ours_cpu, theirs_cpu = [], [], [], []
             y_ref = None
             for _ in range(args.rounds):
+                # A fresh output path each run, as when converting a file for the first time
+                # (replacing an existing file adds the time to free the old one's space).
+                if os.path.exists(dst):
+                    os.remove(dst)
                 t0, c0 = time.perf_counter(), child_cpu()
                 run(cmd)
                 ours.append(time.perf_counter() - t0)
