@@ -6,6 +6,13 @@
 //! serve all of them from the cache (and, inside the kernel, up to four at a time from a
 //! register). Groups that stick out of the run are computed whole and only the lanes inside
 //! the run are kept, so an output's value never depends on where a run starts or ends.
+//!
+//! Nor does it depend on how outputs are grouped: a kernel sums an output's products in two
+//! partial sums, inputs of one parity and of the other, each in input order, and adds the
+//! two; the products of zero taps add exact zeros, and which parity a group's first row has
+//! only swaps the two operands of the final addition. So a converter started at any input
+//! frame computes the outputs it shares with one started at frame 0 bit for bit (the
+//! segmented file conversion of the command-line tool relies on this).
 
 use crate::groups::GroupTable;
 use crate::kernel::{KernelFns, Sample};
@@ -72,8 +79,9 @@ pub(crate) fn render<T: Sample>(
         let taps = table.group(j);
         let jobs = q_hi.saturating_sub(q_lo) as usize * hist.channels;
         let mut k = 0;
+        // Period and channel of each job, counted rather than divided out.
+        let (mut q, mut c) = (q_lo, 0);
         for job in 0..jobs {
-            let (q, c) = (q_lo + (job / hist.channels) as u64, job % hist.channels);
             let lo = table.first_input(j) + (q * table.period_inputs()) as i64;
             let at = lo - hist.base;
             if at < 0 || at as usize + rows > hist.stride {
@@ -91,6 +99,10 @@ pub(crate) fn render<T: Sample>(
             })?;
             dst[k] = (c, q * period + g0);
             k += 1;
+            c += 1;
+            if c == hist.channels {
+                (q, c) = (q + 1, 0);
+            }
             if k == BATCH || job + 1 == jobs {
                 fns.groups(taps, lanes, &xs[..k], &mut tmp)?;
                 keep(&dst[..k], &tmp, lanes, wj, first, frames, out);

@@ -239,7 +239,7 @@ impl<T: Sample> StreamConverter<T> {
                     }
                 }
             },
-            |frame, c, v| output[frame * ch + c] = v,
+            |frame, planar, n| store_interleaved(output, ch, frame, planar, n),
         ))
     }
 
@@ -263,7 +263,7 @@ impl<T: Sample> StreamConverter<T> {
                     buf[at..at + n].copy_from_slice(&src.as_ref()[from..from + n]);
                 }
             },
-            |frame, c, v| output[c].as_mut()[frame] = v,
+            |frame, planar, n| store_planar(output, frame, planar, n),
         ))
     }
 
@@ -279,14 +279,18 @@ impl<T: Sample> StreamConverter<T> {
         )?;
         self.flushing = true;
         let frames_out = output.len() / ch;
-        Ok(self.produce(frames_out, |frame, c, v| output[frame * ch + c] = v))
+        Ok(self.produce(frames_out, |frame, planar, n| {
+            store_interleaved(output, ch, frame, planar, n)
+        }))
     }
 
     /// Planar twin of [`StreamConverter::flush_interleaved`].
     pub fn flush_planar<O: AsMut<[T]>>(&mut self, output: &mut [O]) -> Result<usize> {
         let frames_out = self.check_planar_out(output)?;
         self.flushing = true;
-        Ok(self.produce(frames_out, |frame, c, v| output[c].as_mut()[frame] = v))
+        Ok(self.produce(frames_out, |frame, planar, n| {
+            store_planar(output, frame, planar, n)
+        }))
     }
 
     fn check_planar_in<I: AsRef<[T]>>(&self, input: &[I]) -> Result<usize> {
@@ -338,13 +342,13 @@ impl<T: Sample> StreamConverter<T> {
         frames_in: usize,
         frames_out: usize,
         mut load: impl FnMut(&mut [T], usize, usize, usize, usize),
-        mut store: impl FnMut(usize, usize, T),
+        mut store: impl FnMut(usize, &[T], usize),
     ) -> Progress {
         let mut read = 0;
         let mut written = 0;
         loop {
             let at = written;
-            written += self.produce(frames_out - written, |f, c, v| store(at + f, c, v));
+            written += self.produce(frames_out - written, |f, p, n| store(at + f, p, n));
             if written == frames_out || read == frames_in {
                 break;
             }
@@ -399,7 +403,9 @@ impl<T: Sample> StreamConverter<T> {
 
     /// Compute outputs while their input is present (or, when flushing, while any remain),
     /// at most `max` frames. Returns frames produced.
-    fn produce(&mut self, max: usize, mut store: impl FnMut(usize, usize, T)) -> usize {
+    /// `store(frame, planar, n)` receives each block of `n` new outputs per channel (channel
+    /// `c` at `planar[c * n..][..n]`), the first at output `frame`.
+    fn produce(&mut self, max: usize, mut store: impl FnMut(usize, &[T], usize)) -> usize {
         let up = self.table.up();
         let down = self.table.down();
         let total = if self.flushing {
@@ -458,11 +464,7 @@ impl<T: Sample> StreamConverter<T> {
             if ok.is_err() {
                 break; // cannot happen: the history holds every group of the run
             }
-            for (c, chan) in self.scratch.chunks_exact(n).take(self.channels).enumerate() {
-                for (k, &v) in chan.iter().enumerate() {
-                    store(done + k, c, v);
-                }
-            }
+            store(done, &self.scratch[..n * self.channels], n);
             done += n;
             self.n_out += n as u64;
             let pos = self.next_p + n as u64 * down;
@@ -470,6 +472,38 @@ impl<T: Sample> StreamConverter<T> {
             self.next_p = pos % up;
         }
         done
+    }
+}
+
+/// Interleave `n` frames of `planar` (channel `c` at `planar[c * n..]`) into `output` of `ch`
+/// channels from `frame` on, one pass over the output.
+#[inline]
+fn store_interleaved<T: Copy>(output: &mut [T], ch: usize, frame: usize, planar: &[T], n: usize) {
+    let frames = &mut output[frame * ch..(frame + n) * ch];
+    if ch == 2 {
+        let (l, r) = planar.split_at(n);
+        for ((f, &a), &b) in frames.chunks_exact_mut(2).zip(l).zip(r) {
+            f[0] = a;
+            f[1] = b;
+        }
+        return;
+    }
+    for (k, f) in frames.chunks_exact_mut(ch).enumerate() {
+        for (c, v) in f.iter_mut().enumerate() {
+            *v = planar[c * n + k];
+        }
+    }
+}
+
+/// Copy `n` frames of `planar` (channel `c` at `planar[c * n..]`) into planar `output` from
+/// `frame` on.
+#[inline]
+fn store_planar<T: Copy, O: AsMut<[T]>>(output: &mut [O], frame: usize, planar: &[T], n: usize) {
+    if n == 0 {
+        return;
+    }
+    for (o, src) in output.iter_mut().zip(planar.chunks_exact(n)) {
+        o.as_mut()[frame..frame + n].copy_from_slice(src);
     }
 }
 

@@ -253,6 +253,10 @@ mod tests {
         check::<f64>(8_000, 44_100, 100.0, 6, 40_000);
         check::<f32>(44_100, 16_000, 110.0, 2, 100_000);
         check::<f64>(44_056, 48_000, 100.0, 2, 200_000);
+        // Small L: the converters' group period is several times L outputs.
+        check::<f32>(96_000, 48_000, 120.0, 2, 100_003);
+        check::<f64>(48_000, 32_000, 140.0, 1, 150_000);
+        check::<f32>(48_000, 16_000, 100.0, 2, 100_000);
         // Shorter than one segment, and exactly one segment long.
         check::<f64>(44_100, 48_000, 100.0, 2, 5_000);
         check::<f64>(44_100, 48_000, 100.0, 2, 32_781);
