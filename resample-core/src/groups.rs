@@ -328,7 +328,8 @@ mod tests {
                 let got: f64 = (0..t.rows())
                     .map(|r| g[r * lanes + lane] * xi(lo + r as i64))
                     .sum();
-                // Direct form: output n is sum_k L h[k] x(t) at t = (n M + half - k) / L.
+                // Direct form of rational resampling (common practice, no source): output n
+                // is sum_k L h[k] x(t) at t = (n M + half - k) / L, t a whole input index.
                 let pos = n * down + half;
                 let want: f64 = (0..h.len() as u64)
                     .filter(|k| k <= &pos && (pos - k) % up == 0)
