@@ -6,12 +6,13 @@
 //!
 //! One run is what a converter does for one block: every group of a 44.1 kHz -> 48 kHz
 //! group table (160/147) against the inputs of 4096 consecutive outputs per channel, through
-//! [`KernelFns::groups`] in batches of eight inputs. Only the useful multiply-adds are
-//! counted (outputs x taps per phase x channels), not the zero taps at a group's edges.
+//! [`KernelFns::span`] (all the groups of a period per call, for up to 64 inputs). Only the
+//! useful multiply-adds are counted (outputs x taps per phase x channels), not the zero taps
+//! at a group's edges.
 //!
 //! `cargo bench -p resample-core --bench kernels` (add `-- --quick` for a shorter criterion
 //! pass; set `RERATE_SUMMARY_ONLY=1` to print only the summary, `RERATE_KERNEL=avx512f` (a
-//! kernel name) to summarise one kernel). Summary rates are per
+//! kernel name) to summarise one kernel, `RERATE_TAPS=64` one length). Summary rates are per
 //! second of this thread's CPU time, so they hold on a machine busy with other work.
 
 use std::hint::black_box;
@@ -28,8 +29,10 @@ const FRAMES: u64 = 4096;
 /// The 44.1 kHz -> 48 kHz ratio.
 const UP: u64 = 160;
 const DOWN: u64 = 147;
-/// Inputs per kernel call (as the converters batch them).
+/// Inputs per kernel call, at most (as the converters batch them).
 const BATCH: usize = 64;
+/// Output values per kernel call, at most (the converters' buffer).
+const TMP: usize = 4096;
 
 /// A group table for a prototype of `taps` taps per phase, and an input history long enough
 /// for one run of every channel.
@@ -58,7 +61,7 @@ impl<T: Sample> Case<T> {
             history: (0..stride * channels)
                 .map(|i| T::from_f64_lossy(val(i + 13)))
                 .collect(),
-            out: vec![T::zero(); BATCH * table.lanes()],
+            out: vec![T::zero(); TMP],
             table,
             stride,
             channels,
@@ -74,24 +77,26 @@ impl<T: Sample> Case<T> {
     fn run(&mut self) -> u64 {
         let t = &self.table;
         let periods = FRAMES.div_ceil(t.period());
-        let lanes = t.lanes();
+        // As the converters call the kernel: every group of a period in one span, for up to
+        // 64 inputs (periods x channels) per call, as many as the output buffer holds.
+        let span = t.span(0..t.groups());
+        let per_call = (TMP / (t.groups() * t.lanes())).clamp(1, BATCH);
+        let reach = t.first_input(t.groups() - 1) - t.first_input(0);
+        let len = reach as usize + t.rows();
         let mut inputs: [&[T]; BATCH] = [&[]; BATCH];
-        for j in 0..t.groups() {
-            let mut k = 0;
-            for q in 0..periods {
-                let at = (t.first_input(j) - t.first_input(0)) as usize
-                    + (q * t.period_inputs()) as usize;
-                for c in 0..self.channels {
-                    let s = c * self.stride + at;
-                    inputs[k] = &self.history[s..s + t.rows()];
-                    k += 1;
-                    if k == BATCH || (q + 1 == periods && c + 1 == self.channels) {
-                        self.fns
-                            .groups(t.group(j), lanes, &inputs[..k], &mut self.out)
-                            .expect("sizes fit");
-                        black_box(&self.out);
-                        k = 0;
-                    }
+        let mut k = 0;
+        for q in 0..periods {
+            let at = (q * t.period_inputs()) as usize;
+            for c in 0..self.channels {
+                let s = c * self.stride + at;
+                inputs[k] = &self.history[s..s + len];
+                k += 1;
+                if k == per_call || (q + 1 == periods && c + 1 == self.channels) {
+                    self.fns
+                        .span(&span, &inputs[..k], &mut self.out)
+                        .expect("sizes fit");
+                    black_box(&self.out);
+                    k = 0;
                 }
             }
         }
@@ -163,6 +168,9 @@ fn summary<T: Sample>(type_name: &str, f64_type: bool) {
         "kernel", "taps", "ch", "GMAC/s", "of core peak", "of own peak"
     );
     let only = std::env::var("RERATE_KERNEL").ok();
+    let taps_only: Option<usize> = std::env::var("RERATE_TAPS")
+        .ok()
+        .and_then(|v| v.parse().ok());
     for &(k, own_peak) in &peaks {
         if only.as_deref().is_some_and(|name| name != k.name()) {
             continue;
@@ -170,6 +178,9 @@ fn summary<T: Sample>(type_name: &str, f64_type: bool) {
         let fns = KernelFns::<T>::new(k).expect("available");
         for &ch in &CHANNELS {
             for &tpp in &TAPS {
+                if taps_only.is_some_and(|t| t != tpp) {
+                    continue;
+                }
                 let mut case = Case::<T>::new(fns, tpp, ch);
                 let r = best_rate(|| case.run());
                 println!(

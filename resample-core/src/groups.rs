@@ -14,6 +14,7 @@
 //! window).
 
 use crate::design::Design;
+use crate::kernel::GroupSpan;
 use crate::{Error, Result, Sample};
 
 /// The table of a design arranged in groups of `lanes` consecutive outputs.
@@ -29,6 +30,8 @@ pub struct GroupTable<T> {
     groups: usize,
     rows: usize,
     first: Vec<i64>,
+    /// `first[j] - first[0]`.
+    shifts: Vec<usize>,
     /// Group `j` at `storage[offset + j rows lanes..][..rows lanes]`, `offset` chosen so that
     /// the first vector starts on a 64-byte boundary.
     storage: Vec<T>,
@@ -201,6 +204,7 @@ impl<T: Sample> GroupTable<T> {
                 }
             }
         }
+        let shifts = first.iter().map(|&f| (f - first[0]) as usize).collect();
         Ok(Self {
             up,
             down,
@@ -212,6 +216,7 @@ impl<T: Sample> GroupTable<T> {
             groups,
             rows,
             first,
+            shifts,
             storage,
             offset,
         })
@@ -292,6 +297,19 @@ impl<T> GroupTable<T> {
     pub fn first_input_of(&self, n: u64) -> i64 {
         let (q, j, _) = self.locate(n);
         self.first[j] + (q * self.period_inputs) as i64
+    }
+
+    /// Groups `range` (of one period) as one kernel call takes them
+    /// ([`crate::kernel::KernelFns::span`]); the input handed with them starts at the first
+    /// input of group `range.start`. Panics if the range is outside `0..groups()`.
+    pub fn span(&self, range: core::ops::Range<usize>) -> GroupSpan<'_, T> {
+        let n = self.rows * self.lanes;
+        GroupSpan {
+            taps: &self.storage[self.offset + range.start * n..self.offset + range.end * n],
+            lanes: self.lanes,
+            rows: self.rows,
+            shifts: &self.shifts[range],
+        }
     }
 
     /// Bytes held by the taps.

@@ -1,25 +1,30 @@
-//! A run of consecutive outputs computed from a window of input history, group by group: the
-//! one inner loop that the stream converter and the parallel offline path share.
+//! A run of consecutive outputs computed from a window of input history: the one inner loop
+//! that the stream converter and the parallel offline path share.
 //!
-//! The groups of the run are taken in table order, and for each group every period and
-//! every channel that needs it, so a group's taps are loaded once from memory and then
-//! serve all of them from the cache (and, inside the kernel, up to four at a time from a
-//! register). Groups that stick out of the run are computed whole and only the lanes inside
-//! the run are kept, so an output's value never depends on where a run starts or ends.
+//! The run is taken a span of groups at a time (all the groups of a period when a period's
+//! outputs fit the kernel's buffer), and for each span every period and channel that needs
+//! it, batched into kernel calls: the kernel sets up the inputs' pointers once per batch and
+//! then walks every group of the span, so short filters do not pay that set-up per group.
+//! Groups that stick out of the run are computed whole and only the outputs inside the run
+//! are kept, so an output's value never depends on where a run starts or ends.
 //!
-//! Nor does it depend on how outputs are grouped: a kernel sums an output's products in two
-//! partial sums, inputs of one parity and of the other, each in input order, and adds the
-//! two; the products of zero taps add exact zeros, and which parity a group's first row has
-//! only swaps the two operands of the final addition. So a converter started at any input
-//! frame computes the outputs it shares with one started at frame 0 bit for bit (the
-//! segmented file conversion of the command-line tool relies on this).
+//! Nor does it depend on how outputs are grouped: a kernel sums an output's products in
+//! partial sums by the parity of the input (by input index modulo four for tables folded in
+//! pairs), each in input order, and adds them in a fixed pattern; the products of zero taps
+//! add exact zeros, and which row a group starts on only swaps operands of those
+//! additions. So a converter started at any input frame computes the outputs it shares with
+//! one started at frame 0 bit for bit (the segmented file conversion of the command-line
+//! tool relies on this).
 
 use crate::groups::GroupTable;
 use crate::kernel::{KernelFns, Sample};
 use crate::{Error, Result};
 
-/// Inputs handed to the kernel per call.
+/// Inputs handed to the kernel per call, at most.
 const BATCH: usize = 64;
+
+/// Values of the buffer a kernel call writes into (on the stack: 32 KB of `f64`).
+const TMP: usize = 4096;
 
 /// Most lanes a kernel uses (`f32` in 512-bit vectors).
 pub(crate) const MAX_LANES: usize = 16;
@@ -47,7 +52,7 @@ pub(crate) fn render<T: Sample>(
     out: &mut [T],
 ) -> Result<()> {
     let lanes = table.lanes();
-    let rows = table.rows();
+    let n_groups = table.groups();
     if lanes > MAX_LANES || out.len() < frames * hist.channels {
         return Err(Error::BufferShape {
             what: "render output (channels x frames) and lanes",
@@ -55,93 +60,136 @@ pub(crate) fn render<T: Sample>(
             got: out.len(),
         });
     }
-    let end = first + frames as u64;
+    let run = Run {
+        first,
+        end: first + frames as u64,
+        frames,
+    };
     let period = table.period();
-    let mut tmp = [T::zero(); BATCH * MAX_LANES];
+    let w = lanes as u64;
+    // Groups per kernel call: a whole period if its outputs fit the buffer.
+    let span_max = (TMP / lanes).clamp(1, n_groups);
+    let mut tmp = [T::zero(); TMP];
     let mut xs: [&[T]; BATCH] = [&[]; BATCH];
     // Channel and first output of each input in the batch.
     let mut dst = [(0usize, 0u64); BATCH];
-    for j in 0..table.groups() {
-        let g0 = (j * lanes) as u64;
-        let wj = table.lanes_in(j) as u64;
-        // Periods q whose group j overlaps the run: q period + g0 < end and
-        // q period + g0 + wj > first.
-        let q_lo = if first >= g0 + wj {
-            (first - g0 - wj) / period + 1
+    let mut ja = 0;
+    while ja < n_groups {
+        let jb = (ja + span_max).min(n_groups);
+        let span = table.span(ja..jb);
+        let width = (jb - ja) * lanes;
+        let per_call = (TMP / width).clamp(1, BATCH);
+        // Outputs of the span within a period, and the periods whose span overlaps the run.
+        let (o_lo, o_hi) = (ja as u64 * w, (jb as u64 * w).min(period));
+        let valid = (o_hi - o_lo) as usize;
+        let q_lo = if run.first >= o_hi {
+            (run.first - o_hi) / period + 1
         } else {
             0
         };
-        let q_hi = if end > g0 {
-            (end - 1 - g0) / period + 1
+        let q_hi = if run.end > o_lo {
+            (run.end - 1 - o_lo) / period + 1
         } else {
             0
         };
-        let taps = table.group(j);
-        let jobs = q_hi.saturating_sub(q_lo) as usize * hist.channels;
         let mut k = 0;
-        // Period and channel of each job, counted rather than divided out.
-        let (mut q, mut c) = (q_lo, 0);
-        for job in 0..jobs {
-            let lo = table.first_input(j) + (q * table.period_inputs()) as i64;
-            let at = lo - hist.base;
-            if at < 0 || at as usize + rows > hist.stride {
-                return Err(Error::BufferShape {
-                    what: "render history (window of a group)",
-                    expected: (at.max(0) as usize) + rows,
-                    got: hist.stride,
-                });
-            }
-            let s = c * hist.stride + at as usize;
-            xs[k] = hist.data.get(s..s + rows).ok_or(Error::BufferShape {
-                what: "render history length (channels x stride)",
-                expected: s + rows,
-                got: hist.data.len(),
-            })?;
-            dst[k] = (c, q * period + g0);
-            k += 1;
-            c += 1;
-            if c == hist.channels {
-                (q, c) = (q + 1, 0);
-            }
-            if k == BATCH || job + 1 == jobs {
-                fns.groups(taps, lanes, &xs[..k], &mut tmp)?;
-                keep(&dst[..k], &tmp, lanes, wj, first, frames, out);
-                k = 0;
+        for q in q_lo..q_hi {
+            let n0 = q * period;
+            // The groups of the span that overlap the run in this period.
+            let ga = if run.first > n0 + o_lo {
+                ((run.first - n0) / w) as usize
+            } else {
+                ja
+            };
+            let gb = if run.end < n0 + o_hi {
+                (run.end - n0).div_ceil(w) as usize
+            } else {
+                jb
+            };
+            let whole = ga == ja && gb == jb;
+            for c in 0..hist.channels {
+                let x = window(table, hist, ga, gb, q, c)?;
+                if whole {
+                    xs[k] = x;
+                    dst[k] = (c, n0 + o_lo);
+                    k += 1;
+                    if k == per_call {
+                        fns.span(&span, &xs[..k], &mut tmp)?;
+                        keep(&run, &dst[..k], &tmp, width, valid, out);
+                        k = 0;
+                    }
+                } else {
+                    // A span cut by the run's ends: only the groups inside, on their own.
+                    let part = table.span(ga..gb);
+                    fns.span(&part, &[x], &mut tmp)?;
+                    let start = ga as u64 * w;
+                    let n = ((gb as u64 * w).min(period) - start) as usize;
+                    keep(&run, &[(c, n0 + start)], &tmp, n, n, out);
+                }
             }
         }
+        if k > 0 {
+            fns.span(&span, &xs[..k], &mut tmp)?;
+            keep(&run, &dst[..k], &tmp, width, valid, out);
+        }
+        ja = jb;
     }
     Ok(())
 }
 
-/// Keep the lanes of a batch's groups (`tmp`, one vector per input) that are inside the
-/// run; `valid` lanes of each group exist.
+/// The outputs a render call keeps.
+struct Run {
+    first: u64,
+    end: u64,
+    frames: usize,
+}
+
+/// The history groups `ga..gb` of period `q` read in channel `c`.
+#[inline]
+fn window<'a, T>(
+    table: &GroupTable<T>,
+    hist: &History<'a, T>,
+    ga: usize,
+    gb: usize,
+    q: u64,
+    c: usize,
+) -> Result<&'a [T]> {
+    let lo = table.first_input(ga) + (q * table.period_inputs()) as i64;
+    let at = lo - hist.base;
+    let len = (table.first_input(gb - 1) - table.first_input(ga)) as usize + table.rows();
+    if at < 0 || at as usize + len > hist.stride {
+        return Err(Error::BufferShape {
+            what: "render history (window of a group)",
+            expected: (at.max(0) as usize) + len,
+            got: hist.stride,
+        });
+    }
+    let s = c * hist.stride + at as usize;
+    hist.data.get(s..s + len).ok_or(Error::BufferShape {
+        what: "render history length (channels x stride)",
+        expected: s + len,
+        got: hist.data.len(),
+    })
+}
+
+/// Keep the outputs of a batch (`tmp`, `width` values per input, of which the first `valid`
+/// exist) that are inside the run; input `i` holds channel `dst[i].0`'s outputs from
+/// `dst[i].1` on.
 #[inline]
 fn keep<T: Sample>(
+    run: &Run,
     dst: &[(usize, u64)],
     tmp: &[T],
-    lanes: usize,
-    valid: u64,
-    first: u64,
-    frames: usize,
+    width: usize,
+    valid: usize,
     out: &mut [T],
 ) {
-    let end = first + frames as u64;
-    for (&(c, n0), v) in dst.iter().zip(tmp.chunks_exact(lanes)) {
-        let a = first.saturating_sub(n0);
-        let b = valid.min(end - n0);
+    for (&(c, n0), v) in dst.iter().zip(tmp.chunks(width)) {
+        let a = run.first.saturating_sub(n0);
+        let b = (valid as u64).min(run.end - n0);
         if a < b {
-            let o = c * frames + (n0 + a - first) as usize;
-            let (src, dst) = (
-                &v[a as usize..b as usize],
-                &mut out[o..o + (b - a) as usize],
-            );
-            // Whole groups (the common case) as fixed-size copies, which compile to a few
-            // vector moves instead of a call.
-            match (src.len(), dst.len()) {
-                (16, 16) => dst[..16].copy_from_slice(&src[..16]),
-                (8, 8) => dst[..8].copy_from_slice(&src[..8]),
-                _ => dst.copy_from_slice(src),
-            }
+            let o = c * run.frames + (n0 + a - run.first) as usize;
+            out[o..o + (b - a) as usize].copy_from_slice(&v[a as usize..b as usize]);
         }
     }
 }

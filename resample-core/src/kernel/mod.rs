@@ -35,9 +35,24 @@ use crate::{Error, Result};
 /// A dot product of two slices (taps, samples); extra elements of the longer one are ignored.
 pub type DotFn<T> = fn(&[T], &[T]) -> T;
 
-/// Groups of outputs (see [`KernelFns::groups`]). Only ever called through that method,
-/// which checks the sizes first.
-pub(crate) type GroupsFn<T> = fn(&[T], usize, &[&[T]], &mut [T]);
+/// A span of groups against several inputs (see [`KernelFns::span`]). Only ever called
+/// through that method, which checks the sizes first.
+pub(crate) type GroupsFn<T> = fn(&GroupSpan<'_, T>, &[&[T]], &mut [T]);
+
+/// Consecutive groups of a [`crate::groups::GroupTable`] as one kernel call takes them
+/// ([`KernelFns::span`]): group `g` has taps `taps[g rows lanes..][..rows lanes]` (row `r`,
+/// lane `l` at `r lanes + l`) and reads an input from offset `shifts[g] - shifts[0]` on.
+#[derive(Debug, Clone, Copy)]
+pub struct GroupSpan<'a, T> {
+    /// The groups' taps, one group after another.
+    pub taps: &'a [T],
+    /// Outputs per group.
+    pub lanes: usize,
+    /// Rows (input samples) each group reads.
+    pub rows: usize,
+    /// Input index of each group's first row, non-decreasing; only differences matter.
+    pub shifts: &'a [usize],
+}
 
 /// Which dot-product implementation a converter uses.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
@@ -218,22 +233,77 @@ impl<T: Sample> KernelFns<T> {
                 got: taps.len(),
             });
         }
-        if let Some(x) = inputs.iter().find(|x| x.len() < rows) {
-            return Err(Error::BufferShape {
-                what: "group input (one sample per row)",
-                expected: rows,
-                got: x.len(),
-            });
+        let span = GroupSpan {
+            taps,
+            lanes,
+            rows,
+            shifts: &[0],
+        };
+        self.span(&span, inputs, out)
+    }
+
+    /// The converters' inner loop: every group of `span` against every input,
+    /// `out[(i G + g) lanes + l]` for input `i`, group `g` of `G = span.shifts.len()` and
+    /// lane `l`; group `g` reads `inputs[i][shifts[g] - shifts[0]..][..rows]`, summed as
+    /// [`KernelFns::groups`] sums, so each group's outputs have the bits they have on their
+    /// own. The inputs' pointers are set up once per batch for all the groups, so short
+    /// filters do not pay that set-up per group. [`Error::BufferShape`] if `lanes` or `rows`
+    /// is zero, `shifts` empty or decreasing, the taps short of `G rows lanes`, an input
+    /// short of the last group's reach or `out` short of `inputs.len() G lanes` values.
+    ///
+    /// ```
+    /// use resample_core::kernel::{GroupSpan, Kernel, KernelFns};
+    /// let k = KernelFns::<f64>::new(Kernel::detect())?;
+    /// // Two groups of one lane and two rows; the second reads one sample later.
+    /// let span = GroupSpan { taps: &[1.0, 1.0, 0.0, 2.0], lanes: 1, rows: 2, shifts: &[5, 6] };
+    /// let mut out = [0.0; 2];
+    /// k.span(&span, &[&[1.0, 2.0, 3.0]], &mut out)?;
+    /// assert_eq!(out, [3.0, 6.0]);
+    /// # Ok::<(), resample_core::Error>(())
+    /// ```
+    #[inline]
+    pub fn span(&self, span: &GroupSpan<'_, T>, inputs: &[&[T]], out: &mut [T]) -> Result<()> {
+        let GroupSpan {
+            taps,
+            lanes,
+            rows,
+            shifts,
+        } = *span;
+        let bad = |what: &'static str, expected: usize, got: usize| Error::BufferShape {
+            what,
+            expected,
+            got,
+        };
+        if lanes == 0 || rows == 0 {
+            return Err(bad("group span shape (lanes and rows)", 1, 0));
         }
-        let need = inputs.len() * lanes;
+        let (Some(&s0), Some(&last)) = (shifts.first(), shifts.last()) else {
+            return Err(bad("group span shifts (at least one group)", 1, 0));
+        };
+        if shifts.windows(2).any(|w| w[1] < w[0]) {
+            return Err(bad("group span shifts (non-decreasing)", 0, 1));
+        }
+        let need = shifts.len() * rows * lanes;
+        if taps.len() < need {
+            return Err(bad(
+                "group span taps (rows x lanes per group)",
+                need,
+                taps.len(),
+            ));
+        }
+        let reach = last - s0 + rows;
+        if let Some(x) = inputs.iter().find(|x| x.len() < reach) {
+            return Err(bad("group input (one sample per row)", reach, x.len()));
+        }
+        let need = inputs.len() * shifts.len() * lanes;
         if out.len() < need {
-            return Err(Error::BufferShape {
-                what: "group output (lanes per input)",
-                expected: need,
-                got: out.len(),
-            });
+            return Err(bad(
+                "group output (lanes per group and input)",
+                need,
+                out.len(),
+            ));
         }
-        (self.groups)(taps, lanes, inputs, out);
+        (self.groups)(span, inputs, out);
         Ok(())
     }
 }
@@ -299,7 +369,7 @@ macro_rules! impl_sample {
                     Kernel::Avx512 if kernel.is_available() => x86_avx512::$groups,
                     #[cfg(target_arch = "aarch64")]
                     Kernel::Neon if kernel.is_available() => neon::$groups,
-                    _ => scalar::groups::<$t>,
+                    _ => scalar::span::<$t>,
                 }
             }
 

@@ -13,31 +13,34 @@ pub fn dot<T: Float>(taps: &[T], x: &[T]) -> T {
     acc
 }
 
-/// Groups of outputs: `out[i lanes + l] = sum_r taps[r lanes + l] * inputs[i][r]`, summed as
-/// every kernel sums it: even rows into one accumulator and odd rows into another, each in
-/// row order, then the two added. Stops at the shortest of inputs and `out` (the caller
-/// checks their sizes).
-pub(crate) fn groups<T: Float>(taps: &[T], lanes: usize, inputs: &[&[T]], out: &mut [T]) {
-    if lanes == 0 {
+/// A span of consecutive groups (see [`super::KernelFns::span`]):
+/// `out[(i G + g) lanes + l] = sum_r tap(g, r, l) * inputs[i][shifts[g] - shifts[0] + r]`,
+/// summed as every kernel sums it: even rows into one accumulator and odd rows into another,
+/// each in row order, then the two added. Stops at the first input or output that is too
+/// short (the caller checks the sizes).
+pub(crate) fn span<T: Float>(g: &super::GroupSpan<'_, T>, inputs: &[&[T]], out: &mut [T]) {
+    let (lanes, rows) = (g.lanes, g.rows);
+    if lanes == 0 || g.shifts.is_empty() {
         return;
     }
-    let rows = taps.len() / lanes;
-    for (x, o) in inputs.iter().zip(out.chunks_exact_mut(lanes)) {
-        if x.len() < rows {
-            return;
-        }
-        for (l, y) in o.iter_mut().enumerate() {
-            let (mut a, mut b) = (T::zero(), T::zero());
-            let mut r = 0;
-            while r + 2 <= rows {
-                a = a + taps[r * lanes + l] * x[r];
-                b = b + taps[(r + 1) * lanes + l] * x[r + 1];
-                r += 2;
+    let per_group = rows * lanes;
+    let s0 = g.shifts[0];
+    let stride = g.shifts.len() * lanes;
+    for (x, o) in inputs.iter().zip(out.chunks_exact_mut(stride)) {
+        for (j, (&s, o)) in g.shifts.iter().zip(o.chunks_exact_mut(lanes)).enumerate() {
+            let (Some(taps), Some(x)) = (
+                g.taps.get(j * per_group..(j + 1) * per_group),
+                x.get(s - s0..s - s0 + rows),
+            ) else {
+                return;
+            };
+            for (l, y) in o.iter_mut().enumerate() {
+                let mut acc = [T::zero(); 2];
+                for (r, &v) in x.iter().enumerate() {
+                    acc[r % 2] = acc[r % 2] + taps[r * lanes + l] * v;
+                }
+                *y = acc[0] + acc[1];
             }
-            if r < rows {
-                a = a + taps[r * lanes + l] * x[r];
-            }
-            *y = a + b;
         }
     }
 }

@@ -6,7 +6,7 @@
 //! taps, then one whole vector into `a` if `W` taps remain, then a zero-filled partial
 //! vector into `b`; finally `hsum(a + b)`.
 //!
-//! `groups`: a group table holds one vector of `W` taps per input sample (one lane per
+//! `span`: a group table holds one vector of `W` taps per input sample (one lane per
 //! output). Each input sample is broadcast to every lane and multiplied with its vector, so
 //! a group of `W` outputs costs one multiply-add per input sample, with aligned loads of
 //! taps and no horizontal sums. Up to `JOBS` inputs (other channels, or other periods of the
@@ -15,11 +15,11 @@
 //! (even and odd rows, added at the end), so its value does not depend on which inputs it
 //! was computed with.
 
-/// Generate `dot` and `groups` functions for one instruction set and sample type.
+/// Generate `dot` and `span` functions for one instruction set and sample type.
 ///
 /// `$feat`: the `target_feature` string; `$detect`: run-time check of those features;
 /// `$t`: sample type; `$v`: sibling module with the vector vocabulary for `$t`; `$m`: name
-/// of the generated module (with `dot` and `groups`).
+/// of the generated module (with `dot` and `span`).
 macro_rules! simd_kernels {
     ($feat:literal, $detect:path, $t:ty, $v:ident, $m:ident) => {
         /// The kernels for one sample type.
@@ -37,20 +37,29 @@ macro_rules! simd_kernels {
                 unsafe { dot_impl(taps.as_ptr(), x.as_ptr(), n) }
             }
 
-            /// Groups of outputs (see [`crate::kernel::KernelFns::groups`]): `out[i W + l]` is
-            /// lane `l` of the taps times input `i`. The caller has checked that every input
-            /// holds at least `taps.len() / lanes` samples and `out` holds `inputs.len() lanes`.
-            pub(crate) fn groups(taps: &[$t], lanes: usize, inputs: &[&[$t]], out: &mut [$t]) {
-                if !$detect() || lanes != $v::W {
-                    return $crate::kernel::scalar::groups(taps, lanes, inputs, out);
+            /// A span of consecutive groups (see [`crate::kernel::KernelFns::span`]) for
+            /// several inputs: `out[(i G + g) W + l]` is lane `l` of group `g` against input `i`
+            /// from its shift on. The caller has checked the sizes (taps of every group, inputs
+            /// long enough for the last group, room in `out`).
+            pub(crate) fn span(
+                g: &$crate::kernel::GroupSpan<'_, $t>,
+                inputs: &[&[$t]],
+                out: &mut [$t],
+            ) {
+                let n_groups = g.shifts.len();
+                if !$detect() || g.lanes != $v::W || n_groups == 0 {
+                    return $crate::kernel::scalar::span(g, inputs, out);
                 }
-                let rows = taps.len() / $v::W;
-                let fits =
-                    inputs.iter().all(|x| x.len() >= rows) && out.len() >= inputs.len() * lanes;
+                let rows = g.rows;
+                let reach = g.shifts[n_groups - 1] - g.shifts[0] + rows;
+                let fits = g.taps.len() >= n_groups * rows * $v::W
+                    && inputs.iter().all(|x| x.len() >= reach)
+                    && out.len() >= inputs.len() * n_groups * $v::W;
                 if !fits {
-                    return $crate::kernel::scalar::groups(taps, lanes, inputs, out);
+                    return $crate::kernel::scalar::span(g, inputs, out);
                 }
-                let t = taps.as_ptr();
+                let t = g.taps.as_ptr();
+                let stride = n_groups * $v::W;
                 let mut i = 0;
                 // Batches as even as possible, so that none is left with too few inputs to
                 // keep the multiply-add units busy.
@@ -58,29 +67,58 @@ macro_rules! simd_kernels {
                 while i < inputs.len() {
                     let n = (inputs.len() - i).div_ceil(batches);
                     batches -= 1;
-                    let x = |k: usize| inputs[i + k.min(n - 1)].as_ptr();
-                    // Safety: the CPU features were detected just above; the taps hold `rows`
-                    // vectors of `W` lanes, every input at least `rows` samples and `out` one
-                    // vector per input (all checked above).
+                    let xs = &inputs[i..i + n];
+                    let o = out[i * stride..].as_mut_ptr();
+                    // Safety: the CPU features were detected just above; the taps hold
+                    // `rows` vectors of `W` lanes per group, every input at least `reach`
+                    // samples and `out` `stride` values per input from `o` (checked above).
                     unsafe {
-                        let o = out.as_mut_ptr().add(i * lanes);
                         match n {
-                            8 => jobs::<8>(
-                                t,
-                                rows,
-                                [x(0), x(1), x(2), x(3), x(4), x(5), x(6), x(7)],
-                                o,
-                            ),
-                            7 => jobs::<7>(t, rows, [x(0), x(1), x(2), x(3), x(4), x(5), x(6)], o),
-                            6 => jobs::<6>(t, rows, [x(0), x(1), x(2), x(3), x(4), x(5)], o),
-                            5 => jobs::<5>(t, rows, [x(0), x(1), x(2), x(3), x(4)], o),
-                            4 => jobs::<4>(t, rows, [x(0), x(1), x(2), x(3)], o),
-                            3 => jobs::<3>(t, rows, [x(0), x(1), x(2)], o),
-                            2 => jobs::<2>(t, rows, [x(0), x(1)], o),
-                            _ => jobs::<1>(t, rows, [x(0)], o),
+                            8 => batch::<8>(t, rows, g.shifts, xs, o, stride),
+                            7 => batch::<7>(t, rows, g.shifts, xs, o, stride),
+                            6 => batch::<6>(t, rows, g.shifts, xs, o, stride),
+                            5 => batch::<5>(t, rows, g.shifts, xs, o, stride),
+                            4 => batch::<4>(t, rows, g.shifts, xs, o, stride),
+                            3 => batch::<3>(t, rows, g.shifts, xs, o, stride),
+                            2 => batch::<2>(t, rows, g.shifts, xs, o, stride),
+                            _ => batch::<1>(t, rows, g.shifts, xs, o, stride),
                         }
                     }
                     i += n;
+                }
+            }
+
+            /// Every group of a span against `R` inputs, group after group, the inputs'
+            /// pointers set up once.
+            ///
+            /// # Safety
+            /// The CPU supports `$feat`; `xs.len() >= R`; `t` valid for `shifts.len() rows W`
+            /// reads; every input for `shifts[last] - shifts[0] + rows` reads; `out` for
+            /// `(R - 1) stride + shifts.len() W` writes.
+            #[target_feature(enable = $feat)]
+            unsafe fn batch<const R: usize>(
+                t: *const $t,
+                rows: usize,
+                shifts: &[usize],
+                xs: &[&[$t]],
+                out: *mut $t,
+                stride: usize,
+            ) {
+                let x: [*const $t; R] = core::array::from_fn(|k| xs[k].as_ptr());
+                let s0 = shifts[0];
+                for (g, &s) in shifts.iter().enumerate() {
+                    // Safety: group `g`'s taps and outputs are inside the caller's ranges,
+                    // and its reads end at `s - s0 + rows`, inside every input.
+                    unsafe {
+                        let xg = x.map(|p| p.add(s - s0));
+                        jobs::<R>(
+                            t.add(g * rows * $v::W),
+                            rows,
+                            xg,
+                            out.add(g * $v::W),
+                            stride,
+                        );
+                    }
                 }
             }
 
@@ -90,7 +128,8 @@ macro_rules! simd_kernels {
             ///
             /// # Safety
             /// The CPU supports `$feat`; `t` is valid for `rows W` reads, every `x[i]` for
-            /// `rows` reads and `out` for `R W` writes.
+            /// `rows` reads and `out` for `W` writes at every multiple of `stride` below
+            /// `R stride`.
             #[target_feature(enable = $feat)]
             #[inline]
             unsafe fn jobs<const R: usize>(
@@ -98,10 +137,11 @@ macro_rules! simd_kernels {
                 rows: usize,
                 x: [*const $t; R],
                 out: *mut $t,
+                stride: usize,
             ) {
                 use $v::*;
-                // Safety: every read is below `rows` rows, every write below `R W` (the
-                // caller's guarantee); features as above.
+                // Safety: every read is below `rows` rows, every write inside the caller's
+                // ranges; features as above.
                 unsafe {
                     let mut a = [zero(); R];
                     let mut b = [zero(); R];
@@ -122,7 +162,7 @@ macro_rules! simd_kernels {
                         }
                     }
                     for i in 0..R {
-                        store(out.add(i * W), add(a[i], b[i]));
+                        store(out.add(i * stride), add(a[i], b[i]));
                     }
                 }
             }

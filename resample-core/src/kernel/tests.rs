@@ -83,7 +83,13 @@ fn check_groups<T: Sample>(fns: &KernelFns<T>, taps: &[T], lanes: usize, inputs:
     let mut got = vec![T::nan(); inputs.len() * lanes];
     let mut want = vec![T::nan(); inputs.len() * lanes];
     fns.groups(taps, lanes, inputs, &mut got).unwrap();
-    scalar::groups(taps, lanes, inputs, &mut want);
+    let span = GroupSpan {
+        taps,
+        lanes,
+        rows,
+        shifts: &[0],
+    };
+    scalar::span(&span, inputs, &mut want);
     for (i, x) in inputs.iter().enumerate() {
         for l in 0..lanes {
             let column: Vec<T> = (0..rows).map(|r| taps[r * lanes + l]).collect();
@@ -168,9 +174,9 @@ fn outputs_independent_of_batching<T: Sample>() {
         let lanes = fns.lanes();
         let rows = 77;
         let taps: Vec<T> = rng.vec(rows * lanes);
-        let xs: Vec<Vec<T>> = (0..9).map(|_| rng.vec(rows)).collect();
+        let xs: Vec<Vec<T>> = (0..25).map(|_| rng.vec(rows)).collect();
         let refs: Vec<&[T]> = xs.iter().map(Vec::as_slice).collect();
-        let mut all = vec![T::zero(); 9 * lanes];
+        let mut all = vec![T::zero(); 25 * lanes];
         fns.groups(&taps, lanes, &refs, &mut all).unwrap();
         for (i, x) in refs.iter().enumerate() {
             let mut one = vec![T::zero(); lanes];
@@ -197,6 +203,104 @@ fn outputs_independent_of_batching_f64() {
     outputs_independent_of_batching::<f64>();
 }
 
+/// A span of several groups, each reading the inputs from its own shift, gives every group
+/// the bits it gets on its own (the converters take whole spans, the tests above single
+/// groups), and agrees with the scalar reference.
+#[test]
+fn spans_give_each_group_its_own_bits() {
+    let mut rng = Rng(31);
+    for kernel in Kernel::available() {
+        let fns = KernelFns::<f32>::new(kernel).unwrap();
+        let lanes = fns.lanes();
+        for rows in [1, 40, 41] {
+            let shifts = [3, 10, 18, 18, 25];
+            let g = shifts.len();
+            let taps: Vec<f32> = rng.vec(g * rows * lanes);
+            let reach = 25 - 3 + rows;
+            let xs: Vec<Vec<f32>> = (0..11).map(|_| rng.vec(reach)).collect();
+            let refs: Vec<&[f32]> = xs.iter().map(Vec::as_slice).collect();
+            let span = GroupSpan {
+                taps: &taps,
+                lanes,
+                rows,
+                shifts: &shifts,
+            };
+            let mut all = vec![f32::NAN; 11 * g * lanes];
+            fns.span(&span, &refs, &mut all).unwrap();
+            let mut want = vec![f32::NAN; 11 * g * lanes];
+            scalar::span(&span, &refs, &mut want);
+            for j in 0..g {
+                let own: Vec<&[f32]> = refs.iter().map(|x| &x[shifts[j] - 3..]).collect();
+                let mut one = vec![f32::NAN; 11 * lanes];
+                let t = &taps[j * rows * lanes..(j + 1) * rows * lanes];
+                fns.groups(t, lanes, &own, &mut one).unwrap();
+                for i in 0..11 {
+                    for l in 0..lanes {
+                        let (a, b) = (all[(i * g + j) * lanes + l], one[i * lanes + l]);
+                        assert_eq!(a.to_bits(), b.to_bits(), "{} rows {rows}", kernel.name());
+                        let w = want[(i * g + j) * lanes + l];
+                        assert!(
+                            (a - w).abs() <= 1e-5,
+                            "{} rows {rows}: {a} vs {w}",
+                            kernel.name()
+                        );
+                    }
+                }
+            }
+        }
+    }
+}
+
+#[test]
+fn bad_spans_are_errors_not_panics() {
+    let taps = vec![0.0_f32; 64];
+    let x = vec![0.0_f32; 8];
+    let mut out = vec![0.0_f32; 64];
+    let ok = GroupSpan {
+        taps: &taps,
+        lanes: 4,
+        rows: 4,
+        shifts: &[0, 2, 4],
+    };
+    for k in Kernel::available() {
+        let fns = KernelFns::new(k).unwrap();
+        assert!(fns.span(&ok, &[&x, &x], &mut out).is_ok());
+        // No rows; no groups; decreasing shifts; taps short of three groups; an input short
+        // of the last group's reach; no lanes; an output short of six inputs' groups.
+        assert!(fns
+            .span(&GroupSpan { rows: 0, ..ok }, &[&x], &mut out)
+            .is_err());
+        assert!(fns
+            .span(&GroupSpan { shifts: &[], ..ok }, &[&x], &mut out)
+            .is_err());
+        assert!(fns
+            .span(
+                &GroupSpan {
+                    shifts: &[2, 0],
+                    ..ok
+                },
+                &[&x],
+                &mut out
+            )
+            .is_err());
+        assert!(fns
+            .span(
+                &GroupSpan {
+                    taps: &taps[..40],
+                    ..ok
+                },
+                &[&x],
+                &mut out
+            )
+            .is_err());
+        assert!(fns.span(&ok, &[&x[..7]], &mut out).is_err());
+        assert!(fns
+            .span(&GroupSpan { lanes: 0, ..ok }, &[&x], &mut out)
+            .is_err());
+        assert!(fns.span(&ok, &[x.as_slice(); 6], &mut out).is_err());
+    }
+}
+
 /// A table of another width than the kernel's runs on the scalar reference, bit for bit.
 #[test]
 fn other_widths_fall_back_to_the_reference() {
@@ -204,7 +308,13 @@ fn other_widths_fall_back_to_the_reference() {
     let taps: Vec<f32> = rng.vec(30 * 3);
     let x: Vec<f32> = rng.vec(30);
     let mut want = vec![0.0_f32; 3];
-    scalar::groups(&taps, 3, &[&x], &mut want);
+    let span = GroupSpan {
+        taps: &taps,
+        lanes: 3,
+        rows: 30,
+        shifts: &[0],
+    };
+    scalar::span(&span, &[&x], &mut want);
     for kernel in Kernel::available() {
         let mut got = vec![0.0_f32; 3];
         KernelFns::new(kernel)
