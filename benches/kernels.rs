@@ -78,9 +78,12 @@ impl<T: Sample> Case<T> {
         let t = &self.table;
         let periods = FRAMES.div_ceil(t.period());
         // As the converters call the kernel: every group of a period in one span, for up to
-        // 64 inputs (periods x channels) per call, as many as the output buffer holds.
+        // 64 inputs (periods x channels) per call, as many as the output buffer holds, spread
+        // evenly over the calls.
         let span = t.span(0..t.groups());
-        let per_call = (TMP / (t.groups() * t.lanes())).clamp(1, BATCH);
+        let most = (TMP / (t.groups() * t.lanes())).clamp(1, BATCH);
+        let jobs = periods as usize * self.channels;
+        let per_call = jobs.div_ceil(jobs.div_ceil(most));
         let reach = t.first_input(t.groups() - 1) - t.first_input(0);
         let len = reach as usize + t.rows();
         let mut inputs: [&[T]; BATCH] = [&[]; BATCH];

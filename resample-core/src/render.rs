@@ -78,10 +78,21 @@ pub(crate) fn render<T: Sample>(
         let jb = (ja + span_max).min(n_groups);
         let span = table.span(ja..jb);
         let width = (jb - ja) * lanes;
-        let per_call = (TMP / width).clamp(1, BATCH);
         // Outputs of the span within a period, and the periods whose span overlaps the run.
         let (o_lo, o_hi) = (ja as u64 * w, (jb as u64 * w).min(period));
         let valid = (o_hi - o_lo) as usize;
+        // Inputs per call: as many as the buffer holds, spread evenly over the calls the
+        // periods wholly inside the run need (a last call with one input would keep only
+        // two multiply-add chains busy).
+        let whole_lo = run.first.saturating_sub(o_lo).div_ceil(period);
+        let whole_hi = if run.end >= o_hi {
+            (run.end - o_hi) / period + 1
+        } else {
+            0
+        };
+        let whole = whole_hi.saturating_sub(whole_lo) as usize * hist.channels;
+        let most = (TMP / width).clamp(1, BATCH);
+        let per_call = whole.div_ceil(whole.div_ceil(most).max(1)).clamp(1, most);
         let q_lo = if run.first >= o_hi {
             (run.first - o_hi) / period + 1
         } else {
