@@ -5,7 +5,7 @@ use rayon::prelude::*;
 
 use crate::groups::GroupTable;
 use crate::kernel::{Kernel, KernelFns, Sample};
-use crate::render::{render, History};
+use crate::render::{reach, render, History};
 use crate::{Design, Error, Result};
 
 #[cfg(doc)]
@@ -133,10 +133,8 @@ fn segment<T: Sample>(
     if frames == 0 {
         return Ok(());
     }
-    // Every group touching the segment reads between the first row of the first output's
-    // group and the last row of the last output's.
-    let start = table.first_input_of(first);
-    let stop = table.first_input_of(first + frames as u64 - 1) + table.rows() as i64;
+    // What the groups of the segment read, whole periods at its ends included.
+    let (start, stop) = reach(table, first, frames);
     let stride = (stop - start) as usize;
     let n = ins.first().map_or(0, |i| i.len()) as i64;
     let mut hist = vec![T::zero(); stride * ins.len()];

@@ -29,6 +29,33 @@ const TMP: usize = 4096;
 /// Most lanes a kernel uses (`f32` in 512-bit vectors).
 pub(crate) const MAX_LANES: usize = 16;
 
+/// Whether [`render`] takes all the groups of a period in one span (their outputs fit its
+/// buffer).
+pub(crate) fn whole_periods<T>(table: &GroupTable<T>) -> bool {
+    table.groups() * table.lanes() <= TMP
+}
+
+/// The inputs `[start, stop)` a history should hold for [`render`] to take every period of
+/// outputs `first..first + frames` as one span, the periods cut by the run's ends included
+/// (their outputs outside the run are computed and dropped); without them, such periods
+/// are computed group by group, only the groups inside the run. `frames` must be non-zero.
+pub(crate) fn reach<T>(table: &GroupTable<T>, first: u64, frames: usize) -> (i64, i64) {
+    let last = first + frames.max(1) as u64 - 1;
+    if whole_periods(table) {
+        let (p, pin) = (table.period(), table.period_inputs());
+        let g = table.groups() - 1;
+        (
+            table.first_input(0) + (first / p * pin) as i64,
+            table.first_input(g) + (last / p * pin) as i64 + table.rows() as i64,
+        )
+    } else {
+        (
+            table.first_input_of(first),
+            table.first_input_of(last) + table.rows() as i64,
+        )
+    }
+}
+
 /// Planar input history: channel `c`'s input sample `i` at
 /// `data[c * stride + (i - base)]`.
 #[derive(Debug, Clone, Copy)]
@@ -42,7 +69,9 @@ pub(crate) struct History<'a, T> {
 /// Outputs `first..first + frames` of every channel into `out`, channel `c` at
 /// `out[c * frames..][..frames]`. Every group touching that range must read inside the
 /// history (else [`Error::BufferShape`]); samples past the valid input should be zero (they
-/// meet only zero taps of the outputs kept).
+/// meet only zero taps of the outputs kept). A period cut by the run's ends is computed
+/// whole, with the others, if the history holds all its inputs (see [`reach`]), else group
+/// by group.
 pub(crate) fn render<T: Sample>(
     table: &GroupTable<T>,
     fns: &KernelFns<T>,
@@ -81,18 +110,6 @@ pub(crate) fn render<T: Sample>(
         // Outputs of the span within a period, and the periods whose span overlaps the run.
         let (o_lo, o_hi) = (ja as u64 * w, (jb as u64 * w).min(period));
         let valid = (o_hi - o_lo) as usize;
-        // Inputs per call: as many as the buffer holds, spread evenly over the calls the
-        // periods wholly inside the run need (a last call with one input would keep only
-        // two multiply-add chains busy).
-        let whole_lo = run.first.saturating_sub(o_lo).div_ceil(period);
-        let whole_hi = if run.end >= o_hi {
-            (run.end - o_hi) / period + 1
-        } else {
-            0
-        };
-        let whole = whole_hi.saturating_sub(whole_lo) as usize * hist.channels;
-        let most = (TMP / width).clamp(1, BATCH);
-        let per_call = whole.div_ceil(whole.div_ceil(most).max(1)).clamp(1, most);
         let q_lo = if run.first >= o_hi {
             (run.first - o_hi) / period + 1
         } else {
@@ -103,10 +120,10 @@ pub(crate) fn render<T: Sample>(
         } else {
             0
         };
-        let mut k = 0;
-        for q in q_lo..q_hi {
+        // The groups of the span that overlap the run in period `q`, and whether the span
+        // is computed whole there (inside the run, or all its inputs in the history).
+        let cut = |q: u64| -> (usize, usize, bool) {
             let n0 = q * period;
-            // The groups of the span that overlap the run in this period.
             let ga = if run.first > n0 + o_lo {
                 ((run.first - n0) / w) as usize
             } else {
@@ -117,10 +134,21 @@ pub(crate) fn render<T: Sample>(
             } else {
                 jb
             };
-            let whole = ga == ja && gb == jb;
+            (ga, gb, (ga, gb) == (ja, jb) || fits(table, hist, ja, jb, q))
+        };
+        // Inputs per call: as many as the buffer holds, spread evenly over the calls the
+        // whole spans need (a last call with one input would keep only two multiply-add
+        // chains busy).
+        let whole = (q_lo..q_hi).filter(|&q| cut(q).2).count() * hist.channels;
+        let most = (TMP / width).clamp(1, BATCH);
+        let per_call = whole.div_ceil(whole.div_ceil(most).max(1)).clamp(1, most);
+        let mut k = 0;
+        for q in q_lo..q_hi {
+            let n0 = q * period;
+            let (ga, gb, whole) = cut(q);
             for c in 0..hist.channels {
-                let x = window(table, hist, ga, gb, q, c)?;
                 if whole {
+                    let x = window(table, hist, ja, jb, q, c)?;
                     xs[k] = x;
                     dst[k] = (c, n0 + o_lo);
                     k += 1;
@@ -131,6 +159,7 @@ pub(crate) fn render<T: Sample>(
                     }
                 } else {
                     // A span cut by the run's ends: only the groups inside, on their own.
+                    let x = window(table, hist, ga, gb, q, c)?;
                     let part = table.span(ga..gb);
                     fns.span(&part, &[x], &mut tmp)?;
                     let start = ga as u64 * w;
@@ -153,6 +182,15 @@ struct Run {
     first: u64,
     end: u64,
     frames: usize,
+}
+
+/// Whether the history holds every input groups `ja..jb` of period `q` read.
+#[inline]
+fn fits<T>(table: &GroupTable<T>, hist: &History<'_, T>, ja: usize, jb: usize, q: u64) -> bool {
+    let lo = table.first_input(ja) + (q * table.period_inputs()) as i64;
+    let len = (table.first_input(jb - 1) - table.first_input(ja)) as usize + table.rows();
+    let at = lo - hist.base;
+    at >= 0 && at as usize + len <= hist.stride
 }
 
 /// The history groups `ga..gb` of period `q` read in channel `c`.

@@ -3,7 +3,7 @@
 
 use crate::groups::GroupTable;
 use crate::kernel::{Kernel, KernelFns, Sample};
-use crate::render::{render, History};
+use crate::render::{reach, render, whole_periods, History};
 use crate::{Design, Error, RatePair, Result};
 
 /// Input frames buffered per channel beyond the filter's history.
@@ -56,12 +56,15 @@ pub struct StreamConverter<T> {
     channels: usize,
     fns: KernelFns<T>,
     /// Planar history: channel `c` at `hist[c * stride..]`, `cap` samples of history and
-    /// input followed by room for one group's reads past the newest input (kept zero).
+    /// input followed by room for one group's reads past the newest input (kept zero) and,
+    /// with `periods`, for the rest of the last period's reads (their outputs are dropped).
     hist: Vec<T>,
     cap: usize,
     stride: usize,
     /// Kernel output, channel `c` at `scratch[c * n..(c + 1) * n]` for a block of `n`.
     scratch: Vec<T>,
+    /// History kept from the start of a period rather than of a group (see `with_kernel`).
+    periods: bool,
     /// Input index of `bufs[c][0]` (negative for the zero history before the start).
     base: i64,
     /// Valid samples per channel buffer.
@@ -90,7 +93,13 @@ impl<T: Sample> StreamConverter<T> {
         let fns = KernelFns::new(kernel)?;
         let table = GroupTable::new(design, fns.lanes())?;
         let cap = table.rows() + BLOCK;
-        let stride = cap + table.rows();
+        // Keep the inputs of whole periods when a period is short next to a block, so that
+        // the periods cut by a run's ends are computed whole with the others (see
+        // `render::reach`): history from the start of the period of the next output, and
+        // room past the newest input for the rest of its last period.
+        let spread = (table.first_input(table.groups() - 1) - table.first_input(0)) as usize;
+        let periods = whole_periods(&table) && spread + table.rows() <= BLOCK / 2;
+        let stride = cap + table.rows() + if periods { spread } else { 0 };
         let mut conv = Self {
             pair: design.pair(),
             channels,
@@ -100,6 +109,7 @@ impl<T: Sample> StreamConverter<T> {
             stride,
             scratch: vec![T::zero(); OUT_BLOCK * channels],
             table,
+            periods,
             base: 0,
             fill: 0,
             n_in: 0,
@@ -385,7 +395,11 @@ impl<T: Sample> StreamConverter<T> {
 
     /// Drop history older than the group of the next output reads.
     fn make_room(&mut self) {
-        let start = self.table.first_input_of(self.n_out);
+        let start = if self.periods {
+            reach(&self.table, self.n_out, 1).0
+        } else {
+            self.table.first_input_of(self.n_out)
+        };
         let rel = start - self.base;
         if rel <= 0 {
             return;
