@@ -70,8 +70,8 @@ pub(crate) struct History<'a, T> {
 /// `out[c * frames..][..frames]`. Every group touching that range must read inside the
 /// history (else [`Error::BufferShape`]); samples past the valid input should be zero (they
 /// meet only zero taps of the outputs kept). A period cut by the run's ends is computed
-/// whole, with the others, if the history holds all its inputs (see [`reach`]), else group
-/// by group.
+/// whole, with the others, if the history holds all its inputs (see [`reach`]) and periods
+/// are short next to the run; else only its groups inside the run, on their own.
 pub(crate) fn render<T: Sample>(
     table: &GroupTable<T>,
     fns: &KernelFns<T>,
@@ -98,6 +98,10 @@ pub(crate) fn render<T: Sample>(
     let w = lanes as u64;
     // Groups per kernel call: a whole period if its outputs fit the buffer.
     let span_max = (TMP / lanes).clamp(1, n_groups);
+    // A period cut by the run's ends is computed whole (its outputs outside the run
+    // dropped) only if periods are short next to the run, so that the extra work stays small
+    // next to what running its groups alone would cost.
+    let cut_whole = whole_periods(table) && period.saturating_mul(8) <= frames as u64;
     let mut tmp = [T::zero(); TMP];
     let mut xs: [&[T]; BATCH] = [&[]; BATCH];
     // Channel and first output of each input in the batch.
@@ -134,7 +138,8 @@ pub(crate) fn render<T: Sample>(
             } else {
                 jb
             };
-            (ga, gb, (ga, gb) == (ja, jb) || fits(table, hist, ja, jb, q))
+            let whole = (ga, gb) == (ja, jb) || (cut_whole && fits(table, hist, ja, jb, q));
+            (ga, gb, whole)
         };
         // Inputs per call: as many as the buffer holds, spread evenly over the calls the
         // whole spans need (a last call with one input would keep only two multiply-add
