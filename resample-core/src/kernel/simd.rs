@@ -105,64 +105,109 @@ macro_rules! simd_kernels {
                 stride: usize,
             ) {
                 let x: [*const $t; R] = core::array::from_fn(|k| xs[k].as_ptr());
-                let s0 = shifts[0];
-                for (g, &s) in shifts.iter().enumerate() {
-                    // Safety: group `g`'s taps and outputs are inside the caller's ranges,
-                    // and its reads end at `s - s0 + rows`, inside every input.
-                    unsafe {
-                        let xg = x.map(|p| p.add(s - s0));
-                        jobs::<R>(
-                            t.add(g * rows * $v::W),
-                            rows,
-                            xg,
-                            out.add(g * $v::W),
-                            stride,
-                        );
+                // Safety: the caller's guarantee, passed on.
+                unsafe {
+                    // Few inputs leave few multiply-add chains: run several groups side by
+                    // side then (each group's outputs computed exactly as alone).
+                    match R {
+                        1 => groups_by::<R, 4>(t, rows, shifts, x, out, stride),
+                        2 | 3 => groups_by::<R, 2>(t, rows, shifts, x, out, stride),
+                        _ => groups_by::<R, 1>(t, rows, shifts, x, out, stride),
                     }
                 }
             }
 
-            /// One group of taps against `R` inputs: two accumulators per input (even and
-            /// odd rows), added at the end, so every output is computed the same way
-            /// whatever `R`.
+            /// The groups of a span against `R` inputs, `G` groups at a time (the last ones
+            /// one at a time).
             ///
             /// # Safety
-            /// The CPU supports `$feat`; `t` is valid for `rows W` reads, every `x[i]` for
-            /// `rows` reads and `out` for `W` writes at every multiple of `stride` below
-            /// `R stride`.
+            /// As [`batch`], with the inputs' pointers in `x`.
             #[target_feature(enable = $feat)]
             #[inline]
-            unsafe fn jobs<const R: usize>(
+            unsafe fn groups_by<const R: usize, const G: usize>(
                 t: *const $t,
                 rows: usize,
+                shifts: &[usize],
                 x: [*const $t; R],
                 out: *mut $t,
+                stride: usize,
+            ) {
+                let s0 = shifts[0];
+                let n = shifts.len();
+                let mut g = 0;
+                // Safety: every group's taps and outputs are inside the caller's ranges, and
+                // group `g`'s reads end at `shifts[g] - s0 + rows`, inside every input.
+                unsafe {
+                    while g + G <= n {
+                        let tg: [*const $t; G] =
+                            core::array::from_fn(|k| t.add((g + k) * rows * $v::W));
+                        let xg: [[*const $t; R]; G] =
+                            core::array::from_fn(|k| x.map(|p| p.add(shifts[g + k] - s0)));
+                        let og: [*mut $t; G] = core::array::from_fn(|k| out.add((g + k) * $v::W));
+                        jobs::<R, G>(tg, rows, xg, og, stride);
+                        g += G;
+                    }
+                    while g < n {
+                        let xg = x.map(|p| p.add(shifts[g] - s0));
+                        jobs::<R, 1>(
+                            [t.add(g * rows * $v::W)],
+                            rows,
+                            [xg],
+                            [out.add(g * $v::W)],
+                            stride,
+                        );
+                        g += 1;
+                    }
+                }
+            }
+
+            /// `G` groups of taps, each against its `R` inputs: two accumulators per input and
+            /// group (even and odd rows), added at the end, so every output is computed the
+            /// same way whatever `R` and `G`.
+            ///
+            /// # Safety
+            /// The CPU supports `$feat`; every `t[k]` is valid for `rows W` reads, every
+            /// `x[k][i]` for `rows` reads and every `out[k]` for `W` writes at every multiple
+            /// of `stride` below `R stride`.
+            #[target_feature(enable = $feat)]
+            #[inline]
+            unsafe fn jobs<const R: usize, const G: usize>(
+                t: [*const $t; G],
+                rows: usize,
+                x: [[*const $t; R]; G],
+                out: [*mut $t; G],
                 stride: usize,
             ) {
                 use $v::*;
                 // Safety: every read is below `rows` rows, every write inside the caller's
                 // ranges; features as above.
                 unsafe {
-                    let mut a = [zero(); R];
-                    let mut b = [zero(); R];
+                    let mut a = [[zero(); R]; G];
+                    let mut b = [[zero(); R]; G];
                     let mut r = 0;
                     while r + 2 <= rows {
-                        let t0 = load(t.add(r * W));
-                        let t1 = load(t.add((r + 1) * W));
-                        for i in 0..R {
-                            a[i] = fma(a[i], t0, splat(x[i].add(r)));
-                            b[i] = fma(b[i], t1, splat(x[i].add(r + 1)));
+                        for k in 0..G {
+                            let t0 = load(t[k].add(r * W));
+                            let t1 = load(t[k].add((r + 1) * W));
+                            for i in 0..R {
+                                a[k][i] = fma(a[k][i], t0, splat(x[k][i].add(r)));
+                                b[k][i] = fma(b[k][i], t1, splat(x[k][i].add(r + 1)));
+                            }
                         }
                         r += 2;
                     }
                     if r < rows {
-                        let t0 = load(t.add(r * W));
-                        for i in 0..R {
-                            a[i] = fma(a[i], t0, splat(x[i].add(r)));
+                        for k in 0..G {
+                            let t0 = load(t[k].add(r * W));
+                            for i in 0..R {
+                                a[k][i] = fma(a[k][i], t0, splat(x[k][i].add(r)));
+                            }
                         }
                     }
-                    for i in 0..R {
-                        store(out.add(i * stride), add(a[i], b[i]));
+                    for k in 0..G {
+                        for i in 0..R {
+                            store(out[k].add(i * stride), add(a[k][i], b[k][i]));
+                        }
                     }
                 }
             }

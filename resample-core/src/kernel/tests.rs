@@ -213,10 +213,12 @@ fn spans_give_each_group_its_own_bits() {
         let fns = KernelFns::<f32>::new(kernel).unwrap();
         let lanes = fns.lanes();
         for rows in [1, 40, 41] {
-            let shifts = [3, 10, 18, 18, 25];
+            // Six groups: with one to three inputs the kernels run several groups side by
+            // side (and the last ones alone); with eleven, one group at a time.
+            let shifts = [3, 10, 18, 18, 25, 31];
             let g = shifts.len();
             let taps: Vec<f32> = rng.vec(g * rows * lanes);
-            let reach = 25 - 3 + rows;
+            let reach = 31 - 3 + rows;
             let xs: Vec<Vec<f32>> = (0..11).map(|_| rng.vec(reach)).collect();
             let refs: Vec<&[f32]> = xs.iter().map(Vec::as_slice).collect();
             let span = GroupSpan {
@@ -225,25 +227,30 @@ fn spans_give_each_group_its_own_bits() {
                 rows,
                 shifts: &shifts,
             };
-            let mut all = vec![f32::NAN; 11 * g * lanes];
-            fns.span(&span, &refs, &mut all).unwrap();
-            let mut want = vec![f32::NAN; 11 * g * lanes];
-            scalar::span(&span, &refs, &mut want);
-            for j in 0..g {
-                let own: Vec<&[f32]> = refs.iter().map(|x| &x[shifts[j] - 3..]).collect();
-                let mut one = vec![f32::NAN; 11 * lanes];
-                let t = &taps[j * rows * lanes..(j + 1) * rows * lanes];
-                fns.groups(t, lanes, &own, &mut one).unwrap();
-                for i in 0..11 {
-                    for l in 0..lanes {
-                        let (a, b) = (all[(i * g + j) * lanes + l], one[i * lanes + l]);
-                        assert_eq!(a.to_bits(), b.to_bits(), "{} rows {rows}", kernel.name());
-                        let w = want[(i * g + j) * lanes + l];
-                        assert!(
-                            (a - w).abs() <= 1e-5,
-                            "{} rows {rows}: {a} vs {w}",
-                            kernel.name()
-                        );
+            // Each group on its own, for all eleven inputs.
+            let alone: Vec<Vec<f32>> = (0..g)
+                .map(|j| {
+                    let own: Vec<&[f32]> = refs.iter().map(|x| &x[shifts[j] - 3..]).collect();
+                    let mut one = vec![f32::NAN; 11 * lanes];
+                    let t = &taps[j * rows * lanes..(j + 1) * rows * lanes];
+                    fns.groups(t, lanes, &own, &mut one).unwrap();
+                    one
+                })
+                .collect();
+            for count in [1, 2, 3, 11] {
+                let mut all = vec![f32::NAN; count * g * lanes];
+                fns.span(&span, &refs[..count], &mut all).unwrap();
+                let mut want = vec![f32::NAN; count * g * lanes];
+                scalar::span(&span, &refs[..count], &mut want);
+                for (j, one) in alone.iter().enumerate() {
+                    for i in 0..count {
+                        for l in 0..lanes {
+                            let (a, b) = (all[(i * g + j) * lanes + l], one[i * lanes + l]);
+                            let k = kernel.name();
+                            assert_eq!(a.to_bits(), b.to_bits(), "{k} rows {rows} count {count}");
+                            let w = want[(i * g + j) * lanes + l];
+                            assert!((a - w).abs() <= 1e-5, "{k} rows {rows}: {a} vs {w}");
+                        }
                     }
                 }
             }
