@@ -241,13 +241,7 @@ impl<T: Sample> StreamConverter<T> {
             frames_in,
             frames_out,
             |hist, stride, at, from, n| {
-                let src = &input[from * ch..(from + n) * ch];
-                for (c, buf) in hist.chunks_exact_mut(stride).enumerate() {
-                    let dst = &mut buf[at..at + n];
-                    for (d, frame) in dst.iter_mut().zip(src.chunks_exact(ch)) {
-                        *d = frame[c];
-                    }
-                }
+                load_interleaved(hist, stride, ch, at, &input[from * ch..(from + n) * ch]);
             },
             |frame, planar, n| store_interleaved(output, ch, frame, planar, n),
         ))
@@ -505,6 +499,31 @@ fn store_interleaved<T: Copy>(output: &mut [T], ch: usize, frame: usize, planar:
     for (k, f) in frames.chunks_exact_mut(ch).enumerate() {
         for (c, v) in f.iter_mut().enumerate() {
             *v = planar[c * n + k];
+        }
+    }
+}
+
+/// Split interleaved frames `src` into the planar history `hist` (channel `c` at
+/// `hist[c * stride..]`) from index `at` on.
+#[inline]
+fn load_interleaved<T: Copy>(hist: &mut [T], stride: usize, ch: usize, at: usize, src: &[T]) {
+    let n = src.len() / ch;
+    if ch == 2 {
+        // Both channels in one pass, with the channel count known to the compiler.
+        let (l, r) = hist.split_at_mut(stride);
+        for ((a, b), f) in l[at..at + n]
+            .iter_mut()
+            .zip(&mut r[at..at + n])
+            .zip(src.chunks_exact(2))
+        {
+            *a = f[0];
+            *b = f[1];
+        }
+        return;
+    }
+    for (c, buf) in hist.chunks_exact_mut(stride).enumerate() {
+        for (d, frame) in buf[at..at + n].iter_mut().zip(src.chunks_exact(ch)) {
+            *d = frame[c];
         }
     }
 }
