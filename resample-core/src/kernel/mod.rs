@@ -5,15 +5,19 @@
 //! A kernel has two entry points for each sample type:
 //!
 //! * a single dot product ([`DotFn`]), and
-//! * *groups* ([`KernelFns::groups`]): one group of a [`crate::groups::GroupTable`] (a
-//!   vector of taps per input sample, one lane per output) against several inputs, the
-//!   converters' inner loop. Each input sample is broadcast to all lanes, so a group of
-//!   outputs costs one multiply-add per input sample, with aligned loads and no horizontal
-//!   sums, and each loaded vector of taps serves several inputs from registers (channels,
-//!   or periods of the same group: eight with AVX-512 and NEON, four with AVX2).
+//! * *groups*: consecutive groups of a [`crate::groups::GroupTable`] (a vector of taps per
+//!   input sample, one lane per output) against several inputs ([`KernelFns::span`], the
+//!   converters' inner loop; [`KernelFns::groups`] for one group). Each input sample is
+//!   broadcast to all lanes, so a group of outputs costs one multiply-add per input sample,
+//!   with aligned loads and no horizontal sums, and each loaded vector of taps serves
+//!   several inputs from registers (channels, or periods of the same group: eight with
+//!   AVX-512 and NEON, four with AVX2). The inputs' pointers are set up once per call for
+//!   all the groups of the span; with one to three inputs, two or four groups run side by
+//!   side.
 //!
-//! Every output is computed by the same sequence of operations whatever inputs it was
-//! grouped with, so a converter gives bit-identical results for any chunking of its input.
+//! Every output is computed by the same sequence of operations whatever inputs and groups it
+//! was computed with, so a converter gives bit-identical results for any chunking of its
+//! input.
 //!
 //! All `unsafe` code of the crate is confined to this module tree; every block says why it is
 //! sound in a `// Safety:` comment.
