@@ -11,8 +11,12 @@ machine shared with other work the CPU-time ratio is the steadier one). rerate's
 includes process start, designing the filter, reading and writing the WAV files and every
 thread it uses; scipy's only the computation.
 
+With `--files N`, each run converts N copies of the signal: rerate in one `convert` call
+with all N files (a batch, which designs the filter once), scipy N calls; the ratio is then
+that of a batch, as when converting a corpus.
+
 Usage: python3 benches/compare_scipy.py [--rerate target/release/rerate] [--rounds 5]
-       [--seconds 60] [--json]
+       [--seconds 60] [--files 1] [--json]
 Versions are pinned (fixtures/requirements.txt): numpy 2.4.6, scipy 1.17.1.
 """
 
@@ -20,6 +24,7 @@ import argparse
 import json
 import os
 import resource
+import shutil
 import statistics
 import subprocess
 import sys
@@ -72,7 +77,11 @@ def main():
     ap.add_argument("--json", action="store_true", help="print the results as JSON")
     ap.add_argument("--seconds", type=int, default=SECONDS,
                     help="length of the demo signal (60 by default, as the target is stated)")
+    ap.add_argument("--files", type=int, default=1,
+                    help="files per run: rerate converts them in one call, scipy one by one")
     args = ap.parse_args()
+    if args.files < 1:
+        sys.exit("--files must be at least 1")
 
     versions = {"numpy": np.__version__, "scipy": scipy.__version__}
     if versions != PINNED and not args.any_version:
@@ -82,23 +91,28 @@ def main():
     with tempfile.TemporaryDirectory() as tmp:
         for in_rate, out_rate, db in CASES:
             x = demo_signal(in_rate, args.seconds)
-            src = os.path.join(tmp, f"demo_{in_rate}.wav")
-            scipy.io.wavfile.write(src, in_rate, x)
+            srcs = [os.path.join(tmp, f"demo_{in_rate}_{i}.wav") for i in range(args.files)]
+            for src in srcs:
+                scipy.io.wavfile.write(src, in_rate, x)
             taps_file = os.path.join(tmp, "taps.txt")
             design = json.loads(run([rerate, "design", "--in-rate", str(in_rate), "--out-rate",
                                      str(out_rate), "--stopband-db", str(db), "--export", taps_file,
                                      "--force", "--json"]))
             h = np.loadtxt(taps_file)
             up, down = design["up"], design["down"]
-            dst = os.path.join(tmp, "out.wav")
-            cmd = [rerate, "convert", src, "--out-rate", str(out_rate), "-o", dst, "--float",
+            # One file: to a file; several: into a folder (the outputs keep the inputs' names).
+            dst = os.path.join(tmp, "out.wav" if args.files == 1 else "out")
+            first_out = dst if args.files == 1 else os.path.join(dst, os.path.basename(srcs[0]))
+            cmd = [rerate, "convert", *srcs, "--out-rate", str(out_rate), "-o", dst, "--float",
                    "--stopband-db", str(db), "--force"]
             ours, theirs, ours_cpu, theirs_cpu = [], [], [], []
             y_ref = None
             for _ in range(args.rounds):
                 # A fresh output path each run, as when converting a file for the first time
                 # (replacing an existing file adds the time to free the old one's space).
-                if os.path.exists(dst):
+                if os.path.isdir(dst):
+                    shutil.rmtree(dst)
+                elif os.path.exists(dst):
                     os.remove(dst)
                 t0, c0 = time.perf_counter(), child_cpu()
                 run(cmd)
@@ -106,10 +120,11 @@ def main():
                 ours_cpu.append(child_cpu() - c0)
                 x_mem = x.astype(np.float64)
                 t0, c0 = time.perf_counter(), time.process_time()
-                y_ref = scipy.signal.resample_poly(x_mem, up, down, axis=0, window=h)
+                for _ in range(args.files):
+                    y_ref = scipy.signal.resample_poly(x_mem, up, down, axis=0, window=h)
                 theirs.append(time.perf_counter() - t0)
                 theirs_cpu.append(time.process_time() - c0)
-            _, y = scipy.io.wavfile.read(dst)
+            _, y = scipy.io.wavfile.read(first_out)
             diff = float(np.max(np.abs(y.astype(np.float64) - y_ref))) if y.shape == y_ref.shape else float("nan")
             row = {
                 "in_rate": in_rate, "out_rate": out_rate, "stopband_db": db,
@@ -130,10 +145,11 @@ def main():
                       flush=True)
     if args.json:
         print(json.dumps({"versions": versions, "rounds": args.rounds, "seconds": args.seconds,
-                          "channels": 2, "results": results}, indent=1))
+                          "files": args.files, "channels": 2, "results": results}, indent=1))
     else:
-        print(f"numpy {versions['numpy']}, scipy {versions['scipy']}; {args.seconds} s stereo; "
-              f"median of {args.rounds} alternating runs")
+        files = f" x {args.files} files per run" if args.files > 1 else ""
+        print(f"numpy {versions['numpy']}, scipy {versions['scipy']}; {args.seconds} s stereo"
+              f"{files}; median of {args.rounds} alternating runs")
 
 
 if __name__ == "__main__":
