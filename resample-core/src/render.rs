@@ -8,11 +8,11 @@
 //! Groups that stick out of the run are computed whole and only the outputs inside the run
 //! are kept, so an output's value never depends on where a run starts or ends.
 //!
-//! Nor does it depend on how outputs are grouped: a kernel sums an output's products in
-//! partial sums by the parity of the input (by input index modulo four for tables folded in
-//! pairs), each in input order, and adds them in a fixed pattern; the products of zero taps
-//! add exact zeros, and which row a group starts on only swaps operands of those
-//! additions. So a converter started at any input frame computes the outputs it shares with
+//! Nor does it depend on how outputs are grouped or which groups share a kernel call: a
+//! kernel sums an output's products in two partial sums, inputs of one parity and of the
+//! other, each in input order, and adds the two; the products of zero taps add exact zeros,
+//! and which parity a group's first row has only swaps the two operands of the final
+//! addition. So a converter started at any input frame computes the outputs it shares with
 //! one started at frame 0 bit for bit (the segmented file conversion of the command-line
 //! tool relies on this).
 
