@@ -108,10 +108,13 @@ macro_rules! simd_kernels {
                 // Safety: the caller's guarantee, passed on.
                 unsafe {
                     // Few inputs leave few multiply-add chains: run several groups side by
-                    // side then (each group's outputs computed exactly as alone).
+                    // side then (each group's outputs computed exactly as alone), keeping the
+                    // accumulators (2 G R) to eight with sixteen vector registers (AVX2,
+                    // `JOBS` 4) and to twelve with thirty-two.
                     match R {
                         1 => groups_by::<R, 4>(t, rows, shifts, x, out, stride),
-                        2 | 3 => groups_by::<R, 2>(t, rows, shifts, x, out, stride),
+                        2 => groups_by::<R, 2>(t, rows, shifts, x, out, stride),
+                        3 if $v::JOBS >= 8 => groups_by::<R, 2>(t, rows, shifts, x, out, stride),
                         _ => groups_by::<R, 1>(t, rows, shifts, x, out, stride),
                     }
                 }
