@@ -26,9 +26,6 @@ const BATCH: usize = 64;
 /// Values of the buffer a kernel call writes into (on the stack: 32 KB of `f64`).
 const TMP: usize = 4096;
 
-/// Most lanes a kernel uses (`f32` in 512-bit vectors).
-pub(crate) const MAX_LANES: usize = 16;
-
 /// Whether [`render`] takes all the groups of a period in one span (their outputs fit its
 /// buffer).
 pub(crate) fn whole_periods<T>(table: &GroupTable<T>) -> bool {
@@ -82,9 +79,9 @@ pub(crate) fn render<T: Sample>(
 ) -> Result<()> {
     let lanes = table.lanes();
     let n_groups = table.groups();
-    if lanes > MAX_LANES || out.len() < frames * hist.channels {
+    if lanes > TMP || out.len() < frames * hist.channels {
         return Err(Error::BufferShape {
-            what: "render output (channels x frames) and lanes",
+            what: "render output (channels x frames) and lanes (one group in the buffer)",
             expected: frames * hist.channels,
             got: out.len(),
         });
