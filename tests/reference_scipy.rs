@@ -135,7 +135,15 @@ fn measured_stopband_meets_request_per_scipy() {
             r.measured_stopband_db
         );
         assert!((r.measured_stopband_db - scipy_db).abs() < 1.0);
+        // The ripple: scipy reads it on a grid of the passband alone, 64 points per 1/len
+        // (within about 0.1 % of the response's own); ours refines the grid's extremes on
+        // the exact response, so the two agree closely (a plain 16 x grid reads a few
+        // percent low).
         let ripple = num(s, "scipy_ripple_db");
-        assert!((r.passband_ripple_db - ripple).abs() <= 0.1 * ripple + 1e-9);
+        assert!(
+            (r.passband_ripple_db - ripple).abs() <= 0.005 * ripple + 1e-12,
+            "{a}->{b} {req} dB: ripple {} vs scipy {ripple}",
+            r.passband_ripple_db
+        );
     }
 }
