@@ -409,24 +409,36 @@ fn refine(taps: &[f64], mut lo: f64, mut hi: f64, sign: f64) -> f64 {
     sign * best
 }
 
-/// `(cos(w k), sin(w k))` for `k = start, start + 1, ...`: a complex rotation re-anchored to
-/// an exact `sin_cos` every 32 steps, so the error stays near the rounding of a few dozen
-/// products.
-fn phasors(w: f64, start: usize) -> impl Iterator<Item = (f64, f64)> {
-    let (step_s, step_c) = w.sin_cos();
-    let (mut zc, mut zs) = (1.0_f64, 0.0_f64);
-    (start..).map(move |k| {
-        if (k - start) % 32 == 0 {
-            let (s, c) = (w * k as f64).sin_cos();
-            zc = c;
-            zs = s;
-        } else {
-            let nc = zc * step_c - zs * step_s;
-            zs = zs * step_c + zc * step_s;
-            zc = nc;
+/// `(sum_k h[k] cos(w (start + k)), sum_k h[k] sin(w (start + k)))`.
+///
+/// The phasors `e^{j w k}` come from complex rotations in eight independent lanes (lane `i`
+/// takes `k = i, i + 8, ...`, rotating by `8 w` a step), so the multiply-adds do not wait on
+/// one another; every lane is re-anchored to an exact value every 32 steps, so the error
+/// stays near the rounding of a few dozen products.
+fn cos_sin_sums(h: &[f64], w: f64, start: usize) -> (f64, f64) {
+    const LANES: usize = 8;
+    const STEPS: usize = 32;
+    const BLOCK: usize = LANES * STEPS;
+    let (s8, c8) = (w * LANES as f64).sin_cos();
+    let offsets: [(f64, f64); LANES] = std::array::from_fn(|i| (w * i as f64).sin_cos());
+    let (mut re, mut im) = ([0.0_f64; LANES], [0.0_f64; LANES]);
+    for (b, block) in h.chunks(BLOCK).enumerate() {
+        let (s0, c0) = (w * (start + b * BLOCK) as f64).sin_cos();
+        let mut zc: [f64; LANES] = std::array::from_fn(|i| c0 * offsets[i].1 - s0 * offsets[i].0);
+        let mut zs: [f64; LANES] = std::array::from_fn(|i| s0 * offsets[i].1 + c0 * offsets[i].0);
+        for row in block.chunks(LANES) {
+            for (i, &x) in row.iter().enumerate() {
+                re[i] += x * zc[i];
+                im[i] += x * zs[i];
+            }
+            for i in 0..LANES {
+                let nc = zc[i] * c8 - zs[i] * s8;
+                zs[i] = zs[i] * c8 + zc[i] * s8;
+                zc[i] = nc;
+            }
         }
-        (zc, zs)
-    })
+    }
+    (re.iter().sum(), im.iter().sum())
 }
 
 /// `|sum_n taps[n] e^{-j 2 pi f n}|` evaluated directly (`f` as a fraction of the rate).
@@ -439,16 +451,11 @@ pub fn magnitude_at(taps: &[f64], f: f64) -> f64 {
     let symmetric = n % 2 == 1 && (0..n / 2).all(|i| taps[i] == taps[n - 1 - i]);
     if symmetric {
         let c = n / 2;
-        let tail = taps[c + 1..].iter().zip(phasors(w, 1));
-        let acc = taps[c] + tail.map(|(&h, (cos, _))| 2.0 * h * cos).sum::<f64>();
-        acc.abs()
+        let (cos, _) = cos_sin_sums(&taps[c + 1..], w, 1);
+        (taps[c] + 2.0 * cos).abs()
     } else {
-        let (mut re, mut im) = (0.0_f64, 0.0_f64);
-        for (&h, (cos, sin)) in taps.iter().zip(phasors(w, 0)) {
-            re += h * cos;
-            im -= h * sin;
-        }
-        re.hypot(im)
+        let (re, im) = cos_sin_sums(taps, w, 0);
+        re.hypot(-im)
     }
 }
 
