@@ -65,7 +65,7 @@ impl Run<'_> {
             let (out_tx, out_rx) = mpsc::sync_channel::<(Vec<T>, usize)>(WRITE_QUEUE);
             let (out_back_tx, out_back_rx) = mpsc::channel::<Vec<T>>();
             let write = s.spawn(move || -> Result<WavWriter, WavError> {
-                writer.sync_every(SYNC_EVERY_BYTES);
+                writer.sync_every(SYNC_EVERY_BYTES)?;
                 for (buf, n) in out_rx {
                     writer.write_frames(&buf[..n])?;
                     let _ = out_back_tx.send(buf);

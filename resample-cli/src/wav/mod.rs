@@ -31,6 +31,7 @@ mod error;
 mod limits;
 mod quantize;
 mod reader;
+mod writeback;
 mod writer;
 
 pub use dither::{Dither, Tpdf, DITHER_SEED};

@@ -13,6 +13,7 @@ use super::encoding::Encoding;
 use super::error::WavError;
 use super::limits::check_riff_size;
 use super::quantize::{LevelStats, Quantizer};
+use super::writeback::WriteBack;
 use crate::staged::StagedFile;
 
 /// Write buffer size.
@@ -73,6 +74,8 @@ pub struct WavWriter {
     sync_every: u64,
     /// `data_bytes` at the last write-back.
     synced: u64,
+    /// The thread doing the write-backs, when `sync_every` is set.
+    writeback: Option<WriteBack>,
 }
 
 impl std::fmt::Debug for WavWriter {
@@ -152,6 +155,7 @@ impl WavWriter {
             bytes: Vec::new(),
             sync_every: 0,
             synced: 0,
+            writeback: None,
         })
     }
 
@@ -161,10 +165,19 @@ impl WavWriter {
     }
 
     /// Have the data written back to the disk every `bytes` bytes as it comes, rather than
-    /// all at once by [`WavWriter::finish`] (which still makes the whole file durable): for
-    /// a writer on a thread of its own, so that little is left to wait for at the end.
-    pub fn sync_every(&mut self, bytes: u64) {
+    /// all at once by [`WavWriter::finish`] (which still makes the whole file durable), so
+    /// that little is left to wait for at the end. The write-backs run on a thread of their
+    /// own: writing never waits on the disk in between.
+    pub fn sync_every(&mut self, bytes: u64) -> Result<(), WavError> {
         self.sync_every = bytes;
+        if bytes > 0 && self.writeback.is_none() {
+            if let Some(out) = &self.out {
+                self.writeback = Some(
+                    WriteBack::start(out.get_ref()).map_err(|e| WavError::io("cannot write", e))?,
+                );
+            }
+        }
+        Ok(())
     }
 
     /// Frames written so far.
@@ -200,11 +213,13 @@ impl WavWriter {
         }
         self.data_bytes = total;
         self.frames += (samples.len() / ch) as u64;
-        if self.sync_every > 0 && total - self.synced >= self.sync_every {
-            self.synced = total;
-            out.flush()
-                .and_then(|()| out.get_ref().sync_data())
-                .map_err(|e| WavError::io("cannot write", e))?;
+        if let Some(wb) = &mut self.writeback {
+            if total - self.synced >= self.sync_every {
+                self.synced = total;
+                out.flush()
+                    .and_then(|()| wb.request())
+                    .map_err(|e| WavError::io("cannot write", e))?;
+            }
         }
         Ok(())
     }
@@ -229,6 +244,9 @@ impl WavWriter {
                 out.flush()
             };
             fill(&mut out).map_err(|e| WavError::io("cannot write", e))?;
+        }
+        if let Some(wb) = self.writeback.take() {
+            wb.finish().map_err(|e| WavError::io("cannot write", e))?;
         }
         let stats = self.quant.stats();
         self.staged.commit()?;
