@@ -259,6 +259,7 @@ impl Measurer {
         // The passband's extremes likewise: the grid's local maxima (minima) within a tenth
         // of the grid's peak-to-peak ripple of its largest (smallest) value are refined on
         // the exact response, so that the ripple reported is the response's, not the grid's.
+        let resp = Response::new(taps);
         let swing = pmax - pmin;
         let extremes: Vec<(usize, f64)> = if swing > 0.0 {
             (1..pass_end)
@@ -286,7 +287,7 @@ impl Measurer {
                                 let f = k as f64 * bin;
                                 let lo = (f - bin).max(stop);
                                 let hi = (f + bin).min(0.5);
-                                refine_peak(taps, lo, hi)
+                                refine_peak(&resp, lo, hi)
                             })
                             .collect()
                     },
@@ -297,7 +298,7 @@ impl Measurer {
                                 let f = k as f64 * bin;
                                 let lo = (f - bin).max(0.0);
                                 let hi = (f + bin).min(pass);
-                                (refine(taps, lo, hi, sign), sign)
+                                (refine(&resp, lo, hi, sign), sign)
                             })
                             .collect()
                     },
@@ -305,7 +306,7 @@ impl Measurer {
             },
             // The band edges rarely fall on a grid point, and the response changes fastest
             // there: evaluate them exactly.
-            || rayon::join(|| magnitude_at(taps, stop), || magnitude_at(taps, pass)),
+            || rayon::join(|| resp.at(stop), || resp.at(pass)),
         );
         for (&(m, _), &r) in peaks.iter().zip(&refined) {
             if m < speak * GRID_LOSS {
@@ -377,15 +378,15 @@ fn smooth_at_least(n: usize) -> usize {
 
 /// Largest `magnitude_at` in `[lo, hi]` by golden-section search (the interval holds one
 /// lobe top).
-fn refine_peak(taps: &[f64], lo: f64, hi: f64) -> f64 {
-    refine(taps, lo, hi, 1.0)
+fn refine_peak(resp: &Response<'_>, lo: f64, hi: f64) -> f64 {
+    refine(resp, lo, hi, 1.0)
 }
 
 /// Largest (`sign` 1) or smallest (`sign` -1) `magnitude_at` in `[lo, hi]` by golden-section
 /// search (the interval holds one extreme), as a magnitude.
-fn refine(taps: &[f64], mut lo: f64, mut hi: f64, sign: f64) -> f64 {
+fn refine(resp: &Response<'_>, mut lo: f64, mut hi: f64, sign: f64) -> f64 {
     const INV_PHI: f64 = 0.618_033_988_749_894_8;
-    let at = |f: f64| sign * magnitude_at(taps, f);
+    let at = |f: f64| sign * resp.at(f);
     let mut best = at(lo).max(at(hi));
     let mut a = hi - INV_PHI * (hi - lo);
     let mut b = lo + INV_PHI * (hi - lo);
@@ -446,16 +447,35 @@ fn cos_sin_sums(h: &[f64], w: f64, start: usize) -> (f64, f64) {
 /// Odd-length symmetric taps take the zero-phase form `h[c] + 2 sum_k h[c+k] cos(2 pi f k)`,
 /// at half the cost.
 pub fn magnitude_at(taps: &[f64], f: f64) -> f64 {
-    let w = 2.0 * core::f64::consts::PI * f;
-    let n = taps.len();
-    let symmetric = n % 2 == 1 && (0..n / 2).all(|i| taps[i] == taps[n - 1 - i]);
-    if symmetric {
-        let c = n / 2;
-        let (cos, _) = cos_sin_sums(&taps[c + 1..], w, 1);
-        (taps[c] + 2.0 * cos).abs()
-    } else {
-        let (re, im) = cos_sin_sums(taps, w, 0);
-        re.hypot(-im)
+    Response::new(taps).at(f)
+}
+
+/// A filter's exact magnitude response, with its symmetry found once for many frequencies.
+struct Response<'a> {
+    taps: &'a [f64],
+    /// Odd length and `taps[i] == taps[n - 1 - i]`: the zero-phase form applies.
+    symmetric: bool,
+}
+
+impl<'a> Response<'a> {
+    fn new(taps: &'a [f64]) -> Self {
+        let n = taps.len();
+        let symmetric = n % 2 == 1 && (0..n / 2).all(|i| taps[i] == taps[n - 1 - i]);
+        Self { taps, symmetric }
+    }
+
+    /// `|H(f)|`, `f` as a fraction of the rate.
+    fn at(&self, f: f64) -> f64 {
+        let w = 2.0 * core::f64::consts::PI * f;
+        let taps = self.taps;
+        if self.symmetric {
+            let c = taps.len() / 2;
+            let (cos, _) = cos_sin_sums(&taps[c + 1..], w, 1);
+            (taps[c] + 2.0 * cos).abs()
+        } else {
+            let (re, im) = cos_sin_sums(taps, w, 0);
+            re.hypot(-im)
+        }
     }
 }
 
