@@ -235,13 +235,34 @@ impl Measurer {
         const GRID_LOSS: f64 = 0.9;
         let peaks = &mut self.peaks;
         peaks.clear();
+        // The scan runs in parallel pieces, each keeping only the peaks within GRID_LOSS of
+        // the largest it has seen so far (a superset of those within GRID_LOSS of the
+        // largest of all, which the retain below keeps), in order of frequency.
+        let is_peak = |k: usize, m: f64| {
+            (k == stop_start || m >= mag(k - 1)) && (k == bins || m >= mag(k + 1))
+        };
         peaks.extend(
-            (stop_start..=bins)
-                .filter(|&k| {
-                    let m = mag(k);
-                    (k == stop_start || m >= mag(k - 1)) && (k == bins || m >= mag(k + 1))
-                })
-                .map(|k| (mag(k), k)),
+            (stop_start..bins + 1)
+                .into_par_iter()
+                .with_min_len(1 << 14)
+                .fold(
+                    || (0.0_f64, Vec::new()),
+                    |(best, mut found), k| {
+                        let m = mag(k);
+                        // (A NaN fails the first test, as it fails `is_peak`.)
+                        if m >= best * GRID_LOSS && is_peak(k, m) {
+                            found.push((m, k));
+                            (best.max(m), found)
+                        } else {
+                            (best, found)
+                        }
+                    },
+                )
+                .map(|(_, found)| found)
+                .reduce(Vec::new, |mut a, b| {
+                    a.extend(b);
+                    a
+                }),
         );
         // Only peaks within GRID_LOSS of the largest can ever be refined (the running best
         // starts there and only grows; the rest sort after them, and the first of them
