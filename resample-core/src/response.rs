@@ -308,7 +308,7 @@ impl Measurer {
                                 let f = k as f64 * bin;
                                 let lo = (f - bin).max(stop);
                                 let hi = (f + bin).min(0.5);
-                                refine_peak(&resp, lo, hi)
+                                refine(&resp, lo, hi, 1.0)
                             })
                             .collect()
                     },
@@ -395,12 +395,6 @@ fn smooth_at_least(n: usize) -> usize {
         p5 *= 5;
     }
     best
-}
-
-/// Largest `magnitude_at` in `[lo, hi]` by golden-section search (the interval holds one
-/// lobe top).
-fn refine_peak(resp: &Response<'_>, lo: f64, hi: f64) -> f64 {
-    refine(resp, lo, hi, 1.0)
 }
 
 /// Largest (`sign` 1) or smallest (`sign` -1) `magnitude_at` in `[lo, hi]` by golden-section
