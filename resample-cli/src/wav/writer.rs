@@ -70,7 +70,8 @@ pub struct WavWriter {
     /// Bytes of audio written.
     data_bytes: u64,
     bytes: Vec<u8>,
-    /// Write back to the disk every this many bytes (0: only on finish).
+    /// Write back to the disk every this many bytes (0: only on finish; then `writeback`
+    /// is `None`).
     sync_every: u64,
     /// `data_bytes` at the last write-back.
     synced: u64,
@@ -170,7 +171,10 @@ impl WavWriter {
     /// own: writing never waits on the disk in between.
     pub fn sync_every(&mut self, bytes: u64) -> Result<(), WavError> {
         self.sync_every = bytes;
-        if bytes > 0 && self.writeback.is_none() {
+        if bytes == 0 {
+            // Back to writing everything back on finish (the thread stops here).
+            self.writeback = None;
+        } else if self.writeback.is_none() {
             if let Some(out) = &self.out {
                 self.writeback = Some(
                     WriteBack::start(out.get_ref()).map_err(|e| WavError::io("cannot write", e))?,
