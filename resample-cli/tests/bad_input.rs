@@ -108,8 +108,23 @@ fn float64() {
 }
 
 #[test]
-fn pcm12() {
-    check("pcm12.wav", "12 bits per sample");
+fn ext24in32_right_justified() {
+    // Written right-justified by fixtures/make_wav_fixtures.py, against the left
+    // justification of Microsoft, "Multiple channel audio data and WAVE files": refused at
+    // the first sample whose padding bits are set, never read 48 dB low.
+    check(
+        "ext24in32_right_justified.wav",
+        "frame 0, channel 1 has some of its 8 low padding bits set",
+    );
+}
+
+#[test]
+fn ext_valid_over_container() {
+    // A refusal names the valid bits, not only the container.
+    check(
+        "ext_valid_over_container.wav",
+        "20 valid bits in 16-bit containers",
+    );
 }
 
 #[test]

@@ -125,3 +125,101 @@ fn bits_and_float_change_the_format() {
     );
     assert_eq!(o.status.code(), Some(2));
 }
+
+/// Peak of `x` in dBFS.
+fn peak_dbfs(x: &[f64]) -> f64 {
+    20.0 * x.iter().fold(0.0_f64, |m, v| m.max(v.abs())).log10()
+}
+
+#[test]
+fn valid_bits_below_the_container_are_read_left_justified() {
+    // Files written by fixtures/make_wav_fixtures.py (numpy + struct, not by hound or by
+    // rerate): a 1 kHz tone at -6 dBFS with 24 valid bits in 32-bit containers, 20 in 24,
+    // and plain PCM of 12 bits in 16. Samples are left-justified in their containers
+    // (Microsoft, "Multiple channel audio data and WAVE files"); read from the low bytes, as
+    // rerate once did, the 24-in-32 tone came out at +1 dBFS with hundreds of clips.
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    for (name, ch, valid, out_bits) in [
+        ("ext24in32_stereo_48k.wav", 2usize, 24u32, 24u16),
+        ("ext20in24_mono_48k.wav", 1, 20, 24),
+        ("pcm12_mono_48k.wav", 1, 12, 16),
+    ] {
+        let input = fixtures().join("ok").join(name);
+        let (rate, _, enc, x) = read_wav(&input);
+        assert_eq!(rate, 48_000);
+        // The output keeps the word length: the smallest written one holding every valid bit.
+        assert_eq!(enc, Encoding::Int(out_bits), "{name}");
+        // The tone the script wrote: sin(2 pi 1000 t - c pi / 2) at -6 dBFS, rounded to the
+        // valid bits (common practice, no source).
+        let top = f64::from(1u32 << (valid - 1));
+        let amp = 10f64.powf(-6.0 / 20.0);
+        let worst = x
+            .iter()
+            .enumerate()
+            .map(|(i, v)| {
+                let (f, c) = (i / ch, i % ch);
+                let t = f as f64 / 48_000.0;
+                let e = amp
+                    * (2.0 * std::f64::consts::PI * 1000.0 * t
+                        - c as f64 * std::f64::consts::FRAC_PI_2)
+                        .sin();
+                let e = (e * top).round().clamp(-top, top - 1.0) / top;
+                (v - e).abs()
+            })
+            .fold(0.0, f64::max);
+        assert!(worst == 0.0, "{name}: decoded sample off by {worst:e}");
+        // Through the whole command: a same-rate copy as float keeps every value, and a
+        // conversion keeps the level (-6 dBFS, nothing clipped).
+        let o = rerate(
+            d,
+            &[
+                "convert",
+                input.to_str().unwrap(),
+                "--out-rate",
+                "48k",
+                "--float",
+                "-o",
+                "copy.wav",
+                "--force",
+            ],
+        );
+        assert!(o.status.success(), "{name}: {}", err(&o));
+        let (_, _, _, y) = read_wav(&d.join("copy.wav"));
+        assert_eq!(y.len(), x.len());
+        let worst = y
+            .iter()
+            .zip(&x)
+            .map(|(a, b)| (a - b).abs())
+            .fold(0.0, f64::max);
+        assert!(worst < 1e-7, "{name}: same-rate copy off by {worst:e}");
+        let o = rerate(
+            d,
+            &[
+                "convert",
+                input.to_str().unwrap(),
+                "--out-rate",
+                "44.1k",
+                "-o",
+                "conv.wav",
+                "--force",
+                "--json",
+            ],
+        );
+        assert!(o.status.success(), "{name}: {}", err(&o));
+        let (_, _, oenc, y) = read_wav(&d.join("conv.wav"));
+        assert_eq!(oenc, Encoding::Int(out_bits), "{name}");
+        // Away from the ends, where the tone's abrupt start and stop ring.
+        let n = y.len();
+        let p = peak_dbfs(&y[n / 4..3 * n / 4]);
+        assert!(
+            (p + 6.0).abs() < 0.05,
+            "{name}: peak {p:.2} dBFS, expected -6"
+        );
+        let report = out(&o);
+        assert!(
+            report.contains("\"clipped\": 0") || report.contains("\"clipped\":0"),
+            "{name}: {report}"
+        );
+    }
+}

@@ -1,7 +1,7 @@
 //! Walking a RIFF/WAVE file's chunk list (bounded; nothing is allocated by a declared size)
 //! to find the format chunk and where the audio data lies. RIFF pads odd-length chunks to an
-//! even length; the walk honours that, and hands `hound` a clean header of just the format
-//! and data chunks.
+//! even length; the walk honours that. The format chunk is parsed here too, so that every
+//! layout the specifications allow is decoded by their rules (left-justified valid bits).
 
 use std::io::{self, Read, Seek, SeekFrom};
 
@@ -24,39 +24,23 @@ pub(crate) struct Layout {
 }
 
 impl Layout {
-    /// A minimal RIFF header (format chunk + data chunk header) for `hound`, to be followed
-    /// by the audio bytes.
-    pub fn clean_header(&self) -> Vec<u8> {
-        let fmt_len = self.fmt.len() as u32;
-        let riff_len = 4u32
-            .saturating_add(8 + fmt_len)
-            .saturating_add(8)
-            .saturating_add(self.data_len);
-        let mut h = Vec::with_capacity(28 + self.fmt.len());
-        h.extend_from_slice(b"RIFF");
-        h.extend_from_slice(&riff_len.to_le_bytes());
-        h.extend_from_slice(b"WAVE");
-        h.extend_from_slice(b"fmt ");
-        h.extend_from_slice(&fmt_len.to_le_bytes());
-        h.extend_from_slice(&self.fmt);
-        h.extend_from_slice(b"data");
-        h.extend_from_slice(&self.data_len.to_le_bytes());
-        h
-    }
-
     /// A description of the encoding in the format chunk, for an "unsupported" message:
-    /// "format tag 0x0007 (mu-law), 8 bits per sample".
+    /// "format tag 0x0007 (mu-law), 8 bits per sample", or for WAVE_FORMAT_EXTENSIBLE
+    /// "... 20 valid bits in 24-bit containers".
     pub fn describe(&self) -> String {
         let f = &self.fmt;
         let mut tag = u16::from_le_bytes([f[0], f[1]]);
         let bits = u16::from_le_bytes([f[14], f[15]]);
-        let extensible = tag == 0xFFFE && f.len() >= 26;
+        let extensible = tag == WAVE_FORMAT_EXTENSIBLE && f.len() >= 26;
+        let mut width = format!("{bits} bits per sample");
         if extensible {
             // The first two bytes of the SubFormat GUID carry the format tag.
             tag = u16::from_le_bytes([f[24], f[25]]);
+            let valid = u16::from_le_bytes([f[18], f[19]]);
+            width = format!("{valid} valid bits in {bits}-bit containers");
         }
         format!(
-            "{}format tag 0x{tag:04X} ({}), {bits} bits per sample",
+            "{}format tag 0x{tag:04X} ({}), {width}",
             if extensible {
                 "WAVE_FORMAT_EXTENSIBLE with "
             } else {
@@ -65,6 +49,134 @@ impl Layout {
             tag_name(tag, bits)
         )
     }
+
+    /// The sample layout the format chunk declares, checked for what rerate decodes:
+    /// integer PCM of 1 to 32 valid bits in containers of 1 to 4 bytes, or 32-bit IEEE
+    /// float; plain or WAVE_FORMAT_EXTENSIBLE.
+    ///
+    /// Fields of WAVEFORMATEX and WAVE_FORMAT_EXTENSIBLE as Microsoft, "Multiple channel
+    /// audio data and WAVE files" (2007) gives them: format tag at 0, channels at 2, sample
+    /// rate at 4, block align at 12, bits per sample (the container) at 14, cbSize at 16,
+    /// valid bits per sample at 18, channel mask at 20, SubFormat GUID at 24 (its first two
+    /// bytes carry the format tag).
+    pub fn format(&self) -> Result<Format, WavError> {
+        let f = &self.fmt;
+        let u16_at = |i: usize| u16::from_le_bytes([f[i], f[i + 1]]);
+        let tag = u16_at(0);
+        let channels = u16_at(2);
+        let sample_rate = u32::from_le_bytes([f[4], f[5], f[6], f[7]]);
+        let block_align = u16_at(12);
+        let bits = u16_at(14);
+        let (tag, valid_bits) = if tag == WAVE_FORMAT_EXTENSIBLE {
+            if f.len() < 40 || u16_at(16) < 22 {
+                return Err(WavError::Malformed(format!(
+                    "WAVE_FORMAT_EXTENSIBLE format chunk of {} bytes with cbSize {} \
+                     (expected 40 bytes, cbSize 22)",
+                    f.len(),
+                    if f.len() >= 18 { u16_at(16) } else { 0 }
+                )));
+            }
+            if f[26..40] != GUID_TAIL {
+                return Err(WavError::Unsupported(format!(
+                    "WAVE_FORMAT_EXTENSIBLE with a SubFormat GUID that is not a format tag \
+                     ({})",
+                    guid_text(&f[24..40])
+                )));
+            }
+            (u16_at(24), u16_at(18))
+        } else {
+            (tag, bits)
+        };
+        if channels == 0 {
+            return Err(WavError::Malformed("the header declares 0 channels".into()));
+        }
+        let container = block_align / channels;
+        if block_align == 0 || block_align % channels != 0 {
+            return Err(WavError::Malformed(format!(
+                "block align {block_align} is not a whole number of bytes per channel for \
+                 {channels} channels"
+            )));
+        }
+        let sample = match (tag, container, valid_bits) {
+            (WAVE_FORMAT_PCM, 1..=4, v) if (1..=container * 8).contains(&v) => {
+                // The container size in bits must agree with the declared sample width:
+                // equal to it (EXTENSIBLE), or its rounding up to whole bytes (plain PCM).
+                if bits.div_ceil(8) != container {
+                    return Err(WavError::Malformed(format!(
+                        "{bits} bits per sample in blocks of {container} bytes per channel"
+                    )));
+                }
+                SampleLayout::Int {
+                    container_bytes: container,
+                    valid_bits: v,
+                }
+            }
+            (WAVE_FORMAT_IEEE_FLOAT, 4, 32) => SampleLayout::Float32,
+            _ => return Err(WavError::Unsupported(self.describe())),
+        };
+        Ok(Format {
+            sample_rate,
+            channels,
+            block_align,
+            sample,
+        })
+    }
+}
+
+/// WAVEFORMATEX format tag of integer PCM (Microsoft mmreg.h).
+const WAVE_FORMAT_PCM: u16 = 0x0001;
+/// WAVEFORMATEX format tag of IEEE float samples (Microsoft mmreg.h).
+const WAVE_FORMAT_IEEE_FLOAT: u16 = 0x0003;
+/// The format tag that says "see the SubFormat GUID" (Microsoft, "Multiple channel audio
+/// data and WAVE files").
+const WAVE_FORMAT_EXTENSIBLE: u16 = 0xFFFE;
+/// The last 14 bytes of every SubFormat GUID that carries a plain format tag in its first
+/// two bytes: {xxxxxxxx-0000-0010-8000-00AA00389B71} (same source, KSDATAFORMAT_SUBTYPE_*).
+const GUID_TAIL: [u8; 14] = [
+    0x00, 0x00, 0x00, 0x00, 0x10, 0x00, 0x80, 0x00, 0x00, 0xAA, 0x00, 0x38, 0x9B, 0x71,
+];
+
+/// A GUID's 16 bytes, as usually written: {01234567-89AB-CDEF-0123-456789ABCDEF}.
+fn guid_text(g: &[u8]) -> String {
+    let hex = |b: &[u8]| b.iter().map(|x| format!("{x:02X}")).collect::<String>();
+    let rev = |b: &[u8]| hex(&b.iter().rev().copied().collect::<Vec<_>>());
+    format!(
+        "{{{}-{}-{}-{}-{}}}",
+        rev(&g[0..4]),
+        rev(&g[4..6]),
+        rev(&g[6..8]),
+        hex(&g[8..10]),
+        hex(&g[10..16])
+    )
+}
+
+/// What the format chunk declares, once checked.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) struct Format {
+    /// Frames per second (not yet checked against 0 or the converter's range).
+    pub sample_rate: u32,
+    /// Channels (never 0).
+    pub channels: u16,
+    /// Bytes per frame (never 0; channels x container bytes).
+    pub block_align: u16,
+    /// How each sample is stored.
+    pub sample: SampleLayout,
+}
+
+/// How one sample is stored.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum SampleLayout {
+    /// Integer PCM: `valid_bits` significant bits, left-justified in a little-endian
+    /// container of `container_bytes` (the low bits are zero; 8-bit containers are
+    /// unsigned with offset 128, wider ones two's complement).
+    Int {
+        /// 1 to 4.
+        container_bytes: u16,
+        /// 1 to 8 x `container_bytes`.
+        valid_bits: u16,
+    },
+    /// 32-bit little-endian IEEE float, full scale ±1.0.
+    Float32,
 }
 
 fn read_exact_or<R: Read>(r: &mut R, buf: &mut [u8], short: WavError) -> Result<(), WavError> {

@@ -13,7 +13,7 @@ pub enum Encoding {
 }
 
 impl Encoding {
-    /// The encoding of a `hound` spec, if rerate supports it.
+    /// The encoding of a `hound` spec, if rerate writes it.
     pub fn from_spec(spec: &hound::WavSpec) -> Option<Self> {
         match (spec.sample_format, spec.bits_per_sample) {
             (hound::SampleFormat::Int, b @ (8 | 16 | 24 | 32)) => Some(Self::Int(b)),

@@ -49,6 +49,10 @@ pub enum WavError {
     /// A sample encoding rerate does not read or write.
     #[error("unsupported encoding: {0} (supported: 8/16/24/32-bit integer PCM, 32-bit float)")]
     Unsupported(String),
+    /// The sample data breaks a rule of its declared layout (e.g. padding bits set below
+    /// the valid bits of a left-justified container).
+    #[error("{0}")]
+    BadSamples(String),
     /// The header says the sample rate is zero.
     #[error("the header declares a sample rate of 0 Hz")]
     ZeroRate,

@@ -1,6 +1,7 @@
-//! WAV files through `hound`: a streaming reader that checks what the header claims before
-//! trusting it, a streaming writer that requantizes (with TPDF dither) and counts what had
-//! to be clipped, and the pieces they share.
+//! WAV files: a streaming reader that checks what the header claims before trusting it and
+//! decodes every layout by the specifications' rules (its own header parsing), a streaming
+//! writer that requantizes (with TPDF dither) and counts what had to be clipped, and the
+//! pieces they share.
 //!
 //! Samples travel as floating point with full scale at ±1.0: an integer code `c` of an
 //! `N`-bit file is `c / 2^(N-1)`.
