@@ -1,7 +1,7 @@
 //! Kernel speed: multiply-accumulates per second of every kernel this CPU runs, at 16, 32,
 //! 64, 128 and 256 taps per phase, `f32` and `f64`, one and two channels, and the core's
 //! peak multiply-add rate measured in the same run by a register-only loop
-//! (`resample_core::kernel::peak`). Prints a summary table with the fraction of peak, then
+//! (`resample_core::internals::peak`). Prints a summary table with the fraction of peak, then
 //! runs the same cases under criterion.
 //!
 //! One run is what a converter does for one block: every group of a 44.1 kHz -> 48 kHz
@@ -19,8 +19,9 @@ use std::hint::black_box;
 use std::time::{Duration, Instant};
 
 use criterion::{BenchmarkId, Criterion, Throughput};
-use resample_core::groups::GroupTable;
-use resample_core::kernel::{peak, Kernel, KernelFns, Sample};
+use resample_core::internals::GroupTable;
+use resample_core::internals::{peak, KernelFns};
+use resample_core::{Kernel, Sample};
 
 const TAPS: [usize; 5] = [16, 32, 64, 128, 256];
 const CHANNELS: [usize; 2] = [1, 2];

@@ -5,6 +5,7 @@
 //!
 //! The `rerate` binary parses flags, calls these and prints.
 #![deny(missing_docs)]
+#![forbid(unsafe_code)]
 
 pub mod batch;
 pub mod convert;

@@ -4,6 +4,8 @@
 //! 1 a measured check failed (or some files of a batch failed), 2 bad usage,
 //! 3 the work could not be done (bad input, I/O error, impossible design).
 
+#![forbid(unsafe_code)]
+
 mod cmd;
 mod output;
 mod plot;

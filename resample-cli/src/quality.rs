@@ -28,8 +28,8 @@ pub fn format_snr_db(bits: u16) -> f64 {
 pub fn default_stopband_db(encoding: Encoding) -> f64 {
     let want = format_snr_db(encoding.resolution_bits()) + STOPBAND_MARGIN_DB;
     ((want / 10.0).ceil() * 10.0).clamp(
-        resample_core::design::MIN_STOPBAND_DB,
-        resample_core::design::MAX_STOPBAND_DB,
+        resample_core::limits::MIN_STOPBAND_DB,
+        resample_core::limits::MAX_STOPBAND_DB,
     )
 }
 

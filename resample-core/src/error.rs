@@ -15,8 +15,8 @@ pub enum Error {
     /// The requested stopband attenuation is outside the supported range.
     #[error(
         "stopband attenuation {db} dB is out of range ({min} to {max} dB)",
-        min = crate::design::MIN_STOPBAND_DB,
-        max = crate::design::MAX_STOPBAND_DB
+        min = crate::limits::MIN_STOPBAND_DB,
+        max = crate::limits::MAX_STOPBAND_DB
     )]
     StopbandOutOfRange {
         /// The attenuation that was asked for, in dB.
@@ -25,8 +25,8 @@ pub enum Error {
     /// The requested passband edge is outside the supported range.
     #[error(
         "passband edge {fraction} is out of range ({min} to {max} of the lower Nyquist frequency)",
-        min = crate::design::MIN_PASSBAND,
-        max = crate::design::MAX_PASSBAND
+        min = crate::limits::MIN_PASSBAND,
+        max = crate::limits::MAX_PASSBAND
     )]
     PassbandOutOfRange {
         /// The fraction of the lower Nyquist frequency that was asked for.

@@ -5,12 +5,20 @@
 //! the request is met, and streams audio through a per-phase tap table.
 //!
 //! * [`RatePair`]: two rates reduced to up/down factors L/M.
-//! * [`FilterSpec`] → [`Design`]: the prototype and its [`DesignReport`].
-//! * [`PhaseTable`]: the prototype split into L phases; [`groups::GroupTable`]: the same taps
-//!   arranged for wide vectors, one vector per input sample and one lane per output.
+//! * [`FilterSpec`] → [`Design`]: the prototype, its delay ([`Design::delay`]) and its
+//!   [`DesignReport`]; [`FilterSpec::with_taps`] checks and measures a prototype of your own.
 //! * [`StreamConverter`]: chunked, allocation-free, multichannel (planar or interleaved).
-//! * [`offline`]: whole-signal conversion, delay compensated, exact length.
-//! * [`kernel`]: the SIMD kernels and the run-time choice between them.
+//! * [`offline`]: whole-signal conversion, delay compensated, exact length; [`segments`]:
+//!   one long conversion cut into pieces for several cores, with the same result.
+//! * [`Kernel`]: the SIMD kernel a converter uses, detected once at construction (or forced,
+//!   e.g. to the scalar reference).
+//! * [`limits`]: the accepted ranges and the defaults.
+//! * `measure` (feature `measure`): the sweep-through test and its analysis, and the
+//!   baseline methods (sample hold, linear interpolation, ...) it is validated on.
+//!
+//! Features: `measure` adds the `measure` module; `internals` exposes the tap tables and
+//! kernel entry points to the project's own benchmarks (not a stable API). Designs and
+//! whole-signal conversions use rayon's current thread pool.
 //!
 //! ```
 //! use resample_core::{offline, FilterSpec};
@@ -32,31 +40,29 @@
 //! ```
 #![deny(missing_docs)]
 #![warn(missing_debug_implementations)]
+// All unsafe code lives in the kernels (`kernel/`, allowed there alone).
+#![deny(unsafe_code)]
+#![cfg_attr(docsrs, feature(doc_cfg))]
 
-pub mod baseline;
-pub mod design;
+mod engine;
 mod error;
-pub mod groups;
-pub mod kernel;
+mod filter;
+#[allow(unsafe_code)]
+mod kernel;
+pub mod limits;
 #[cfg(feature = "measure")]
+#[cfg_attr(docsrs, doc(cfg(feature = "measure")))]
 pub mod measure;
-pub mod offline;
-pub mod polyphase;
 mod ratio;
-mod render;
-pub mod response;
-pub mod stream;
-pub mod window;
+mod table;
 
-pub use design::{Design, DesignReport, FilterSpec};
+#[cfg(feature = "internals")]
+#[cfg_attr(docsrs, doc(cfg(feature = "internals")))]
+pub mod internals;
+
+pub use engine::{offline, segments, Progress, StreamConverter};
 pub use error::{Error, Result};
+pub use filter::{Design, DesignReport, FilterSpec};
 pub use kernel::{Kernel, Sample};
-pub use polyphase::PhaseTable;
+pub use limits::{MAX_CHANNELS, MAX_RATE};
 pub use ratio::RatePair;
-pub use stream::{Progress, StreamConverter};
-
-/// Highest sample rate accepted, Hz (10 MHz).
-pub const MAX_RATE: u32 = 10_000_000;
-
-/// Most channels a converter accepts.
-pub const MAX_CHANNELS: usize = 1024;

@@ -1,6 +1,9 @@
-//! A pair of sample rates reduced to the up/down factors L/M of a rational converter.
+//! A pair of sample rates reduced to the up/down factors L/M of a rational converter, and
+//! the arithmetic of fixed ratios: greatest common divisor, output lengths, and which input
+//! an output reads (the one home of each).
 
-use crate::{Error, Result, MAX_RATE};
+use crate::limits::MAX_RATE;
+use crate::{Error, Result};
 
 /// Input and output sample rates with their reduced up/down factors.
 ///
@@ -79,9 +82,20 @@ impl RatePair {
 
     /// Exact number of output frames for `input_frames` frames of input: `ceil(n * L / M)`.
     pub fn output_len(&self, input_frames: u64) -> u64 {
-        let num = u128::from(input_frames) * u128::from(self.up);
-        num.div_ceil(u128::from(self.down)) as u64
+        output_len(input_frames, self.up.into(), self.down.into())
     }
+}
+
+/// Exact output length `ceil(frames L / M)` for any factors (reduced or not).
+pub(crate) fn output_len(frames: u64, up: u64, down: u64) -> u64 {
+    (u128::from(frames) * u128::from(up)).div_ceil(u128::from(down)) as u64
+}
+
+/// The timing rule of a fixed-ratio engine with delay `delay` (taps of the prototype at rate
+/// `L * in_rate`): output `n` is centred on input time `n M / L`, and the newest input it
+/// reads is `floor((n M + delay) / L)`. Output `n` is ready once that input has arrived.
+pub(crate) fn newest_input(n: u64, up: u64, down: u64, delay: u64) -> i64 {
+    ((u128::from(n) * u128::from(down) + u128::from(delay)) / u128::from(up)) as i64
 }
 
 #[cfg(test)]

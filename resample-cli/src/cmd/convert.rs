@@ -59,7 +59,7 @@ pub struct ConvertArgs {
     #[arg(long, value_name = "DB")]
     pub stopband_db: Option<f64>,
     /// Passband edge as a fraction of the lower Nyquist frequency (0.5 to 0.995).
-    #[arg(long, value_name = "FRACTION", default_value_t = resample_core::design::DEFAULT_PASSBAND)]
+    #[arg(long, value_name = "FRACTION", default_value_t = resample_core::limits::DEFAULT_PASSBAND)]
     pub passband: f64,
     /// Dither when writing 8-, 16- or 24-bit integers (fixed seed: same input, same bytes).
     #[arg(long, value_enum, default_value_t = DitherArg::Tpdf)]
@@ -125,7 +125,7 @@ pub fn run(args: &ConvertArgs) -> Result<ExitCode> {
     }
     // Check the filter parameters once, up front, rather than once per file.
     if let Some(db) = args.stopband_db {
-        let r = resample_core::design::MIN_STOPBAND_DB..=resample_core::design::MAX_STOPBAND_DB;
+        let r = resample_core::limits::MIN_STOPBAND_DB..=resample_core::limits::MAX_STOPBAND_DB;
         if !r.contains(&db) {
             return usage(&format!(
                 "--stopband-db {db} is out of range ({} to {} dB)",
@@ -134,7 +134,7 @@ pub fn run(args: &ConvertArgs) -> Result<ExitCode> {
             ));
         }
     }
-    let pr = resample_core::design::MIN_PASSBAND..=resample_core::design::MAX_PASSBAND;
+    let pr = resample_core::limits::MIN_PASSBAND..=resample_core::limits::MAX_PASSBAND;
     if !pr.contains(&args.passband) {
         return usage(&format!(
             "--passband {} is out of range ({} to {} of the lower Nyquist frequency)",

@@ -24,10 +24,10 @@ pub struct DesignArgs {
     #[arg(long, value_parser = parse_rate)]
     pub out_rate: u32,
     /// Minimum stopband attenuation in dB (20 to 200).
-    #[arg(long, default_value_t = resample_core::design::DEFAULT_STOPBAND_DB)]
+    #[arg(long, default_value_t = resample_core::limits::DEFAULT_STOPBAND_DB)]
     pub stopband_db: f64,
     /// Passband edge as a fraction of the lower Nyquist frequency (0.5 to 0.995).
-    #[arg(long, default_value_t = resample_core::design::DEFAULT_PASSBAND)]
+    #[arg(long, default_value_t = resample_core::limits::DEFAULT_PASSBAND)]
     pub passband: f64,
     /// Print the report as one JSON object.
     #[arg(long)]

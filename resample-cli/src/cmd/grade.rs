@@ -29,7 +29,7 @@ pub struct GradeArgs {
     #[command(flatten)]
     pub sweep: SweepOpts,
     /// Passband edge for the ripple, as a fraction of the lower Nyquist frequency.
-    #[arg(long, default_value_t = resample_core::design::DEFAULT_PASSBAND)]
+    #[arg(long, default_value_t = resample_core::limits::DEFAULT_PASSBAND)]
     pub passband: f64,
     /// Pass only if the rejection is at least DB; exit 1 if not.
     #[arg(long, value_name = "DB")]

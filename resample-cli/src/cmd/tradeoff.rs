@@ -9,7 +9,7 @@ use std::time::Instant;
 
 use anyhow::{bail, Context, Result};
 use clap::Args;
-use resample_core::baseline::Baseline;
+use resample_core::measure::Baseline;
 use resample_core::measure::{self, Settings, Sweep};
 use resample_core::{Design, FilterSpec, Sample, StreamConverter};
 use serde_json::{json, Value};
@@ -31,7 +31,7 @@ pub struct TradeoffArgs {
     #[arg(long, default_value = "60:180:20", value_parser = parse_db_range)]
     pub stopband_db: DbList,
     /// Passband edge as a fraction of the lower Nyquist frequency (0.5 to 0.995).
-    #[arg(long, default_value_t = resample_core::design::DEFAULT_PASSBAND)]
+    #[arg(long, default_value_t = resample_core::limits::DEFAULT_PASSBAND)]
     pub passband: f64,
     /// Sweep duration for the quality measurement, seconds.
     #[arg(long, default_value_t = 4.0)]

@@ -37,7 +37,7 @@ pub struct VerifyArgs {
     #[arg(long)]
     pub float: bool,
     /// Passband edge as a fraction of the lower Nyquist frequency (0.5 to 0.995).
-    #[arg(long, default_value_t = resample_core::design::DEFAULT_PASSBAND)]
+    #[arg(long, default_value_t = resample_core::limits::DEFAULT_PASSBAND)]
     pub passband: f64,
     /// Sweep duration in seconds (longer sweeps resolve the stopband edge more finely).
     #[arg(long, default_value_t = measure::DEFAULT_SECONDS)]

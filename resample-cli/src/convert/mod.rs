@@ -5,7 +5,6 @@
 mod cache;
 mod pipeline;
 mod report;
-mod segments;
 
 use std::path::Path;
 use std::sync::atomic::{AtomicBool, Ordering};
@@ -57,7 +56,7 @@ impl Settings {
         Self {
             out_rate,
             stopband_db: None,
-            passband: resample_core::design::DEFAULT_PASSBAND,
+            passband: resample_core::limits::DEFAULT_PASSBAND,
             encoding: None,
             dither: Dither::Tpdf,
             gain_db: 0.0,

@@ -13,9 +13,9 @@ use std::sync::Arc;
 use rayon::prelude::*;
 use resample_core::{Design, Sample, StreamConverter};
 
-use super::segments::{convert_segment, Cuts, Segment};
 use super::{ConvertError, Engine, Run, BLOCK_FRAMES};
 use crate::wav::{WavError, WavReader, WavWriter};
+use resample_core::segments::{convert_segment, Segment, SegmentPlan};
 
 /// Decoded input the reader may hold ahead of the converter, bytes (at least one block).
 const READ_AHEAD_BYTES: usize = 4 << 20;
@@ -75,7 +75,7 @@ impl Run<'_> {
 
             let workers = rayon::current_num_threads().min(MAX_WORKERS);
             let cuts = if workers >= 2 {
-                Cuts::new(&design, frames_in, ch)
+                SegmentPlan::new(&design, frames_in, ch)
             } else {
                 None
             };
@@ -150,7 +150,7 @@ impl Run<'_> {
     fn segmented<T: Sample>(
         &self,
         design: &Design,
-        cuts: Cuts,
+        cuts: SegmentPlan,
         workers: usize,
         ch: usize,
         (in_rx, in_back): InQueue<'_, T>,
@@ -188,7 +188,7 @@ impl Run<'_> {
                 }
             }
             let blocks = &window;
-            let results: Vec<Result<(), ConvertError>> = convs
+            let results: Vec<Result<(), resample_core::Error>> = convs
                 .par_iter_mut()
                 .zip(outs.par_iter_mut())
                 .zip(group.par_iter())

@@ -5,7 +5,7 @@
 //! A kernel has two entry points for each sample type:
 //!
 //! * a single dot product ([`DotFn`]), and
-//! * *groups*: consecutive groups of a [`crate::groups::GroupTable`] (a vector of taps per
+//! * *groups*: consecutive groups of a [`crate::table::GroupTable`] (a vector of taps per
 //!   input sample, one lane per output) against several inputs ([`KernelFns::span`], the
 //!   converters' inner loop; [`KernelFns::groups`] for one group). Each input sample is
 //!   broadcast to all lanes, so a group of outputs costs one multiply-add per input sample,
@@ -23,14 +23,20 @@
 //! sound in a `// Safety:` comment.
 
 #[cfg(target_arch = "aarch64")]
-mod neon;
+mod arm {
+    //! Kernels for aarch64.
+    pub(super) mod neon;
+}
+#[cfg(feature = "internals")]
 pub mod peak;
 pub mod scalar;
 mod simd;
 #[cfg(target_arch = "x86_64")]
-mod x86_avx2;
-#[cfg(target_arch = "x86_64")]
-mod x86_avx512;
+mod x86 {
+    //! Kernels for x86_64.
+    pub(super) mod avx2;
+    pub(super) mod avx512;
+}
 
 use num_traits::{Float, FromPrimitive};
 
@@ -43,7 +49,7 @@ pub type DotFn<T> = fn(&[T], &[T]) -> T;
 /// through that method, which checks the sizes first.
 pub(crate) type GroupsFn<T> = fn(&GroupSpan<'_, T>, &[&[T]], &mut [T]);
 
-/// Consecutive groups of a [`crate::groups::GroupTable`] as one kernel call takes them
+/// Consecutive groups of a [`crate::table::GroupTable`] as one kernel call takes them
 /// ([`KernelFns::span`]): group `g` has taps `taps[g rows lanes..][..rows lanes]` (row `r`,
 /// lane `l` at `r lanes + l`) and reads an input from offset `shifts[g] - shifts[0]` on.
 #[derive(Debug, Clone, Copy)]
@@ -162,6 +168,10 @@ pub(crate) fn neon_detected() -> bool {
 #[derive(Clone, Copy)]
 pub struct KernelFns<T> {
     kernel: Kernel,
+    // The single dot product is not used by the fixed-ratio engines (they run spans of
+    // groups); it is kept, tested against the scalar reference, for an any-ratio engine,
+    // whose outputs each fall at a phase of their own.
+    #[cfg_attr(not(any(test, feature = "internals")), allow(dead_code))]
     dot: DotFn<T>,
     groups: GroupsFn<T>,
     lanes: usize,
@@ -198,12 +208,13 @@ impl<T: Sample> KernelFns<T> {
 
     /// `sum_i taps[i] * x[i]` over the shorter of the two lengths.
     #[inline]
+    #[cfg_attr(not(any(test, feature = "internals")), allow(dead_code))]
     pub fn dot(&self, taps: &[T], x: &[T]) -> T {
         (self.dot)(taps, x)
     }
 
     /// Lanes (outputs per group) this kernel's vectors hold: the width to build a
-    /// [`crate::groups::GroupTable`] with.
+    /// [`crate::table::GroupTable`] with.
     pub fn lanes(&self) -> usize {
         self.lanes
     }
@@ -228,6 +239,7 @@ impl<T: Sample> KernelFns<T> {
     /// # Ok::<(), resample_core::Error>(())
     /// ```
     #[inline]
+    #[cfg_attr(not(any(test, feature = "internals")), allow(dead_code))]
     pub fn groups(&self, taps: &[T], lanes: usize, inputs: &[&[T]], out: &mut [T]) -> Result<()> {
         let rows = taps.len() / lanes.max(1);
         if lanes == 0 || rows * lanes != taps.len() {
@@ -346,11 +358,11 @@ macro_rules! impl_sample {
             fn dot_fn(kernel: Kernel) -> DotFn<Self> {
                 match kernel {
                     #[cfg(target_arch = "x86_64")]
-                    Kernel::Avx2Fma if kernel.is_available() => x86_avx2::$dot,
+                    Kernel::Avx2Fma if kernel.is_available() => x86::avx2::$dot,
                     #[cfg(target_arch = "x86_64")]
-                    Kernel::Avx512 if kernel.is_available() => x86_avx512::$dot,
+                    Kernel::Avx512 if kernel.is_available() => x86::avx512::$dot,
                     #[cfg(target_arch = "aarch64")]
-                    Kernel::Neon if kernel.is_available() => neon::$dot,
+                    Kernel::Neon if kernel.is_available() => arm::neon::$dot,
                     _ => scalar::dot::<$t>,
                 }
             }
@@ -368,11 +380,11 @@ macro_rules! impl_sample {
             fn groups_fn(kernel: Kernel) -> GroupsFn<Self> {
                 match kernel {
                     #[cfg(target_arch = "x86_64")]
-                    Kernel::Avx2Fma if kernel.is_available() => x86_avx2::$groups,
+                    Kernel::Avx2Fma if kernel.is_available() => x86::avx2::$groups,
                     #[cfg(target_arch = "x86_64")]
-                    Kernel::Avx512 if kernel.is_available() => x86_avx512::$groups,
+                    Kernel::Avx512 if kernel.is_available() => x86::avx512::$groups,
                     #[cfg(target_arch = "aarch64")]
-                    Kernel::Neon if kernel.is_available() => neon::$groups,
+                    Kernel::Neon if kernel.is_available() => arm::neon::$groups,
                     _ => scalar::span::<$t>,
                 }
             }

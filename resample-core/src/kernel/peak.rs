@@ -100,14 +100,14 @@ mod x86 {
     fn hsum512_ps(v: __m512) -> f32 {
         let lo = _mm512_castps512_ps256(v);
         let hi = _mm256_castpd_ps(_mm512_extractf64x4_pd(_mm512_castps_pd(v), 1));
-        crate::kernel::x86_avx2::hsum256_ps(_mm256_add_ps(lo, hi))
+        crate::kernel::x86::avx2::hsum256_ps(_mm256_add_ps(lo, hi))
     }
 
     #[target_feature(enable = "avx512f,avx2,fma")]
     fn hsum512_pd(v: __m512d) -> f64 {
         let lo = _mm512_castpd512_pd256(v);
         let hi = _mm512_extractf64x4_pd(v, 1);
-        crate::kernel::x86_avx2::hsum256_pd(_mm256_add_pd(lo, hi))
+        crate::kernel::x86::avx2::hsum256_pd(_mm256_add_pd(lo, hi))
     }
 
     peak_loop!(
@@ -135,7 +135,7 @@ mod x86 {
         _mm256_set1_ps,
         _mm256_fmadd_ps,
         _mm256_add_ps,
-        crate::kernel::x86_avx2::hsum256_ps
+        crate::kernel::x86::avx2::hsum256_ps
     );
     peak_loop!(
         avx2_f64,
@@ -144,7 +144,7 @@ mod x86 {
         _mm256_set1_pd,
         _mm256_fmadd_pd,
         _mm256_add_pd,
-        crate::kernel::x86_avx2::hsum256_pd
+        crate::kernel::x86::avx2::hsum256_pd
     );
 }
 

@@ -37,12 +37,14 @@
 //! # Ok::<(), resample_core::Error>(())
 //! ```
 
+mod baseline;
 mod stft;
 mod sweep;
 mod transfer;
 
 use realfft::RealFftPlanner;
 
+pub use baseline::Baseline;
 pub use stft::{strongest_band, Analyser, ANALYSIS_BETA, OVERLAP};
 pub use sweep::{
     Law, Sweep, DEFAULT_END_FRACTION, DEFAULT_LEVEL_DBFS, DEFAULT_SECONDS, DEFAULT_START_HZ,
@@ -252,7 +254,7 @@ fn analyse_with_input(
     let lo = 2.0 * sweep.f1();
     let edge = settings
         .passband_edge_hz
-        .unwrap_or(crate::design::DEFAULT_PASSBAND * lower_nyq)
+        .unwrap_or(crate::limits::DEFAULT_PASSBAND * lower_nyq)
         .min(f_top);
     if edge.is_nan() || edge <= lo {
         return Err(Error::MeasureSetup {

@@ -11,7 +11,7 @@
 
 use realfft::RealFftPlanner;
 
-use crate::window::kaiser_window;
+use crate::filter::window::kaiser_window;
 use crate::{Error, Result};
 
 /// Kaiser beta of the analysis window (highest side lobe near -200 dB).

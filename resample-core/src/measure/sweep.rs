@@ -20,7 +20,7 @@
 //! The run-up and glide are integrated numerically on a grid aligned with the samples (16
 //! points per sample); the phase error is a smooth function far below anything measured.
 
-use crate::window::bessel_i0;
+use crate::filter::window::bessel_i0;
 use crate::{Error, Result};
 
 /// Default start frequency, Hz.

@@ -5,6 +5,7 @@
 //! whitened cross-correlation of output and input (the peak of the band-limited impulse
 //! response, refined by the slope of the phase).
 
+use crate::ratio::gcd;
 use realfft::num_complex::Complex;
 use realfft::RealFftPlanner;
 
@@ -50,13 +51,6 @@ fn smooth_size(n: usize) -> usize {
         p5 *= 5;
     }
     best
-}
-
-fn gcd(mut a: u64, mut b: u64) -> u64 {
-    while b != 0 {
-        (a, b) = (b, a % b);
-    }
-    a
 }
 
 fn spectrum(x: &[f64], n: usize) -> Result<Vec<Complex<f64>>> {

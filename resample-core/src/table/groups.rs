@@ -3,9 +3,9 @@
 //! one multiply-add per input sample (the sample broadcast to every lane) and needs no
 //! horizontal sums and no unaligned loads.
 //!
-//! Output `n` of a converter with up factor L, down factor M and centre tap `half` reads the
-//! `K` inputs ending at `B(n) = floor((n M + half) / L)` through phase row
-//! `(n M + half) mod L`. The pattern of rows repeats every `L` outputs, while the inputs move
+//! Output `n` of a converter with up factor L, down factor M and delay `delay` (the tap aligning output 0 with input 0; the centre tap of a linear-phase prototype) reads the
+//! `K` inputs ending at `B(n) = floor((n M + delay) / L)` through phase row
+//! `(n M + delay) mod L`. The pattern of rows repeats every `L` outputs, while the inputs move
 //! on by `M`; this table repeats every `period` outputs (a multiple of L chosen so that few
 //! lanes stay empty), split into groups of `lanes` outputs. Group `j` of period `q` covers
 //! outputs `q period + j lanes ..` and reads `rows` consecutive inputs starting at
@@ -13,8 +13,9 @@
 //! of lane `l` for the input `r` rows in (zero where that input is outside the lane's
 //! window).
 
-use crate::design::Design;
+use crate::filter::Design;
 use crate::kernel::GroupSpan;
+use crate::ratio::{gcd, newest_input};
 use crate::{Error, Result, Sample};
 
 /// The table of a design arranged in groups of `lanes` consecutive outputs.
@@ -22,7 +23,7 @@ use crate::{Error, Result, Sample};
 pub struct GroupTable<T> {
     up: u64,
     down: u64,
-    half: u64,
+    delay: u64,
     taps: usize,
     lanes: usize,
     period: u64,
@@ -64,10 +65,10 @@ pub struct Layout {
 }
 
 impl Layout {
-    /// The layout for a prototype of `n_taps` taps (centre tap `half`), factors `up`/`down`
+    /// The layout for a prototype of `n_taps` taps (centre tap `delay`), factors `up`/`down`
     /// and `lanes` outputs per group; `None` for zero sizes or a centre past the end.
-    pub fn new(n_taps: u64, up: u64, down: u64, half: u64, lanes: u64) -> Option<Self> {
-        if n_taps == 0 || up == 0 || down == 0 || lanes == 0 || half >= n_taps {
+    pub fn new(n_taps: u64, up: u64, down: u64, delay: u64, lanes: u64) -> Option<Self> {
+        if n_taps == 0 || up == 0 || down == 0 || lanes == 0 || delay >= n_taps {
             return None;
         }
         let w = lanes;
@@ -86,7 +87,7 @@ impl Layout {
         let period = up.checked_mul(c)?;
         let taps = n_taps.div_ceil(up);
         let groups = period.div_ceil(w);
-        let newest = |n: u64| newest_input(n, up, down, half);
+        let newest = |n: u64| newest_input(n, up, down, delay);
         let rows = (0..groups)
             .map(|j| {
                 let last = j * w + w.min(period - j * w) - 1;
@@ -112,18 +113,6 @@ impl Layout {
     }
 }
 
-/// `floor((n M + half) / L)`: the newest input output `n` reads.
-fn newest_input(n: u64, up: u64, down: u64, half: u64) -> i64 {
-    ((u128::from(n) * u128::from(down) + u128::from(half)) / u128::from(up)) as i64
-}
-
-fn gcd(mut a: u64, mut b: u64) -> u64 {
-    while b != 0 {
-        (a, b) = (b, a % b);
-    }
-    a
-}
-
 impl<T: Sample> GroupTable<T> {
     /// Arrange `design`'s prototype (each tap multiplied by L, rounded once to `T`) in groups
     /// of `lanes` outputs.
@@ -133,16 +122,16 @@ impl<T: Sample> GroupTable<T> {
             design.taps(),
             u64::from(r.up),
             u64::from(r.down),
-            design.half() as u64,
+            design.delay(),
             lanes,
         )
     }
 
     /// Arrange any prototype `h` for up factor `up`, down factor `down` (coprime or not) and
-    /// centre tap `half` (output 0 is aligned with input 0 through tap `half`). Errors
-    /// ([`Error::BufferShape`]) for an empty prototype, zero factors or lanes, `half` past
+    /// centre tap `delay` (output 0 is aligned with input 0 through tap `delay`). Errors
+    /// ([`Error::BufferShape`]) for an empty prototype, zero factors or lanes, `delay` past
     /// the prototype's end, or a table that would not fit in memory.
-    pub fn from_prototype(h: &[f64], up: u64, down: u64, half: u64, lanes: usize) -> Result<Self> {
+    pub fn from_prototype(h: &[f64], up: u64, down: u64, delay: u64, lanes: usize) -> Result<Self> {
         let bad = |what: &'static str| Error::BufferShape {
             what,
             expected: 1,
@@ -151,7 +140,7 @@ impl<T: Sample> GroupTable<T> {
         if lanes > 64 {
             return Err(bad("lanes (1 to 64)"));
         }
-        let lay = Layout::new(h.len() as u64, up, down, half, lanes as u64)
+        let lay = Layout::new(h.len() as u64, up, down, delay, lanes as u64)
             .ok_or_else(|| bad("prototype, factors and lanes (non-zero, centre inside)"))?;
         let n_taps = h.len() as u64;
         let w = lanes as u64;
@@ -163,7 +152,7 @@ impl<T: Sample> GroupTable<T> {
             taps,
             ..
         } = lay;
-        let newest = |n: u64| newest_input(n, up, down, half);
+        let newest = |n: u64| newest_input(n, up, down, delay);
         let lane_count = |j: u64| w.min(period - j * w);
         let total = groups
             .checked_mul(rows)
@@ -191,8 +180,8 @@ impl<T: Sample> GroupTable<T> {
             for lane in 0..lane_count(j as u64) as usize {
                 let n = (j * lanes + lane) as u64;
                 let b = newest(n);
-                let phase =
-                    ((u128::from(n) * u128::from(down) + u128::from(half)) % u128::from(up)) as u64;
+                let phase = ((u128::from(n) * u128::from(down) + u128::from(delay))
+                    % u128::from(up)) as u64;
                 for k in 0..taps as u64 {
                     // Input b - k meets tap phase + k L.
                     let idx = phase + k * up;
@@ -208,7 +197,7 @@ impl<T: Sample> GroupTable<T> {
         Ok(Self {
             up,
             down,
-            half,
+            delay,
             taps,
             lanes,
             period,
@@ -235,8 +224,8 @@ impl<T> GroupTable<T> {
     }
 
     /// Index of the prototype's centre tap.
-    pub fn half(&self) -> u64 {
-        self.half
+    pub fn delay(&self) -> u64 {
+        self.delay
     }
 
     /// Window length K: the most taps any phase has (`ceil(taps / L)`).
@@ -270,6 +259,7 @@ impl<T> GroupTable<T> {
     }
 
     /// Outputs of group `j` that exist (all lanes except in a period's last group).
+    #[cfg_attr(not(any(test, feature = "internals")), allow(dead_code))]
     pub fn lanes_in(&self, j: usize) -> usize {
         self.lanes
             .min((self.period - (j * self.lanes) as u64) as usize)
@@ -282,6 +272,7 @@ impl<T> GroupTable<T> {
     }
 
     /// The taps of group `j`: `rows` vectors of `lanes` taps.
+    #[cfg_attr(not(any(test, feature = "internals")), allow(dead_code))]
     pub fn group(&self, j: usize) -> &[T] {
         let n = self.rows * self.lanes;
         &self.storage[self.offset + j * n..][..n]
@@ -331,13 +322,13 @@ mod tests {
             .design()
             .unwrap();
         let h = d.taps();
-        let (up, down, half) = (160u64, 147u64, d.half() as u64);
+        let (up, down, delay) = (160u64, 147u64, d.delay());
         let x: Vec<f64> = (0..4000)
             .map(|i| ((i * 7919) % 1000) as f64 / 500.0 - 1.0)
             .collect();
         let xi = |i: i64| if i < 0 { 0.0 } else { x[i as usize] };
         for lanes in [1, 4, 8, 16] {
-            let t = GroupTable::<f64>::from_prototype(h, up, down, half, lanes).unwrap();
+            let t = GroupTable::<f64>::from_prototype(h, up, down, delay, lanes).unwrap();
             assert_eq!(t.period() % up, 0);
             for n in [0u64, 1, 15, 16, 159, 160, 161, 333, 2000] {
                 let (q, j, lane) = t.locate(n);
@@ -347,8 +338,8 @@ mod tests {
                     .map(|r| g[r * lanes + lane] * xi(lo + r as i64))
                     .sum();
                 // Direct form of rational resampling (common practice, no source): output n
-                // is sum_k L h[k] x(t) at t = (n M + half - k) / L, t a whole input index.
-                let pos = n * down + half;
+                // is sum_k L h[k] x(t) at t = (n M + delay - k) / L, t a whole input index.
+                let pos = n * down + delay;
                 let want: f64 = (0..h.len() as u64)
                     .filter(|k| k <= &pos && (pos - k) % up == 0)
                     .map(|k| 160.0 * h[k as usize] * xi(((pos - k) / up) as i64))

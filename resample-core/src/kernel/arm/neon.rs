@@ -1,7 +1,7 @@
 //! aarch64 NEON (Advanced SIMD) kernels: 128-bit vectors (4 `f32` or 2 `f64` lanes),
 //! fused multiply-add.
 
-use super::simd::simd_kernels;
+use crate::kernel::simd::simd_kernels;
 
 /// Vector vocabulary for `f32`.
 mod v32 {

@@ -1,109 +1,24 @@
-//! From a filter spec (rate pair, stopband attenuation, passband edge) to an odd-length,
-//! symmetric Kaiser-windowed-sinc prototype whose stopband is *measured* to meet the request,
-//! and the report that states what was built.
+//! From a filter spec to an odd-length, symmetric Kaiser-windowed-sinc prototype whose
+//! stopband is *measured* to meet the request (the lengthening search), the report that states
+//! what was built, and the design's delay, stated explicitly for every consumer.
 
 use rayon::prelude::*;
 
-use crate::response::{Measurer, MAX_MEASURE_FFT, OVERSAMPLE};
-use crate::window::{bessel_i0, kaiser_at, kaiser_length};
+use super::response::{Measurer, MAX_MEASURE_FFT, OVERSAMPLE};
+use super::spec::FilterSpec;
+use super::window::{bessel_i0, kaiser_at, kaiser_length};
+use crate::limits::{
+    MAX_PASSBAND, MAX_STOPBAND_DB, MIN_PASSBAND, MIN_STOPBAND_DB, PHASE_ALIGN, SURROGATE_MARGIN_DB,
+};
 use crate::{Error, RatePair, Result};
-
-/// Smallest accepted stopband attenuation, dB.
-pub const MIN_STOPBAND_DB: f64 = 20.0;
-/// Largest accepted stopband attenuation, dB.
-pub const MAX_STOPBAND_DB: f64 = 200.0;
-/// Smallest accepted passband edge, as a fraction of the lower Nyquist frequency.
-pub const MIN_PASSBAND: f64 = 0.5;
-/// Largest accepted passband edge, as a fraction of the lower Nyquist frequency.
-pub const MAX_PASSBAND: f64 = 0.995;
-/// Default stopband attenuation of [`FilterSpec::new`], dB.
-pub const DEFAULT_STOPBAND_DB: f64 = 140.0;
-/// Default passband edge of [`FilterSpec::new`] (fraction of the lower Nyquist frequency).
-pub const DEFAULT_PASSBAND: f64 = 0.91;
-/// Default memory budget for one polyphase table in `f64`, bytes (64 MiB).
-pub const DEFAULT_TABLE_BUDGET: u64 = 64 << 20;
-/// Taps per phase are padded to a multiple of this, for whole-vector loads.
-pub const PHASE_ALIGN: usize = 8;
-
-/// Extra attenuation required when a long prototype is measured on a copy with fewer phases
-/// (the copy's window length is rounded to its grid, which moves the lobes next to the
-/// stopband edge by about 0.1 dB).
-pub const SURROGATE_MARGIN_DB: f64 = 0.5;
 
 /// Most attempts the design loop makes before giving up with [`Error::DesignNotMet`].
 const MAX_ATTEMPTS: usize = 40;
 
-/// What the user asks of a conversion filter.
-///
-/// ```
-/// use resample_core::FilterSpec;
-/// let design = FilterSpec::new(44_100, 48_000).stopband_db(100.0).design()?;
-/// assert!(design.report().measured_stopband_db >= 100.0);
-/// # Ok::<(), resample_core::Error>(())
-/// ```
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct FilterSpec {
-    in_rate: u32,
-    out_rate: u32,
-    stopband_db: f64,
-    passband: f64,
-    table_budget: u64,
-}
-
 impl FilterSpec {
-    /// A spec with the defaults: [`DEFAULT_STOPBAND_DB`], [`DEFAULT_PASSBAND`],
-    /// [`DEFAULT_TABLE_BUDGET`]. Nothing is checked until [`FilterSpec::design`].
-    pub fn new(in_rate: u32, out_rate: u32) -> Self {
-        Self {
-            in_rate,
-            out_rate,
-            stopband_db: DEFAULT_STOPBAND_DB,
-            passband: DEFAULT_PASSBAND,
-            table_budget: DEFAULT_TABLE_BUDGET,
-        }
-    }
-
-    /// Minimum stopband attenuation in dB (accepted: 20 to 200).
-    pub fn stopband_db(mut self, db: f64) -> Self {
-        self.stopband_db = db;
-        self
-    }
-
-    /// Passband edge as a fraction of the lower Nyquist frequency (accepted: 0.5 to 0.995).
-    pub fn passband(mut self, fraction: f64) -> Self {
-        self.passband = fraction;
-        self
-    }
-
-    /// Largest polyphase table (in `f64`) the design may produce, bytes.
-    pub fn table_budget_bytes(mut self, bytes: u64) -> Self {
-        self.table_budget = bytes;
-        self
-    }
-
-    /// Input rate in Hz.
-    pub fn in_rate(&self) -> u32 {
-        self.in_rate
-    }
-
-    /// Output rate in Hz.
-    pub fn out_rate(&self) -> u32 {
-        self.out_rate
-    }
-
-    /// Requested stopband attenuation in dB.
-    pub fn requested_stopband_db(&self) -> f64 {
-        self.stopband_db
-    }
-
-    /// Requested passband edge (fraction of the lower Nyquist frequency).
-    pub fn passband_fraction(&self) -> f64 {
-        self.passband
-    }
-
     /// Check the spec and design the filter.
     pub fn design(&self) -> Result<Design> {
-        let pair = RatePair::new(self.in_rate, self.out_rate)?;
+        let pair = RatePair::new(self.in_rate(), self.out_rate())?;
         let a = self.stopband_db;
         if !(MIN_STOPBAND_DB..=MAX_STOPBAND_DB).contains(&a) {
             return Err(Error::StopbandOutOfRange { db: a });
@@ -116,6 +31,110 @@ impl FilterSpec {
             return Ok(Design::identity(pair, *self));
         }
         design_kaiser(pair, *self)
+    }
+
+    /// Check the spec and check a prototype of the caller's own instead of designing one:
+    /// `taps` at rate `L * in_rate` (L the reduced up factor of the rate pair), unity DC gain
+    /// expected, `delay` the tap through which output 0 is aligned with input 0 (the centre,
+    /// `(taps.len() - 1) / 2`, for a linear-phase prototype). The prototype is measured
+    /// against the spec's passband and stopband edges as a designed one is, and the report
+    /// states what it delivers; it is not lengthened, so the measured stopband may fall
+    /// short of the spec's request. `beta` and `formula_taps_per_phase` of the report are 0.
+    ///
+    /// ```
+    /// use resample_core::FilterSpec;
+    /// // A 2x up-sampler from a short windowed sinc of our own (a sketch, not a good filter).
+    /// let taps: Vec<f64> = (0..63)
+    ///     .map(|n| {
+    ///         let x = (n as f64 - 31.0) / 2.0;
+    ///         let sinc = if x == 0.0 { 1.0 } else { (std::f64::consts::PI * x).sin() / (std::f64::consts::PI * x) };
+    ///         let w = 0.5 - 0.5 * (2.0 * std::f64::consts::PI * n as f64 / 62.0).cos();
+    ///         0.5 * sinc * w
+    ///     })
+    ///     .collect();
+    /// let design = FilterSpec::new(24_000, 48_000).with_taps(taps, 31)?;
+    /// assert_eq!(design.delay(), 31);
+    /// assert!(design.report().measured_stopband_db > 20.0);
+    /// # Ok::<(), resample_core::Error>(())
+    /// ```
+    pub fn with_taps(&self, taps: Vec<f64>, delay: u64) -> Result<Design> {
+        let pair = RatePair::new(self.in_rate(), self.out_rate())?;
+        let p = self.passband;
+        if !(MIN_PASSBAND..=MAX_PASSBAND).contains(&p) {
+            return Err(Error::PassbandOutOfRange { fraction: p });
+        }
+        let shape = |what: &'static str, expected: usize, got: usize| Error::BufferShape {
+            what,
+            expected,
+            got,
+        };
+        if taps.is_empty() {
+            return Err(shape("prototype taps", 1, 0));
+        }
+        if let Some(i) = taps.iter().position(|v| !v.is_finite()) {
+            return Err(shape(
+                "finite prototype taps (index of the first that is not)",
+                0,
+                i,
+            ));
+        }
+        if delay >= taps.len() as u64 {
+            return Err(shape(
+                "delay inside the prototype (at most)",
+                taps.len() - 1,
+                delay as usize,
+            ));
+        }
+        let up = u64::from(pair.up());
+        let down = u64::from(pair.down());
+        let len = taps.len();
+        let bytes_f64 = table_bytes(len, up, down, delay as usize, 8);
+        if bytes_f64 > self.table_budget {
+            return Err(Error::TableTooLarge {
+                up,
+                down,
+                needed_bytes: bytes_f64,
+                budget_bytes: self.table_budget,
+            });
+        }
+        let in_rate = f64::from(pair.in_rate());
+        let nyq = pair.lower_nyquist();
+        let f_pass = p * nyq;
+        let proto_rate = in_rate * up as f64;
+        let m = super::response::measure(&taps, f_pass / proto_rate, nyq / proto_rate);
+        let tpp = (len as u64).div_ceil(up) as usize;
+        let latency_in = delay as f64 / up as f64;
+        let report = DesignReport {
+            in_rate: pair.in_rate(),
+            out_rate: pair.out_rate(),
+            up: pair.up(),
+            down: pair.down(),
+            total_taps: len,
+            taps_per_phase: tpp,
+            padded_taps_per_phase: padded(tpp),
+            formula_taps_per_phase: 0,
+            beta: 0.0,
+            passband_edge_hz: f_pass,
+            stopband_edge_hz: nyq,
+            cutoff_hz: 0.5 * (f_pass + nyq),
+            requested_stopband_db: self.stopband_db,
+            measured_stopband_db: m.stopband_db(),
+            passband_ripple_db: m.ripple_db(),
+            measured_on_phases: up,
+            attempts: 0,
+            latency_input_frames: latency_in,
+            latency_output_frames: delay as f64 / down as f64,
+            latency_ms: 1000.0 * latency_in / in_rate,
+            table_bytes_f32: table_bytes(len, up, down, delay as usize, 4),
+            table_bytes_f64: bytes_f64,
+        };
+        Ok(Design {
+            pair,
+            spec: *self,
+            taps,
+            delay,
+            report,
+        })
     }
 }
 
@@ -134,7 +153,7 @@ pub struct DesignReport {
     pub total_taps: usize,
     /// Taps per phase, `ceil(total_taps / L)`.
     pub taps_per_phase: usize,
-    /// Taps per phase as stored (padded to a multiple of [`PHASE_ALIGN`]).
+    /// Taps per phase as stored (padded to a multiple of [`crate::limits::PHASE_ALIGN`]).
     pub padded_taps_per_phase: usize,
     /// Taps per phase Kaiser's length formula alone would have given for the request.
     pub formula_taps_per_phase: usize,
@@ -151,7 +170,7 @@ pub struct DesignReport {
     /// Stopband attenuation measured on the prototype, dB (infinite for the identity). For
     /// prototypes too long to measure in full it is measured on the same kernel sampled at
     /// [`DesignReport::measured_on_phases`] phases, and must then exceed the request by
-    /// [`SURROGATE_MARGIN_DB`].
+    /// [`crate::limits::SURROGATE_MARGIN_DB`].
     pub measured_stopband_db: f64,
     /// Passband ripple measured on the prototype, dB peak to peak.
     pub passband_ripple_db: f64,
@@ -160,14 +179,14 @@ pub struct DesignReport {
     pub measured_on_phases: u64,
     /// Design attempts made (1 when Kaiser's formulas were enough).
     pub attempts: usize,
-    /// Delay in input samples (`half / L`).
+    /// Delay in input samples ([`Design::delay`]` / L`).
     pub latency_input_frames: f64,
-    /// Delay in output samples (`half / M`).
+    /// Delay in output samples ([`Design::delay`]` / M`).
     pub latency_output_frames: f64,
     /// Delay in milliseconds.
     pub latency_ms: f64,
     /// Bytes of the converter's tap table in `f32`, arranged for 512-bit vectors (16
-    /// outputs per group; see [`crate::groups`]).
+    /// outputs per group).
     pub table_bytes_f32: u64,
     /// Bytes of the converter's tap table in `f64`, arranged for 512-bit vectors (8 outputs
     /// per group).
@@ -180,6 +199,7 @@ pub struct Design {
     pair: RatePair,
     spec: FilterSpec,
     taps: Vec<f64>,
+    delay: u64,
     report: DesignReport,
 }
 
@@ -200,9 +220,12 @@ impl Design {
         &self.taps
     }
 
-    /// Half the prototype length: the centre tap's index.
-    pub fn half(&self) -> usize {
-        self.taps.len() / 2
+    /// The filter's delay, in taps of the prototype (at rate `L * in_rate`): output 0 is
+    /// aligned with input 0 through this tap. Every engine and every delay compensation reads
+    /// the delay from here; for the linear-phase prototypes designed here it is the centre
+    /// tap, `(taps - 1) / 2`.
+    pub fn delay(&self) -> u64 {
+        self.delay
     }
 
     /// The report.
@@ -210,7 +233,7 @@ impl Design {
         &self.report
     }
 
-    fn identity(pair: RatePair, spec: FilterSpec) -> Self {
+    pub(super) fn identity(pair: RatePair, spec: FilterSpec) -> Self {
         let nyq = pair.lower_nyquist();
         let report = DesignReport {
             in_rate: pair.in_rate(),
@@ -240,6 +263,7 @@ impl Design {
             pair,
             spec,
             taps: vec![1.0],
+            delay: 0,
             report,
         }
     }
@@ -284,7 +308,7 @@ fn windowed_sinc(phases: u64, half: usize, cutoff: f64, beta: f64) -> Vec<f64> {
 
 /// Bytes of the converter's group table for 512-bit vectors, elements of `size` bytes.
 fn table_bytes(len: usize, up: u64, down: u64, half: usize, size: u64) -> u64 {
-    crate::groups::Layout::new(len as u64, up, down, half as u64, 64 / size)
+    crate::table::Layout::new(len as u64, up, down, half as u64, 64 / size)
         .map_or(u64::MAX, |l| l.bytes(size))
 }
 
@@ -292,7 +316,7 @@ fn padded(taps_per_phase: usize) -> usize {
     taps_per_phase.div_ceil(PHASE_ALIGN) * PHASE_ALIGN
 }
 
-fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> {
+pub(super) fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> {
     let up = u64::from(pair.up());
     let in_rate = f64::from(pair.in_rate());
     let nyq = pair.lower_nyquist();
@@ -385,6 +409,7 @@ fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> {
                 pair,
                 spec,
                 taps,
+                delay: half as u64,
                 report,
             });
         }
@@ -404,7 +429,8 @@ fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::response;
+    use crate::filter::response;
+    use crate::limits::SURROGATE_MARGIN_DB;
 
     #[test]
     fn prototype_is_odd_symmetric_unity_dc() {
@@ -417,7 +443,7 @@ mod tests {
         let sum: f64 = h.iter().sum();
         assert!((sum - 1.0).abs() < 1e-12);
         let centre = h.iter().cloned().fold(f64::MIN, f64::max);
-        assert_eq!(centre, h[d.half()]);
+        assert_eq!(centre, h[d.delay() as usize]);
     }
 
     #[test]

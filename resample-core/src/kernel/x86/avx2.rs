@@ -3,7 +3,7 @@
 
 use core::arch::x86_64::*;
 
-use super::simd::simd_kernels;
+use crate::kernel::simd::simd_kernels;
 
 /// Sum of the 8 lanes: halves, then pairs, then the last two.
 #[target_feature(enable = "avx2,fma")]

@@ -10,9 +10,9 @@
 //! its first kept output is the file's own; the first `P L / M` outputs, made partly from
 //! that silence, are dropped.
 
-use resample_core::{Design, Sample, StreamConverter};
-
-use super::ConvertError;
+use super::stream::StreamConverter;
+use crate::ratio::newest_input;
+use crate::{Design, Error, Result, Sample};
 
 /// Input samples (frames times channels) per segment, aimed at.
 const SEGMENT_SAMPLES: usize = 1 << 16;
@@ -24,10 +24,10 @@ const MAX_OVER_AIM: u64 = 16;
 
 /// How a file of `frames_in` frames is cut.
 #[derive(Debug, Clone, Copy)]
-pub(crate) struct Cuts {
+pub struct SegmentPlan {
     up: u64,
     down: u64,
-    half: u64,
+    delay: u64,
     frames_in: u64,
     /// Input frames per segment (a multiple of M).
     seg: u64,
@@ -37,7 +37,7 @@ pub(crate) struct Cuts {
 
 /// One segment: the input it reads and the output it keeps.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub(crate) struct Segment {
+pub struct Segment {
     /// First input frame read.
     pub start: u64,
     /// One past the last input frame read.
@@ -50,11 +50,11 @@ pub(crate) struct Segment {
     pub last: bool,
 }
 
-impl Cuts {
+impl SegmentPlan {
     /// Cuts for `design` over `frames_in` frames of `channels` channels, or `None` when
     /// segments would be too short to be worth it (very many channels, or a filter very
     /// long against the segment).
-    pub(crate) fn new(design: &Design, frames_in: u64, channels: usize) -> Option<Self> {
+    pub fn new(design: &Design, frames_in: u64, channels: usize) -> Option<Self> {
         let pair = design.pair();
         let (up, down) = (u64::from(pair.up()), u64::from(pair.down()));
         let span = (design.taps().len() as u64).div_ceil(up) + 1;
@@ -68,7 +68,7 @@ impl Cuts {
         Some(Self {
             up,
             down,
-            half: design.half() as u64,
+            delay: design.delay(),
             frames_in,
             seg,
             prime,
@@ -76,31 +76,31 @@ impl Cuts {
     }
 
     /// Number of segments.
-    pub(crate) fn count(&self) -> u64 {
+    pub fn count(&self) -> u64 {
         self.frames_in.div_ceil(self.seg)
     }
 
     /// Input frames covered by segment `j` (its share of the file, without the re-read).
-    pub(crate) fn covered(&self, j: u64) -> u64 {
+    pub fn covered(&self, j: u64) -> u64 {
         let a = j * self.seg;
         (a + self.seg).min(self.frames_in).saturating_sub(a)
     }
 
     /// Segment `j` (`j < count()`).
-    pub(crate) fn segment(&self, j: u64) -> Segment {
+    pub fn segment(&self, j: u64) -> Segment {
         let a = j * self.seg;
         let b = (a + self.seg).min(self.frames_in);
         let start = a.saturating_sub(self.prime);
         // `start` and `a` are multiples of M: whole output indices.
         let skip = (a - start) * self.up / self.down;
-        let out_end = out_len(b, self.up, self.down);
+        let out_end = crate::ratio::output_len(b, self.up, self.down);
         let keep = out_end - a * self.up / self.down;
-        // Input needed for local output `skip + keep - 1`: it is ready once
-        // `k M + half < n L` (the stream's rule), i.e. n = floor((k M + half) / L) + 1.
+        // Input needed for local output `skip + keep - 1`: the newest input it reads, plus
+        // one (the stream's readiness rule).
         let need = if skip + keep == 0 {
             0
         } else {
-            ((skip + keep - 1) * self.down + self.half) / self.up + 1
+            newest_input(skip + keep - 1, self.up, self.down, self.delay) as u64 + 1
         };
         let end = (start + need).min(self.frames_in);
         Segment {
@@ -113,18 +113,14 @@ impl Cuts {
     }
 }
 
-fn out_len(frames: u64, up: u64, down: u64) -> u64 {
-    (u128::from(frames) * u128::from(up)).div_ceil(u128::from(down)) as u64
-}
-
 /// Convert one segment: `pieces` hold its input frames `[start, end)`, interleaved, in
 /// order; `out` gets the kept outputs, interleaved. `conv` is reset first.
-pub(crate) fn convert_segment<T: Sample>(
+pub fn convert_segment<T: Sample>(
     conv: &mut StreamConverter<T>,
     seg: &Segment,
     pieces: &[&[T]],
     out: &mut Vec<T>,
-) -> Result<(), ConvertError> {
+) -> Result<()> {
     let ch = conv.channels();
     conv.reset();
     let total = seg.skip + seg.keep;
@@ -155,9 +151,10 @@ pub(crate) fn convert_segment<T: Sample>(
         written += k;
     }
     if written != total {
-        return Err(ConvertError::Length {
-            written: written as u64,
-            expected: total as u64,
+        return Err(Error::BufferShape {
+            what: "output frames of a segment",
+            expected: total,
+            got: written,
         });
     }
     out.drain(..seg.skip * ch);
@@ -167,7 +164,7 @@ pub(crate) fn convert_segment<T: Sample>(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use resample_core::FilterSpec;
+    use crate::FilterSpec;
 
     /// One converter over everything, in blocks, then flushed.
     fn straight<T: Sample>(design: &Design, x: &[T], ch: usize) -> Vec<T> {
@@ -196,7 +193,7 @@ mod tests {
 
     fn segmented<T: Sample>(design: &Design, x: &[T], ch: usize) -> Option<Vec<T>> {
         let frames = (x.len() / ch) as u64;
-        let cuts = Cuts::new(design, frames, ch)?;
+        let cuts = SegmentPlan::new(design, frames, ch)?;
         let mut conv = StreamConverter::<T>::new(design, ch).unwrap();
         let mut y = Vec::new();
         let mut out = Vec::new();

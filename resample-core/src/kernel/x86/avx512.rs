@@ -1,7 +1,7 @@
 //! x86_64 AVX-512F kernels: 512-bit vectors (16 `f32` or 8 `f64` lanes), fused
 //! multiply-add, masked loads for a row's last partial vector.
 
-use super::simd::simd_kernels;
+use crate::kernel::simd::simd_kernels;
 
 /// Vector vocabulary for `f32`.
 mod v32 {
@@ -72,7 +72,7 @@ mod v32 {
     pub(crate) fn hsum(v: V) -> f32 {
         let lo = _mm512_castps512_ps256(v);
         let hi = _mm256_castpd_ps(_mm512_extractf64x4_pd(_mm512_castps_pd(v), 1));
-        super::super::x86_avx2::hsum256_ps(_mm256_add_ps(lo, hi))
+        super::super::avx2::hsum256_ps(_mm256_add_ps(lo, hi))
     }
 }
 
@@ -145,7 +145,7 @@ mod v64 {
     pub(crate) fn hsum(v: V) -> f64 {
         let lo = _mm512_castpd512_pd256(v);
         let hi = _mm512_extractf64x4_pd(v, 1);
-        super::super::x86_avx2::hsum256_pd(_mm256_add_pd(lo, hi))
+        super::super::avx2::hsum256_pd(_mm256_add_pd(lo, hi))
     }
 }
 

@@ -1,9 +1,9 @@
 //! The streaming converter: per-channel history, any chunk size in, exactly the offline
 //! result out, without allocating or locking once built.
 
-use crate::groups::GroupTable;
+use super::render::{reach, render, whole_periods, History};
 use crate::kernel::{Kernel, KernelFns, Sample};
-use crate::render::{reach, render, whole_periods, History};
+use crate::table::GroupTable;
 use crate::{Design, Error, RatePair, Result};
 
 /// Input frames buffered per channel beyond the filter's history.
@@ -132,8 +132,8 @@ impl<T: Sample> StreamConverter<T> {
         self.fill = hist;
         self.n_in = 0;
         self.n_out = 0;
-        self.next_i = self.table.half() / self.table.up();
-        self.next_p = self.table.half() % self.table.up();
+        self.next_i = self.table.delay() / self.table.up();
+        self.next_p = self.table.delay() % self.table.up();
         self.flushing = false;
     }
 
@@ -159,12 +159,12 @@ impl<T: Sample> StreamConverter<T> {
 
     /// How far ahead of an output's time its input reaches, in input frames (`half / L`).
     pub fn latency_input_frames(&self) -> f64 {
-        self.table.half() as f64 / self.table.up() as f64
+        self.table.delay() as f64 / self.table.up() as f64
     }
 
     /// The same delay in output frames (`half / M`).
     pub fn latency_output_frames(&self) -> f64 {
-        self.table.half() as f64 / self.table.down() as f64
+        self.table.delay() as f64 / self.table.down() as f64
     }
 
     /// The same delay in seconds.
@@ -187,7 +187,7 @@ impl<T: Sample> StreamConverter<T> {
     pub fn output_frames_for_input(&self, input_frames: u64) -> u64 {
         // Output m is ready when floor((m M + half) / L) < n_in, i.e. m M + half < n_in L.
         let total = u128::from(self.n_in + input_frames) * u128::from(self.table.up());
-        let half = u128::from(self.table.half());
+        let half = u128::from(self.table.delay());
         let ready = if total > half {
             (total - half).div_ceil(u128::from(self.table.down()))
         } else {
@@ -203,7 +203,7 @@ impl<T: Sample> StreamConverter<T> {
             return 0;
         }
         let m = u128::from(self.n_out + output_frames - 1);
-        let i = (m * u128::from(self.table.down()) + u128::from(self.table.half()))
+        let i = (m * u128::from(self.table.down()) + u128::from(self.table.delay()))
             / u128::from(self.table.up());
         (i as u64 + 1).saturating_sub(self.n_in)
     }

@@ -3,9 +3,9 @@
 
 use rayon::prelude::*;
 
-use crate::groups::GroupTable;
+use super::render::{reach, render, History};
 use crate::kernel::{Kernel, KernelFns, Sample};
-use crate::render::{reach, render, History};
+use crate::table::GroupTable;
 use crate::{Design, Error, Result};
 
 #[cfg(doc)]

@@ -16,8 +16,8 @@
 //! one started at frame 0 bit for bit (the segmented file conversion of the command-line
 //! tool relies on this).
 
-use crate::groups::GroupTable;
 use crate::kernel::{KernelFns, Sample};
+use crate::table::GroupTable;
 use crate::{Error, Result};
 
 /// Inputs handed to the kernel per call, at most.

@@ -1,0 +1,30 @@
+//! The numbers that bound what a caller may ask for, and the defaults: one home for every
+//! limit the error messages, the filter spec and the applications quote.
+
+/// Highest sample rate accepted, Hz (10 MHz).
+pub const MAX_RATE: u32 = 10_000_000;
+
+/// Most channels a converter accepts.
+pub const MAX_CHANNELS: usize = 1024;
+
+/// Smallest accepted stopband attenuation, dB.
+pub const MIN_STOPBAND_DB: f64 = 20.0;
+/// Largest accepted stopband attenuation, dB.
+pub const MAX_STOPBAND_DB: f64 = 200.0;
+/// Smallest accepted passband edge, as a fraction of the lower Nyquist frequency.
+pub const MIN_PASSBAND: f64 = 0.5;
+/// Largest accepted passband edge, as a fraction of the lower Nyquist frequency.
+pub const MAX_PASSBAND: f64 = 0.995;
+/// Default stopband attenuation of [`crate::FilterSpec::new`], dB.
+pub const DEFAULT_STOPBAND_DB: f64 = 140.0;
+/// Default passband edge of [`crate::FilterSpec::new`] (fraction of the lower Nyquist frequency).
+pub const DEFAULT_PASSBAND: f64 = 0.91;
+/// Default memory budget for one polyphase table in `f64`, bytes (64 MiB).
+pub const DEFAULT_TABLE_BUDGET: u64 = 64 << 20;
+/// Taps per phase are padded to a multiple of this, for whole-vector loads.
+pub const PHASE_ALIGN: usize = 8;
+
+/// Extra attenuation required when a long prototype is measured on a copy with fewer phases
+/// (the copy's window length is rounded to its grid, which moves the lobes next to the
+/// stopband edge by about 0.1 dB).
+pub const SURROGATE_MARGIN_DB: f64 = 0.5;
