@@ -6,7 +6,7 @@
 use std::io::Write;
 
 use libfuzzer_sys::fuzz_target;
-use resample_cli::wav::{NonFinite, WavReader};
+use resample_cli::audio::{Input, NonFinite};
 
 fuzz_target!(|data: &[u8]| {
     // The reader works on files (it checks declared sizes against the file's length).
@@ -19,7 +19,7 @@ fuzz_target!(|data: &[u8]| {
     }
     drop(f);
     for mode in [NonFinite::Refuse, NonFinite::Zero] {
-        if let Ok(mut r) = WavReader::open(&path) {
+        if let Ok(mut r) = Input::open(&path) {
             let ch = usize::from(r.info().channels);
             let mut buf = vec![0.0_f32; 64 * ch];
             while let Ok(n) = r.read_frames(&mut buf, mode) {
@@ -29,7 +29,7 @@ fuzz_target!(|data: &[u8]| {
             }
         }
     }
-    if let Ok(mut r) = WavReader::open(&path) {
+    if let Ok(mut r) = Input::open(&path) {
         let ch = usize::from(r.info().channels);
         let mut buf = vec![0.0_f64; 7 * ch];
         while let Ok(n) = r.read_frames(&mut buf, NonFinite::Zero) {

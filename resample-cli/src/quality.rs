@@ -12,7 +12,7 @@
 
 use std::fmt;
 
-use crate::wav::Encoding;
+use crate::audio::wav::Encoding;
 
 /// Margin above the format's full-scale sine SNR, dB.
 pub const STOPBAND_MARGIN_DB: f64 = 10.0;

@@ -2,14 +2,13 @@
 //! each output goes, which outputs would be unsafe, and which share of the batch this
 //! machine takes.
 
-mod discover;
 mod naming;
 mod shard;
 
 use std::collections::{BTreeMap, HashSet};
 use std::path::{Path, PathBuf};
 
-pub use discover::{file_id, is_wav_name, FileId};
+pub use crate::io::walk::{file_id, is_wav_name, FileId};
 pub use naming::{default_output_name, rate_label};
 pub use shard::Shard;
 
@@ -61,7 +60,7 @@ pub fn plan(
             .map_err(|e| PlanError(format!("{}: {}", inp.display(), describe_io(&e))))?;
         if meta.is_dir() {
             any_dir = true;
-            let files = discover::wav_files(inp, recursive)
+            let files = crate::io::walk::wav_files(inp, recursive)
                 .map_err(|e| PlanError(format!("{}: {}", inp.display(), describe_io(&e))))?;
             if files.is_empty() {
                 return Err(PlanError(format!(

@@ -2,95 +2,22 @@
 //! parallel, safely, with a report line per file and a summary.
 
 use std::io::{IsTerminal, Write};
-use std::path::PathBuf;
-use std::process::ExitCode;
 use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
 use std::sync::Mutex;
 use std::time::{Duration, Instant};
 
+use crate::audio::wav::Encoding;
+use crate::batch::{self, file_id, Plan, Task};
+use crate::convert::{convert_file, Control, DesignCache, Settings};
 use anyhow::{Context, Result};
-use clap::{Args, ValueEnum};
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use rayon::prelude::*;
-use resample_cli::batch::{self, file_id, Plan, Shard, Task};
-use resample_cli::convert::{convert_file, Control, DesignCache, Settings};
-use resample_cli::wav::{Dither, Encoding, WavError};
 use serde_json::json;
 
-use super::signals::{self, CANCEL, EXIT_INTERRUPTED};
-use crate::rate::parse_rate;
-
-/// Exit code for a command-line mistake.
-const EXIT_USAGE: u8 = 2;
-
-/// Dither choices.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
-pub enum DitherArg {
-    /// Triangular-PDF dither, 2 LSB peak to peak.
-    Tpdf,
-    /// Plain rounding.
-    None,
-}
-
-/// Options of `rerate convert`.
-#[derive(Debug, Args)]
-pub struct ConvertArgs {
-    /// WAV files or folders to convert.
-    #[arg(required = true, value_name = "IN")]
-    pub inputs: Vec<PathBuf>,
-    /// Output sample rate (48000, 48k, 44.1k, 44.1kHz).
-    #[arg(long, value_parser = parse_rate)]
-    pub out_rate: u32,
-    /// Output file (one input file) or folder (several inputs, or a folder: its structure is
-    /// mirrored). Default: NAME-RATE.wav beside each input (e.g. take-48k.wav).
-    #[arg(short = 'o', long = "output", value_name = "PATH")]
-    pub output: Option<PathBuf>,
-    /// Descend into sub-folders of folder inputs.
-    #[arg(short = 'r', long)]
-    pub recursive: bool,
-    /// Output integer word length (default: keep the input's format).
-    #[arg(long, value_parser = ["16", "24", "32"], conflicts_with = "float")]
-    pub bits: Option<String>,
-    /// Output 32-bit float.
-    #[arg(long)]
-    pub float: bool,
-    /// Minimum stopband attenuation in dB (default: follows the output format: 8-bit 60,
-    /// 16-bit 110, 24-bit and float 160, 32-bit 200).
-    #[arg(long, value_name = "DB")]
-    pub stopband_db: Option<f64>,
-    /// Passband edge as a fraction of the lower Nyquist frequency (0.5 to 0.995).
-    #[arg(long, value_name = "FRACTION", default_value_t = resample_core::limits::DEFAULT_PASSBAND)]
-    pub passband: f64,
-    /// Dither when writing 8-, 16- or 24-bit integers (fixed seed: same input, same bytes).
-    #[arg(long, value_enum, default_value_t = DitherArg::Tpdf)]
-    pub dither: DitherArg,
-    /// Gain in dB applied before conversion (e.g. -1.5 to make room for inter-sample peaks).
-    #[arg(
-        long,
-        value_name = "DB",
-        default_value_t = 0.0,
-        allow_negative_numbers = true
-    )]
-    pub gain: f64,
-    /// Replace NaN/infinite float samples with 0 and count them, instead of refusing the file.
-    #[arg(long)]
-    pub sanitize: bool,
-    /// Files converted in parallel (default: all cores). Output bytes do not depend on it.
-    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u32).range(1..=4096))]
-    pub jobs: Option<u32>,
-    /// Only this share of the sorted batch, K/N with 0 <= K < N (for job arrays).
-    #[arg(long, value_name = "K/N")]
-    pub shard: Option<Shard>,
-    /// Skip files whose output already exists (to resume an interrupted batch).
-    #[arg(long, conflicts_with = "force")]
-    pub skip_existing: bool,
-    /// Overwrite existing outputs (never an input).
-    #[arg(long)]
-    pub force: bool,
-    /// One JSON object per file and a summary object, one per line, on stdout.
-    #[arg(long)]
-    pub json: bool,
-}
+use crate::args::check_filter;
+use crate::args::convert::ConvertArgs;
+use crate::exit::{Status, UsageError};
+use crate::io::signals::{self, CANCEL};
 
 /// How one task ended.
 enum Outcome {
@@ -100,10 +27,10 @@ enum Outcome {
 }
 
 /// Run `rerate convert`.
-pub fn run(args: &ConvertArgs) -> Result<ExitCode> {
-    let encoding = match (&args.bits, args.float) {
+pub fn run(args: &ConvertArgs) -> Result<Status> {
+    let encoding = match (args.bits, args.float) {
         (_, true) => Some(Encoding::Float32),
-        (Some(b), false) => Encoding::int(b.parse().unwrap_or(0)),
+        (Some(b), false) => Encoding::int(b),
         (None, false) => None,
     };
     let mut settings = Settings {
@@ -111,38 +38,17 @@ pub fn run(args: &ConvertArgs) -> Result<ExitCode> {
         stopband_db: args.stopband_db,
         passband: args.passband,
         encoding,
-        dither: match args.dither {
-            DitherArg::Tpdf => Dither::Tpdf,
-            DitherArg::None => Dither::None,
-        },
+        dither: args.dither.dither(),
         gain_db: args.gain,
         sanitize: args.sanitize,
         force: args.force,
         pipeline: false,
     };
     if !args.gain.is_finite() {
-        return usage("--gain must be a finite number of dB");
+        return Err(UsageError("--gain must be a finite number of dB".into()).into());
     }
     // Check the filter parameters once, up front, rather than once per file.
-    if let Some(db) = args.stopband_db {
-        let r = resample_core::limits::MIN_STOPBAND_DB..=resample_core::limits::MAX_STOPBAND_DB;
-        if !r.contains(&db) {
-            return usage(&format!(
-                "--stopband-db {db} is out of range ({} to {} dB)",
-                r.start(),
-                r.end()
-            ));
-        }
-    }
-    let pr = resample_core::limits::MIN_PASSBAND..=resample_core::limits::MAX_PASSBAND;
-    if !pr.contains(&args.passband) {
-        return usage(&format!(
-            "--passband {} is out of range ({} to {} of the lower Nyquist frequency)",
-            args.passband,
-            pr.start(),
-            pr.end()
-        ));
-    }
+    check_filter(args.stopband_db, args.passband)?;
     let plan = match batch::plan(
         &args.inputs,
         args.output.as_deref(),
@@ -150,7 +56,7 @@ pub fn run(args: &ConvertArgs) -> Result<ExitCode> {
         args.out_rate,
     ) {
         Ok(p) => p,
-        Err(e) => return usage(&e.0),
+        Err(e) => return Err(UsageError(e.0).into()),
     };
     let Plan {
         tasks,
@@ -265,13 +171,13 @@ pub fn run(args: &ConvertArgs) -> Result<ExitCode> {
         ));
     }
     Ok(if interrupted {
-        ExitCode::from(EXIT_INTERRUPTED)
+        Status::Interrupted
     } else if n_failed == 0 {
-        ExitCode::SUCCESS
+        Status::Success
     } else if is_batch {
-        ExitCode::from(crate::EXIT_CHECK_FAILED)
+        Status::CheckFailed
     } else {
-        ExitCode::from(crate::EXIT_ERROR)
+        Status::Failed
     })
 }
 
@@ -283,19 +189,19 @@ fn one(
     args: &ConvertArgs,
     designs: &DesignCache,
     bar: &Bar,
-) -> Result<Option<resample_cli::convert::FileReport>, anyhow::Error> {
+) -> Result<Option<crate::convert::FileReport>, anyhow::Error> {
     if CANCEL.load(Ordering::Relaxed) {
-        return Err(WavError::Interrupted.into());
+        return Err(crate::error::FileError::Interrupted.into());
     }
     if let Some(id) = file_id(&task.output) {
         if inputs.contains(&id) {
-            return Err(WavError::IsInput(task.output.display().to_string()).into());
+            return Err(crate::error::FileError::IsInput(task.output.display().to_string()).into());
         }
         if args.skip_existing {
             return Ok(None);
         }
         if !args.force {
-            return Err(WavError::Exists(task.output.display().to_string()).into());
+            return Err(crate::error::FileError::Exists(task.output.display().to_string()).into());
         }
     }
     if let Some(parent) = task.output.parent() {
@@ -316,11 +222,6 @@ fn one(
         designs,
         ctl,
     )?))
-}
-
-fn usage(msg: &str) -> Result<ExitCode> {
-    eprintln!("rerate: {msg}");
-    Ok(ExitCode::from(EXIT_USAGE))
 }
 
 /// A progress bar on stderr, shown only when stderr is a terminal and the work has already

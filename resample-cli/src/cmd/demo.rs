@@ -2,31 +2,17 @@
 //! stereo, 24-bit; demo data of our own) is written to `./rerate-demo/`, converted to 48 kHz
 //! for the video and to 16 kHz 16-bit for a speech/ML pipeline, and the report is printed.
 
-use std::path::PathBuf;
-use std::process::ExitCode;
-
+use crate::audio::wav::{Encoding, WavWriter, WriterOptions};
+use crate::convert::{convert_file, Control, DesignCache, Settings};
+use crate::demo::{jingle, JINGLE_RATE};
 use anyhow::{Context, Result};
-use clap::Args;
-use resample_cli::convert::{convert_file, Control, DesignCache, Settings};
-use resample_cli::demo::{jingle, JINGLE_RATE};
-use resample_cli::wav::{Encoding, WavWriter, WriterOptions};
 
-use super::signals::{self, CANCEL};
-
-/// Options of `rerate demo`.
-#[derive(Debug, Args)]
-pub struct DemoArgs {
-    /// Folder for the demo files (created if missing). Only the demo's own files
-    /// (demo-jingle-*.wav) in it are written or replaced.
-    #[arg(short = 'o', long = "output", default_value = "rerate-demo")]
-    pub output: PathBuf,
-    /// Print the reports as JSON lines.
-    #[arg(long)]
-    pub json: bool,
-}
+use crate::args::demo::DemoArgs;
+use crate::exit::Status;
+use crate::io::signals::{self, CANCEL};
 
 /// Run `rerate demo`.
-pub fn run(args: &DemoArgs) -> Result<ExitCode> {
+pub fn run(args: &DemoArgs) -> Result<Status> {
     signals::install();
     let dir = &args.output;
     std::fs::create_dir_all(dir).with_context(|| format!("cannot create {}", dir.display()))?;
@@ -75,5 +61,5 @@ pub fn run(args: &DemoArgs) -> Result<ExitCode> {
              (see rerate convert --help)"
         );
     }
-    Ok(ExitCode::SUCCESS)
+    Ok(Status::Success)
 }

@@ -3,41 +3,18 @@
 //! whether the rejection met it.
 
 use std::io::Write;
-use std::path::{Path, PathBuf};
-use std::process::ExitCode;
+use std::path::Path;
 
 use anyhow::{bail, Context, Result};
-use clap::Args;
 use resample_core::measure::{self, Settings};
 use serde_json::{json, Value};
 
-use crate::cmd::measured::{metrics_json, metrics_text, ReportArgs};
-use resample_cli::wav::{NonFinite, WavReader};
+use crate::audio::{Input, NonFinite};
+use crate::report::measured::{metrics_json, metrics_text};
 
-use crate::cmd::sweep::{wav_error, SweepOpts};
-use crate::rate::parse_rate;
-
-/// Options of `rerate grade`.
-#[derive(Debug, Args)]
-pub struct GradeArgs {
-    /// The converter's output of the sweep (WAV: 8/16/24/32-bit integer or 32-bit float,
-    /// any number of channels; every channel is measured and the worst one is reported).
-    pub converted: PathBuf,
-    /// Rate the sweep was made at (the converter's input rate).
-    #[arg(long, value_parser = parse_rate)]
-    pub source_rate: u32,
-    #[command(flatten)]
-    pub sweep: SweepOpts,
-    /// Passband edge for the ripple, as a fraction of the lower Nyquist frequency.
-    #[arg(long, default_value_t = resample_core::limits::DEFAULT_PASSBAND)]
-    pub passband: f64,
-    /// Pass only if the rejection is at least DB; exit 1 if not.
-    #[arg(long, value_name = "DB")]
-    pub expect_db: Option<f64>,
-    /// How to report.
-    #[command(flatten)]
-    pub report: ReportArgs,
-}
+use crate::args::check_filter;
+use crate::args::grade::GradeArgs;
+use crate::exit::Status;
 
 /// A whole WAV file as planar channels, full scale = 1.0.
 struct Planar {
@@ -48,8 +25,8 @@ struct Planar {
 /// Read `path` through the shared WAV layer (header checked against the file before any
 /// allocation; NaN or infinite samples refused, naming frame and channel).
 fn read_planar(path: &Path) -> Result<Planar> {
-    let named = |e| wav_error(path, e);
-    let mut reader = WavReader::open(path).map_err(named)?;
+    let named = |e| crate::error::about_file(path, e);
+    let mut reader = Input::open(path).map_err(named)?;
     let info = reader.info().clone();
     let n = usize::from(info.channels);
     // The reader has checked that the file holds `frames` frames.
@@ -76,10 +53,8 @@ fn read_planar(path: &Path) -> Result<Planar> {
 }
 
 /// Run `rerate grade`.
-pub fn run(args: &GradeArgs) -> Result<ExitCode> {
-    if !(0.5..=0.995).contains(&args.passband) {
-        bail!("--passband {}: choose 0.5 to 0.995", args.passband);
-    }
+pub fn run(args: &GradeArgs) -> Result<Status> {
+    check_filter(None, args.passband)?;
     let sweep = args.sweep.sweep(args.source_rate)?;
     let wav = read_planar(&args.converted)?;
     let name = args.converted.display();
@@ -116,7 +91,7 @@ pub fn run(args: &GradeArgs) -> Result<ExitCode> {
             args.source_rate,
             wav.rate
         );
-        crate::plot::draw(path, &m, &title, args.expect_db, args.report.force)?;
+        crate::report::plot::draw(path, &m, &title, args.expect_db, args.report.force)?;
     }
     let mut out = std::io::stdout().lock();
     if args.report.json {
@@ -155,7 +130,7 @@ pub fn run(args: &GradeArgs) -> Result<ExitCode> {
         }
     }
     Ok(match pass {
-        Some(false) => ExitCode::from(crate::EXIT_CHECK_FAILED),
-        _ => ExitCode::SUCCESS,
+        Some(false) => Status::CheckFailed,
+        _ => Status::Success,
     })
 }

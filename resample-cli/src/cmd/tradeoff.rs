@@ -4,118 +4,20 @@
 //! way, so the cost and the worth of a longer filter can be read off one table.
 
 use std::io::Write;
-use std::path::PathBuf;
 use std::time::Instant;
 
 use anyhow::{bail, Context, Result};
-use clap::Args;
 use resample_core::measure::Baseline;
 use resample_core::measure::{self, Settings, Sweep};
 use resample_core::{Design, FilterSpec, Sample, StreamConverter};
 use serde_json::{json, Value};
 
-use crate::cmd::measured::num;
-use crate::cmd::verify::run_engine;
-use crate::rate::parse_rate;
-
-/// Options of `rerate tradeoff`.
-#[derive(Debug, Args)]
-pub struct TradeoffArgs {
-    /// Input sample rate (48000, 48k, 44.1k, 44.1kHz).
-    #[arg(long, value_parser = parse_rate)]
-    pub in_rate: u32,
-    /// Output sample rate.
-    #[arg(long, value_parser = parse_rate)]
-    pub out_rate: u32,
-    /// Stopband attenuations to design for, dB: FROM:TO:STEP, or a comma list.
-    #[arg(long, default_value = "60:180:20", value_parser = parse_db_range)]
-    pub stopband_db: DbList,
-    /// Passband edge as a fraction of the lower Nyquist frequency (0.5 to 0.995).
-    #[arg(long, default_value_t = resample_core::limits::DEFAULT_PASSBAND)]
-    pub passband: f64,
-    /// Sweep duration for the quality measurement, seconds.
-    #[arg(long, default_value_t = 4.0)]
-    pub seconds: f64,
-    /// Seconds of audio converted to time each method.
-    #[arg(long, default_value_t = 5.0)]
-    pub speed_seconds: f64,
-    /// Leave out the baseline methods.
-    #[arg(long)]
-    pub no_baselines: bool,
-    /// Print the rows as JSON.
-    #[arg(long, conflicts_with = "csv")]
-    pub json: bool,
-    /// Print the rows as CSV.
-    #[arg(long)]
-    pub csv: bool,
-    /// Draw rejection and speed against taps per phase to FILE (.png or .svg).
-    #[arg(long, value_name = "FILE")]
-    pub plot: Option<PathBuf>,
-    /// Overwrite FILE given to --plot if it exists.
-    #[arg(long)]
-    pub force: bool,
-}
-
-/// A list of attenuations, dB.
-#[derive(Debug, Clone, PartialEq)]
-pub struct DbList(pub Vec<f64>);
-
-/// `FROM:TO:STEP` (inclusive), a comma list, or one value.
-pub fn parse_db_range(s: &str) -> Result<DbList, String> {
-    let num = |t: &str| {
-        t.trim()
-            .parse::<f64>()
-            .ok()
-            .filter(|v| v.is_finite())
-            .ok_or_else(|| format!("'{t}' is not a number of dB"))
-    };
-    let parts: Vec<&str> = s.split(':').collect();
-    let list = match parts.as_slice() {
-        [from, to, step] => {
-            let (a, b, d) = (num(from)?, num(to)?, num(step)?);
-            if d <= 0.0 || b < a {
-                return Err("FROM:TO:STEP needs FROM <= TO and STEP > 0".into());
-            }
-            let n = ((b - a) / d + 1e-9).floor() as usize + 1;
-            if n > 64 {
-                return Err(format!("{n} designs: at most 64 per table"));
-            }
-            (0..n).map(|i| a + d * i as f64).collect()
-        }
-        [one] => one.split(',').map(num).collect::<Result<Vec<_>, _>>()?,
-        _ => return Err("use FROM:TO:STEP or a comma list".into()),
-    };
-    if list.is_empty() {
-        return Err("no attenuation given".into());
-    }
-    Ok(DbList(list))
-}
-
-/// One row of the table.
-#[derive(Debug, Clone)]
-pub struct Row {
-    /// "windowed-sinc" or a baseline's name.
-    pub method: String,
-    /// Requested stopband attenuation (designs only), dB.
-    pub requested_db: Option<f64>,
-    /// Taps per phase (designs only).
-    pub taps_per_phase: Option<usize>,
-    /// Measured image / alias rejection, dB.
-    pub rejection_db: f64,
-    /// Measured passband ripple, dB peak to peak.
-    pub ripple_db: f64,
-    /// Latency a live stream adds: how far ahead of an output's instant its input reaches,
-    /// ms (design group delay for windowed sinc; 0 for the causal baselines, one input
-    /// sample for linear interpolation).
-    pub latency_ms: f64,
-    /// Delay of the output measured on the sweep (offline, so ~0 for windowed sinc, which
-    /// compensates its delay), ms.
-    pub measured_delay_ms: f64,
-    /// Throughput of one thread, multiple of real time (mono, f32 for designs).
-    pub speed_x_realtime: f64,
-    /// Table memory in f32, bytes (designs only).
-    pub table_bytes: Option<u64>,
-}
+use crate::args::check_filter;
+use crate::args::tradeoff::TradeoffArgs;
+use crate::convert::run_engine;
+use crate::exit::Status;
+use crate::report::format::num;
+use crate::report::tradeoff::Row;
 
 /// Deterministic noise to time conversions on.
 fn noise(n: usize) -> Vec<f64> {
@@ -265,7 +167,10 @@ pub fn rows(args: &TradeoffArgs) -> Result<Vec<Row>> {
 }
 
 /// Run `rerate tradeoff`.
-pub fn run(args: &TradeoffArgs) -> Result<()> {
+pub fn run(args: &TradeoffArgs) -> Result<Status> {
+    for &db in &args.stopband_db.0 {
+        check_filter(Some(db), args.passband)?;
+    }
     if let Some(path) = &args.plot {
         if path.exists() && !args.force {
             bail!(
@@ -276,7 +181,7 @@ pub fn run(args: &TradeoffArgs) -> Result<()> {
     }
     let rows = rows(args)?;
     if let Some(path) = &args.plot {
-        crate::cmd::tradeoff_plot::draw(path, &rows, args.in_rate, args.out_rate, args.force)?;
+        crate::report::tradeoff_plot::draw(path, &rows, args.in_rate, args.out_rate, args.force)?;
     }
     let mut out = std::io::stdout().lock();
     if args.json {
@@ -312,7 +217,7 @@ pub fn run(args: &TradeoffArgs) -> Result<()> {
     } else {
         write!(out, "{}", table_text(&rows, args))?;
     }
-    Ok(())
+    Ok(Status::Success)
 }
 
 fn row_json(r: &Row) -> Value {
@@ -353,7 +258,7 @@ fn table_text(rows: &[Row], args: &TradeoffArgs) -> String {
             r.requested_db.map_or_else(dash, |v| format!("{v}")),
             r.taps_per_phase.map_or_else(dash, |v| v.to_string()),
             r.rejection_db,
-            crate::cmd::measured::small_db(r.ripple_db),
+            crate::report::format::small_db(r.ripple_db),
             r.latency_ms,
             r.speed_x_realtime,
             r.table_bytes
@@ -365,22 +270,4 @@ fn table_text(rows: &[Row], args: &TradeoffArgs) -> String {
          speed: one thread, mono, f32 (baselines f64); it varies with the machine and its load\n",
     );
     s
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn ranges_parse() {
-        assert_eq!(
-            parse_db_range("60:180:20").unwrap().0,
-            vec![60.0, 80.0, 100.0, 120.0, 140.0, 160.0, 180.0]
-        );
-        assert_eq!(parse_db_range("90,120").unwrap().0, vec![90.0, 120.0]);
-        assert_eq!(parse_db_range("100").unwrap().0, vec![100.0]);
-        for bad in ["", "a", "60:40:10", "60:80:0", "1:2", "0:1000:1", "nan"] {
-            assert!(parse_db_range(bad).is_err(), "{bad}");
-        }
-    }
 }

@@ -2,92 +2,33 @@
 //! precision `convert` uses; exit code 0 when the measurement meets the request, 1 when not.
 
 use std::io::Write;
-use std::process::ExitCode;
 
 use anyhow::{Context, Result};
-use clap::Args;
 use resample_core::measure::{self, Settings, Sweep};
-use resample_core::{Design, FilterSpec, Sample, StreamConverter};
+use resample_core::FilterSpec;
 use serde_json::{json, Value};
 
-use resample_cli::quality::{self, Precision};
-use resample_cli::wav::Encoding;
+use crate::audio::wav::Encoding;
+use crate::quality::{self, Precision};
 
-use crate::cmd::measured::{metrics_json, metrics_text, num, small_db, ReportArgs};
-use crate::rate::parse_rate;
-
-/// Options of `rerate verify`.
-#[derive(Debug, Args)]
-pub struct VerifyArgs {
-    /// Input sample rate (48000, 48k, 44.1k, 44.1kHz).
-    #[arg(long, value_parser = parse_rate)]
-    pub in_rate: u32,
-    /// Output sample rate.
-    #[arg(long, value_parser = parse_rate)]
-    pub out_rate: u32,
-    /// Minimum stopband attenuation in dB (20 to 200) to design for and check against;
-    /// default: what `convert` uses for the output format (--bits / --float).
-    #[arg(long)]
-    pub stopband_db: Option<f64>,
-    /// Check the conversion `convert` would run for integer output of N bits (its default
-    /// stopband and arithmetic precision follow the format).
-    #[arg(long, value_name = "N", conflicts_with = "float")]
-    pub bits: Option<u16>,
-    /// Check the conversion for 32-bit float output (the default).
-    #[arg(long)]
-    pub float: bool,
-    /// Passband edge as a fraction of the lower Nyquist frequency (0.5 to 0.995).
-    #[arg(long, default_value_t = resample_core::limits::DEFAULT_PASSBAND)]
-    pub passband: f64,
-    /// Sweep duration in seconds (longer sweeps resolve the stopband edge more finely).
-    #[arg(long, default_value_t = measure::DEFAULT_SECONDS)]
-    pub seconds: f64,
-    /// How to report.
-    #[command(flatten)]
-    pub report: ReportArgs,
-}
+use crate::args::check_filter;
+use crate::args::verify::VerifyArgs;
+use crate::convert::run_engine;
+use crate::exit::Status;
+use crate::report::format::{num, small_db};
+use crate::report::measured::{metrics_json, metrics_text};
 
 /// The output format whose rules `verify` applies: `--bits N`, `--float`, or 32-bit float.
-fn encoding_of(args: &VerifyArgs) -> Result<Encoding> {
-    match args.bits {
-        None => Ok(Encoding::Float32),
-        Some(b) => {
-            Encoding::int(b).ok_or_else(|| anyhow::anyhow!("--bits {b}: choose 8, 16, 24 or 32"))
-        }
-    }
-}
-
-/// Run `x` through a streaming converter in `T`, in blocks, as `convert` does.
-pub fn run_engine<T: Sample>(design: &Design, x: &[f64]) -> Result<Vec<f64>> {
-    const BLOCK: usize = 4096;
-    let mut conv = StreamConverter::<T>::new(design, 1)?;
-    let total = design.pair().output_len(x.len() as u64) as usize;
-    let mut out = vec![T::zero(); total];
-    let input: Vec<T> = x.iter().map(|&v| T::from_f64_lossy(v)).collect();
-    let (mut read, mut written) = (0, 0);
-    while read < input.len() {
-        let end = (read + BLOCK).min(input.len());
-        let p = conv.process_planar(&[&input[read..end]], &mut [&mut out[written..]])?;
-        read += p.frames_read;
-        written += p.frames_written;
-        if p.frames_read == 0 && p.frames_written == 0 {
-            break;
-        }
-    }
-    loop {
-        let k = conv.flush_planar(&mut [&mut out[written..]])?;
-        written += k;
-        if k == 0 {
-            break;
-        }
-    }
-    out.truncate(written);
-    Ok(out.iter().map(|v| v.to_f64_exact()).collect())
+fn encoding_of(args: &VerifyArgs) -> Encoding {
+    args.bits
+        .and_then(Encoding::int)
+        .unwrap_or(Encoding::Float32)
 }
 
 /// Run `rerate verify`.
-pub fn run(args: &VerifyArgs) -> Result<ExitCode> {
-    let encoding = encoding_of(args)?;
+pub fn run(args: &VerifyArgs) -> Result<Status> {
+    check_filter(args.stopband_db, args.passband)?;
+    let encoding = encoding_of(args);
     let requested = args
         .stopband_db
         .unwrap_or_else(|| quality::default_stopband_db(encoding));
@@ -127,7 +68,7 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode> {
             "verify {} Hz -> {} Hz, {} dB requested",
             args.in_rate, args.out_rate, requested
         );
-        crate::plot::draw(path, &m, &title, Some(requested), args.report.force)?;
+        crate::report::plot::draw(path, &m, &title, Some(requested), args.report.force)?;
     }
     let r = design.report();
     let mut out = std::io::stdout().lock();
@@ -188,8 +129,8 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode> {
         )?;
     }
     Ok(if pass {
-        ExitCode::SUCCESS
+        Status::Success
     } else {
-        ExitCode::from(crate::EXIT_CHECK_FAILED)
+        Status::CheckFailed
     })
 }

@@ -3,8 +3,8 @@
 //! the output format ([`crate::quality`]).
 
 mod cache;
+mod memory;
 mod pipeline;
-mod report;
 
 use std::path::Path;
 use std::sync::atomic::{AtomicBool, Ordering};
@@ -13,11 +13,13 @@ use std::time::Instant;
 
 use resample_core::{Design, Sample, StreamConverter};
 
+pub use crate::report::file::FileReport;
 pub use cache::DesignCache;
-pub use report::FileReport;
+pub use memory::run_engine;
 
+use crate::audio::wav::{Dither, Encoding, NonFinite, WavError, WavWriter, WriterOptions};
+use crate::audio::Input;
 use crate::quality::{default_stopband_db, precision_for, Precision};
-use crate::wav::{Dither, Encoding, NonFinite, WavError, WavReader, WavWriter, WriterOptions};
 
 /// Input frames read per block.
 pub const BLOCK_FRAMES: usize = 8192;
@@ -74,6 +76,9 @@ pub enum ConvertError {
     /// Reading or writing the WAV files.
     #[error(transparent)]
     Wav(#[from] WavError),
+    /// The files as files: an existing output, an interruption, ...
+    #[error(transparent)]
+    File(#[from] crate::error::FileError),
     /// The filter could not be designed or the converter built.
     #[error("cannot convert: {0}")]
     Core(#[from] resample_core::Error),
@@ -114,7 +119,7 @@ pub fn convert_file(
     ctl: Control<'_>,
 ) -> Result<FileReport, ConvertError> {
     let start = Instant::now();
-    let mut reader = WavReader::open(input)?;
+    let mut reader = Input::open(input)?;
     let info = reader.info().clone();
     let encoding = settings.encoding.unwrap_or(info.encoding);
     let stopband = settings
@@ -205,7 +210,7 @@ impl Run<'_> {
     /// read), gain applied. Returns the frames read; 0 at the end.
     fn read_block<T: Sample>(
         &self,
-        reader: &mut WavReader,
+        reader: &mut Input,
         buf: &mut Vec<T>,
     ) -> Result<usize, ConvertError> {
         let ch = usize::from(reader.info().channels);
@@ -222,7 +227,7 @@ impl Run<'_> {
     /// Everything on this thread: read a block, convert it, write the result.
     fn sequential<T: Sample>(
         &self,
-        reader: &mut WavReader,
+        reader: &mut Input,
         setup: impl FnOnce() -> Result<(Arc<Design>, WavWriter), ConvertError>,
     ) -> Result<(Arc<Design>, WavWriter), ConvertError> {
         let (design, mut writer) = setup()?;
@@ -231,7 +236,7 @@ impl Run<'_> {
         let mut emit = |out: &mut Vec<T>, n: usize| writer.write_frames(&out[..n]);
         loop {
             if self.ctl.cancel.load(Ordering::Relaxed) {
-                return Err(WavError::Interrupted.into());
+                return Err(crate::error::FileError::Interrupted.into());
             }
             let n = self.read_block(reader, &mut inb)?;
             if n == 0 {

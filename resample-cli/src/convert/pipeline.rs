@@ -14,7 +14,8 @@ use rayon::prelude::*;
 use resample_core::{Design, Sample, StreamConverter};
 
 use super::{ConvertError, Engine, Run, BLOCK_FRAMES};
-use crate::wav::{WavError, WavReader, WavWriter};
+use crate::audio::wav::{WavError, WavWriter};
+use crate::audio::Input;
 use resample_core::segments::{convert_segment, Segment, SegmentPlan};
 
 /// Decoded input the reader may hold ahead of the converter, bytes (at least one block).
@@ -31,7 +32,7 @@ impl Run<'_> {
     /// create the output) runs on this thread while the reader starts.
     pub(super) fn pipelined<T: Sample>(
         &self,
-        reader: &mut WavReader,
+        reader: &mut Input,
         setup: impl FnOnce() -> Result<(Arc<Design>, WavWriter), ConvertError>,
     ) -> Result<(Arc<Design>, WavWriter), ConvertError> {
         let ch = usize::from(reader.info().channels);
@@ -99,7 +100,7 @@ impl Run<'_> {
                     };
                     loop {
                         if self.ctl.cancel.load(Ordering::Relaxed) {
-                            return Err(WavError::Interrupted.into());
+                            return Err(crate::error::FileError::Interrupted.into());
                         }
                         let Ok(block) = in_rx.recv() else {
                             break; // end of the input
@@ -167,10 +168,10 @@ impl Run<'_> {
         let mut j = 0;
         while j < count {
             if self.ctl.cancel.load(Ordering::Relaxed) {
-                return Err(WavError::Interrupted.into());
+                return Err(crate::error::FileError::Interrupted.into());
             }
             let group: Vec<Segment> = (j..(j + workers as u64).min(count))
-                .map(|k| cuts.segment(k))
+                .filter_map(|k| cuts.segment(k))
                 .collect();
             let need = group.iter().map(|g| g.end).max().unwrap_or(0);
             while next_frame < need {
@@ -204,11 +205,7 @@ impl Run<'_> {
             (self.ctl.progress)(covered * self.bytes_per_frame);
             j += group.len() as u64;
             // Blocks no later segment reads go back to the reader.
-            let keep_from = if j < count {
-                cuts.segment(j).start
-            } else {
-                u64::MAX
-            };
+            let keep_from = cuts.segment(j).map_or(u64::MAX, |s| s.start);
             while let Some((start, block)) = window.front() {
                 if *start + (block.len() / ch) as u64 > keep_from {
                     break;
@@ -241,7 +238,7 @@ mod tests {
     use std::sync::atomic::AtomicBool;
 
     use super::super::{convert_file, Control, DesignCache, Settings};
-    use crate::wav::{Dither, Encoding, WavWriter, WriterOptions};
+    use crate::audio::wav::{Dither, Encoding, WavWriter, WriterOptions};
 
     /// A stereo file of `frames` frames, several blocks long, with a NaN at `nan_at`.
     fn input(path: &Path, enc: Encoding, frames: usize, nan_at: Option<usize>) {

@@ -9,3 +9,21 @@ pub mod segments;
 mod stream;
 
 pub use stream::{Progress, StreamConverter};
+
+use crate::table::GroupTable;
+use crate::{Design, Result, Sample};
+
+impl<T: Sample> GroupTable<T> {
+    /// The table an engine runs for `design`: its prototype (each tap times L, rounded once
+    /// to `T`) in groups of `lanes` outputs, aligned through the delay the design states.
+    pub(crate) fn for_design(design: &Design, lanes: usize) -> Result<Self> {
+        let pair = design.pair();
+        Self::from_prototype(
+            design.taps(),
+            u64::from(pair.up()),
+            u64::from(pair.down()),
+            design.delay(),
+            lanes,
+        )
+    }
+}

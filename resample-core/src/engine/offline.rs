@@ -81,7 +81,7 @@ pub fn convert_planar_with<T: Sample, I: AsRef<[T]> + Sync>(
         expected: usize::MAX,
         got: usize::MAX,
     })?;
-    let table = GroupTable::<T>::new(design, fns.lanes())?;
+    let table = GroupTable::<T>::for_design(design, fns.lanes())?;
     let mut out = vec![vec![T::zero(); total]; channels];
     // One task per (channel pair, segment of output frames).
     let mut tasks: Vec<(usize, usize, Vec<&mut [T]>)> = Vec::new();

@@ -37,6 +37,7 @@ pub struct SegmentPlan {
 
 /// One segment: the input it reads and the output it keeps.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[non_exhaustive]
 pub struct Segment {
     /// First input frame read.
     pub start: u64,
@@ -82,12 +83,17 @@ impl SegmentPlan {
 
     /// Input frames covered by segment `j` (its share of the file, without the re-read).
     pub fn covered(&self, j: u64) -> u64 {
-        let a = j * self.seg;
+        let Some(a) = j.checked_mul(self.seg) else {
+            return 0;
+        };
         (a + self.seg).min(self.frames_in).saturating_sub(a)
     }
 
-    /// Segment `j` (`j < count()`).
-    pub fn segment(&self, j: u64) -> Segment {
+    /// Segment `j`, or `None` when `j >= count()`.
+    pub fn segment(&self, j: u64) -> Option<Segment> {
+        if j >= self.count() {
+            return None;
+        }
         let a = j * self.seg;
         let b = (a + self.seg).min(self.frames_in);
         let start = a.saturating_sub(self.prime);
@@ -103,13 +109,13 @@ impl SegmentPlan {
             newest_input(skip + keep - 1, self.up, self.down, self.delay) as u64 + 1
         };
         let end = (start + need).min(self.frames_in);
-        Segment {
+        Some(Segment {
             start,
             end,
             skip: skip as usize,
             keep: keep as usize,
             last: end == self.frames_in,
-        }
+        })
     }
 }
 
@@ -200,7 +206,7 @@ mod tests {
         // Backwards, to show the segments do not depend on each other.
         let mut pieces = Vec::new();
         for j in (0..cuts.count()).rev() {
-            let s = cuts.segment(j);
+            let s = cuts.segment(j).unwrap();
             // In two pieces, cut anywhere.
             let input = &x[s.start as usize * ch..s.end as usize * ch];
             let cut = (input.len() / ch / 3) * ch;

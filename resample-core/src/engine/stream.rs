@@ -15,6 +15,7 @@ const OUT_BLOCK: usize = 4096;
 
 /// How much one processing call read and wrote.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+#[non_exhaustive]
 pub struct Progress {
     /// Input frames consumed (taken into the converter's history).
     pub frames_read: usize,
@@ -37,7 +38,8 @@ pub struct Progress {
 ///
 /// Input should be finite: a NaN or infinite sample makes every output whose filter window
 /// reaches it non-finite, and also the other outputs of the same groups (up to 15 more
-/// frames each side, see [`crate::groups`]), since a zero tap times an infinity is NaN.
+/// frames each side: the tap table is laid out in groups), since a zero tap times an
+/// infinity is NaN.
 ///
 /// ```
 /// use resample_core::{FilterSpec, StreamConverter};
@@ -91,7 +93,7 @@ impl<T: Sample> StreamConverter<T> {
             return Err(Error::ChannelsOutOfRange { channels });
         }
         let fns = KernelFns::new(kernel)?;
-        let table = GroupTable::new(design, fns.lanes())?;
+        let table = GroupTable::for_design(design, fns.lanes())?;
         let cap = table.rows() + BLOCK;
         // Keep the inputs of whole periods when a period is short next to a block, so that
         // the periods cut by a run's ends are computed whole with the others (see

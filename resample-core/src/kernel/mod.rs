@@ -159,12 +159,6 @@ pub(crate) fn neon_detected() -> bool {
 
 /// A kernel resolved for one sample type: its function pointers, looked up once.
 ///
-/// ```
-/// use resample_core::kernel::{Kernel, KernelFns};
-/// let k = KernelFns::<f32>::new(Kernel::detect())?;
-/// assert_eq!(k.dot(&[1.0; 8], &[2.0; 8]), 16.0);
-/// # Ok::<(), resample_core::Error>(())
-/// ```
 #[derive(Clone, Copy)]
 pub struct KernelFns<T> {
     kernel: Kernel,
@@ -228,16 +222,6 @@ impl<T: Sample> KernelFns<T> {
     /// not divide `taps.len()`, an input is too short or `out` holds fewer than
     /// `inputs.len() lanes` values.
     ///
-    /// ```
-    /// use resample_core::kernel::{Kernel, KernelFns};
-    /// let k = KernelFns::<f32>::new(Kernel::Scalar)?;
-    /// // Two rows of two lanes; lane 0 takes the first input sample, lane 1 half the second.
-    /// let taps = [1.0, 0.0, 0.0, 0.5];
-    /// let mut out = [0.0; 4];
-    /// k.groups(&taps, 2, &[&[3.0, 4.0], &[5.0, 6.0]], &mut out)?;
-    /// assert_eq!(out, [3.0, 2.0, 5.0, 3.0]);
-    /// # Ok::<(), resample_core::Error>(())
-    /// ```
     #[inline]
     #[cfg_attr(not(any(test, feature = "internals")), allow(dead_code))]
     pub fn groups(&self, taps: &[T], lanes: usize, inputs: &[&[T]], out: &mut [T]) -> Result<()> {
@@ -267,16 +251,6 @@ impl<T: Sample> KernelFns<T> {
     /// is zero, `shifts` empty or decreasing, the taps short of `G rows lanes`, an input
     /// short of the last group's reach or `out` short of `inputs.len() G lanes` values.
     ///
-    /// ```
-    /// use resample_core::kernel::{GroupSpan, Kernel, KernelFns};
-    /// let k = KernelFns::<f64>::new(Kernel::detect())?;
-    /// // Two groups of one lane and two rows; the second reads one sample later.
-    /// let span = GroupSpan { taps: &[1.0, 1.0, 0.0, 2.0], lanes: 1, rows: 2, shifts: &[5, 6] };
-    /// let mut out = [0.0; 2];
-    /// k.span(&span, &[&[1.0, 2.0, 3.0]], &mut out)?;
-    /// assert_eq!(out, [3.0, 6.0]);
-    /// # Ok::<(), resample_core::Error>(())
-    /// ```
     #[inline]
     pub fn span(&self, span: &GroupSpan<'_, T>, inputs: &[&[T]], out: &mut [T]) -> Result<()> {
         let GroupSpan {

@@ -145,7 +145,7 @@ fn groups_agree_designed<T: Sample>() {
         let design = FilterSpec::new(a, b).stopband_db(db).design().unwrap();
         for kernel in Kernel::available() {
             let fns = KernelFns::<T>::new(kernel).unwrap();
-            let table = crate::table::GroupTable::<T>::new(&design, fns.lanes()).unwrap();
+            let table = crate::table::GroupTable::<T>::for_design(&design, fns.lanes()).unwrap();
             let xs: Vec<Vec<T>> = (0..3).map(|_| rng.vec(table.rows())).collect();
             let refs: Vec<&[T]> = xs.iter().map(Vec::as_slice).collect();
             for j in 0..table.groups() {

@@ -87,6 +87,7 @@ pub struct Settings {
 
 /// One analysis frame.
 #[derive(Debug, Clone, Copy, PartialEq)]
+#[non_exhaustive]
 pub struct Frame {
     /// Output time of the frame's centre, seconds.
     pub time_s: f64,
@@ -103,6 +104,7 @@ pub struct Frame {
 
 /// Every frame's bin levels in dBFS, for pictures.
 #[derive(Debug, Clone, PartialEq)]
+#[non_exhaustive]
 pub struct Spectrogram {
     /// Bin spacing, Hz.
     pub bin_hz: f64,
@@ -114,6 +116,7 @@ pub struct Spectrogram {
 
 /// The result of a measurement.
 #[derive(Debug, Clone)]
+#[non_exhaustive]
 pub struct Measurement {
     /// Input (sweep) rate, Hz.
     pub in_rate: u32,

@@ -13,7 +13,6 @@
 //! of lane `l` for the input `r` rows in (zero where that input is outside the lane's
 //! window).
 
-use crate::filter::Design;
 use crate::kernel::GroupSpan;
 use crate::ratio::{gcd, newest_input};
 use crate::{Error, Result, Sample};
@@ -65,7 +64,7 @@ pub struct Layout {
 }
 
 impl Layout {
-    /// The layout for a prototype of `n_taps` taps (centre tap `delay`), factors `up`/`down`
+    /// The layout for a prototype of `n_taps` taps (delay `delay`), factors `up`/`down`
     /// and `lanes` outputs per group; `None` for zero sizes or a centre past the end.
     pub fn new(n_taps: u64, up: u64, down: u64, delay: u64, lanes: u64) -> Option<Self> {
         if n_taps == 0 || up == 0 || down == 0 || lanes == 0 || delay >= n_taps {
@@ -114,21 +113,9 @@ impl Layout {
 }
 
 impl<T: Sample> GroupTable<T> {
-    /// Arrange `design`'s prototype (each tap multiplied by L, rounded once to `T`) in groups
-    /// of `lanes` outputs.
-    pub fn new(design: &Design, lanes: usize) -> Result<Self> {
-        let r = design.report();
-        Self::from_prototype(
-            design.taps(),
-            u64::from(r.up),
-            u64::from(r.down),
-            design.delay(),
-            lanes,
-        )
-    }
-
     /// Arrange any prototype `h` for up factor `up`, down factor `down` (coprime or not) and
-    /// centre tap `delay` (output 0 is aligned with input 0 through tap `delay`). Errors
+    /// delay `delay` (output 0 is aligned with input 0 through tap `delay`: the centre tap of a
+    /// linear-phase prototype). Errors
     /// ([`Error::BufferShape`]) for an empty prototype, zero factors or lanes, `delay` past
     /// the prototype's end, or a table that would not fit in memory.
     pub fn from_prototype(h: &[f64], up: u64, down: u64, delay: u64, lanes: usize) -> Result<Self> {
@@ -358,7 +345,7 @@ mod tests {
             .stopband_db(100.0)
             .design()
             .unwrap();
-        let t = GroupTable::<f32>::new(&d, 16).unwrap();
+        let t = GroupTable::<f32>::for_design(&d, 16).unwrap();
         // 147 outputs per period in 10 groups: 13 empty lanes of 160.
         assert_eq!((t.period(), t.groups()), (147, 10));
         assert!(t.bytes() < 2 * 147 * t.taps() * 4);
@@ -366,7 +353,7 @@ mod tests {
             .stopband_db(100.0)
             .design()
             .unwrap();
-        let t = GroupTable::<f32>::new(&d, 16).unwrap();
+        let t = GroupTable::<f32>::for_design(&d, 16).unwrap();
         assert_eq!((t.period(), t.groups(), t.lanes_in(0)), (16, 1, 16));
         // The design report states the bytes of exactly these tables.
         for (a, b) in [
@@ -378,11 +365,11 @@ mod tests {
             let d = FilterSpec::new(a, b).stopband_db(140.0).design().unwrap();
             let r = d.report();
             assert_eq!(
-                GroupTable::<f32>::new(&d, 16).unwrap().bytes() as u64,
+                GroupTable::<f32>::for_design(&d, 16).unwrap().bytes() as u64,
                 r.table_bytes_f32
             );
             assert_eq!(
-                GroupTable::<f64>::new(&d, 8).unwrap().bytes() as u64,
+                GroupTable::<f64>::for_design(&d, 8).unwrap().bytes() as u64,
                 r.table_bytes_f64
             );
         }

@@ -8,7 +8,7 @@ use anyhow::{anyhow, Result};
 use plotters::coord::Shift;
 use plotters::prelude::*;
 
-use crate::cmd::tradeoff::Row;
+use super::tradeoff::Row;
 
 const SIZE: (u32, u32) = (1100, 900);
 const INK: RGBColor = RGBColor(30, 34, 40);
@@ -24,7 +24,7 @@ const BASE: [RGBColor; 4] = [
 /// Draw the two panels to `path`.
 pub fn draw(path: &Path, rows: &[Row], in_rate: u32, out_rate: u32, force: bool) -> Result<()> {
     let title = format!("tradeoff {in_rate} Hz -> {out_rate} Hz (measured)");
-    let canvas = crate::plot::begin(path, force)?;
+    let canvas = crate::report::plot::begin(path, force)?;
     let drawn = if canvas.svg {
         let root = SVGBackend::new(&canvas.tmp, SIZE).into_drawing_area();
         paint(&root, rows, &title).and_then(|()| root.present().map_err(|e| anyhow!("{e}")))

@@ -1,14 +1,6 @@
 //! `rerate tradeoff` run as a user would, in a fresh temporary directory.
 
-use std::process::Command;
-
-fn rerate(dir: &std::path::Path, args: &[&str]) -> std::process::Output {
-    Command::new(env!("CARGO_BIN_EXE_rerate"))
-        .current_dir(dir)
-        .args(args)
-        .output()
-        .expect("rerate runs")
-}
+use crate::util::*;
 
 /// More taps must buy more measured rejection: on a small grid the designs' rows are
 /// monotonic in taps per phase and in measured rejection, and each meets its request.

@@ -4,9 +4,6 @@
 
 use std::sync::atomic::{AtomicBool, Ordering};
 
-/// Exit code after an interruption: 128 + SIGINT (common practice, no source).
-pub const EXIT_INTERRUPTED: u8 = 130;
-
 /// Set when a signal asked the work to stop.
 pub static CANCEL: AtomicBool = AtomicBool::new(false);
 
@@ -14,8 +11,8 @@ pub static CANCEL: AtomicBool = AtomicBool::new(false);
 pub fn install() {
     let _ = ctrlc::set_handler(|| {
         if CANCEL.swap(true, Ordering::SeqCst) {
-            resample_cli::staged::remove_all_live();
-            std::process::exit(i32::from(EXIT_INTERRUPTED));
+            crate::io::staged::remove_all_live();
+            std::process::exit(i32::from(crate::exit::Status::Interrupted.code()));
         }
         eprintln!("rerate: interrupted; removing unfinished outputs (again to exit at once)");
     });

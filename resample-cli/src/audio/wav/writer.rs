@@ -14,7 +14,7 @@ use super::error::WavError;
 use super::limits::check_riff_size;
 use super::quantize::{LevelStats, Quantizer};
 use super::writeback::WriteBack;
-use crate::staged::StagedFile;
+use crate::io::staged::StagedFile;
 
 /// Write buffer size.
 const WRITE_BUFFER: usize = 256 << 10;
@@ -261,7 +261,7 @@ impl WavWriter {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::wav::{NonFinite, WavReader};
+    use crate::audio::wav::{NonFinite, WavReader};
 
     #[test]
     fn bytes_match_hound_sample_by_sample() {

@@ -1,10 +1,14 @@
 //! Helpers shared by the integration tests: run the built binary, write and read WAV files.
-#![allow(dead_code)]
 
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
-use resample_cli::wav::{Dither, Encoding, NonFinite, WavReader, WavWriter, WriterOptions};
+use resample_cli::audio::wav::{Dither, Encoding, NonFinite, WavReader, WavWriter, WriterOptions};
+
+/// The built `rerate` binary, as a command to configure.
+pub fn command() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_rerate"))
+}
 
 /// Run `rerate` with `args` in `dir`.
 pub fn rerate(dir: &Path, args: &[&str]) -> Output {

@@ -2,13 +2,11 @@
 //! no half-written or temporary files after an error or an interruption, the RIFF size
 //! limit checked before any work.
 
-mod common;
-
 use std::path::PathBuf;
 use std::time::{Duration, Instant};
 
-use common::*;
-use resample_cli::wav::Encoding;
+use crate::util::*;
+use resample_cli::audio::wav::Encoding;
 
 fn make(dir: &std::path::Path, name: &str, frames: usize) -> Vec<u8> {
     let p = dir.join(name);

@@ -1,11 +1,9 @@
 //! Every input format × channel count through `rerate convert`: exact length, format kept,
 //! content close to the core's offline result.
 
-mod common;
-
-use common::*;
+use crate::util::*;
+use resample_cli::audio::wav::Encoding;
 use resample_cli::quality::default_stopband_db;
-use resample_cli::wav::Encoding;
 use resample_core::{offline, FilterSpec};
 
 #[test]

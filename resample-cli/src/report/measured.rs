@@ -1,33 +1,9 @@
 //! Printing a measurement (shared by `verify` and `grade`): one JSON object, or aligned text.
 
-use std::path::PathBuf;
-
-use clap::Args;
 use resample_core::measure::Measurement;
 use serde_json::{json, Map, Value};
 
-/// Report options shared by `verify` and `grade`.
-#[derive(Debug, Args)]
-pub struct ReportArgs {
-    /// Print one JSON object instead of text.
-    #[arg(long)]
-    pub json: bool,
-    /// Draw the output's time-frequency picture and response to FILE (.png or .svg).
-    #[arg(long, value_name = "FILE")]
-    pub plot: Option<PathBuf>,
-    /// Overwrite FILE given to --plot if it exists.
-    #[arg(long)]
-    pub force: bool,
-}
-
-/// A number for JSON: finite values as numbers, anything else as null.
-pub fn num(v: f64) -> Value {
-    if v.is_finite() {
-        json!(v)
-    } else {
-        Value::Null
-    }
-}
+use super::format::{hz, num, small_db};
 
 /// The metrics every measuring command prints, under the agreed keys.
 pub fn metrics_json(m: &Measurement) -> Map<String, Value> {
@@ -53,25 +29,6 @@ pub fn metrics_json(m: &Measurement) -> Map<String, Value> {
     o.insert("worst_unwanted_hz".into(), num(m.worst.unwanted_hz));
     o.insert("worst_unwanted_time_s".into(), num(m.worst.time_s));
     o
-}
-
-/// A small number in dB: scientific below 0.001.
-pub fn small_db(v: f64) -> String {
-    if !v.is_finite() {
-        "inf".into()
-    } else if v != 0.0 && v.abs() < 1e-3 {
-        format!("{v:.2e}")
-    } else {
-        format!("{v:.4}")
-    }
-}
-
-/// Hz with no decimals, or "not reached".
-pub fn hz(v: Option<f64>) -> String {
-    v.map_or_else(
-        || "not reached in the swept band".into(),
-        |f| format!("{f:.0} Hz"),
-    )
 }
 
 /// The measured lines (no verdict), aligned like the other reports.

@@ -1,9 +1,7 @@
 //! Each file of fixtures/bad/ (made by fixtures/make_wav_fixtures.py): a one-line error
 //! naming the file and the problem, exit code 3, no panic, nothing written.
 
-mod common;
-
-use common::*;
+use crate::util::*;
 
 fn check(name: &str, expect: &str) {
     let dir = tempfile::tempdir().unwrap();
@@ -202,7 +200,7 @@ fn a_bad_file_does_not_stop_the_batch() {
             &d.join("in").join(n),
             8000,
             1,
-            resample_cli::wav::Encoding::Int(16),
+            resample_cli::audio::wav::Encoding::Int(16),
             &signal(500, 1, 8000),
         );
     }

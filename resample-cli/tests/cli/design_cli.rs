@@ -1,18 +1,14 @@
 //! `rerate design`, run as a user would, in fresh temporary folders.
 
-use std::process::Command;
+use crate::util::*;
 
 use resample_core::FilterSpec;
-
-fn rerate() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_rerate"))
-}
 
 #[test]
 fn export_round_trips_every_bit() {
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("taps.txt");
-    let out = rerate()
+    let out = command()
         .args([
             "design",
             "--in-rate",
@@ -48,7 +44,7 @@ fn export_round_trips_every_bit() {
     assert_eq!(names.len(), 1);
 
     // A second export to the same file is refused without --force, and the file is kept.
-    let again = rerate()
+    let again = command()
         .args([
             "design",
             "--in-rate",
@@ -63,7 +59,7 @@ fn export_round_trips_every_bit() {
     assert_eq!(again.status.code(), Some(3));
     assert!(String::from_utf8_lossy(&again.stderr).contains("already exists"));
     assert_eq!(std::fs::read_to_string(&path).unwrap(), text);
-    let forced = rerate()
+    let forced = command()
         .args([
             "design",
             "--in-rate",
@@ -82,7 +78,7 @@ fn export_round_trips_every_bit() {
 
 #[test]
 fn json_report_has_the_figures() {
-    let out = rerate()
+    let out = command()
         .args([
             "design",
             "--in-rate",
@@ -121,32 +117,39 @@ fn json_report_has_the_figures() {
 #[test]
 fn bad_requests_fail_cleanly() {
     // Unparseable rate: usage error (2).
-    let out = rerate()
+    let out = command()
         .args(["design", "--in-rate", "fast", "--out-rate", "48k"])
         .output()
         .unwrap();
     assert_eq!(out.status.code(), Some(2));
-    // Out-of-range attenuation and impossible tables: the work cannot be done (3), one line.
-    for args in [
-        [
-            "--in-rate",
-            "44.1k",
-            "--out-rate",
-            "48k",
-            "--stopband-db",
-            "500",
-        ],
-        [
-            "--in-rate",
-            "44100",
-            "--out-rate",
-            "48001",
-            "--stopband-db",
-            "140",
-        ],
+    // An out-of-range attenuation is a usage error (2), as every bad option value is in every
+    // command; an impossible table means the work cannot be done (3). One line each.
+    for (args, code) in [
+        (
+            [
+                "--in-rate",
+                "44.1k",
+                "--out-rate",
+                "48k",
+                "--stopband-db",
+                "500",
+            ],
+            2,
+        ),
+        (
+            [
+                "--in-rate",
+                "44100",
+                "--out-rate",
+                "48001",
+                "--stopband-db",
+                "140",
+            ],
+            3,
+        ),
     ] {
-        let out = rerate().arg("design").args(args).output().unwrap();
-        assert_eq!(out.status.code(), Some(3), "{args:?}");
+        let out = command().arg("design").args(args).output().unwrap();
+        assert_eq!(out.status.code(), Some(code), "{args:?}");
         let err = String::from_utf8_lossy(&out.stderr);
         assert_eq!(err.trim().lines().count(), 1, "{err}");
         assert!(!err.contains("panicked"));

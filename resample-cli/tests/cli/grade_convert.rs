@@ -1,16 +1,9 @@
 //! End to end, as a user would: `rerate sweep`, then `rerate convert` on it, then `rerate
 //! grade`; the grade agrees with `rerate verify` of the same request.
 
-use std::path::Path;
-use std::process::{Command, Output};
+use crate::util::*;
 
-fn rerate(dir: &Path, args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_rerate"))
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .expect("run rerate")
-}
+use std::process::Output;
 
 fn rejection(out: &Output) -> f64 {
     assert!(

@@ -2,8 +2,9 @@
 
 use std::path::PathBuf;
 
+use super::format::fmt_db;
+use crate::audio::wav::{Encoding, LevelStats};
 use crate::quality::Precision;
-use crate::wav::{Encoding, LevelStats};
 
 /// The facts of one converted file.
 #[derive(Debug, Clone, PartialEq)]
@@ -61,16 +62,6 @@ impl FileReport {
     }
 }
 
-fn db(v: f64) -> String {
-    if v.is_finite() {
-        format!("{v:.2}")
-    } else if v < 0.0 {
-        "-inf".into()
-    } else {
-        "inf".into()
-    }
-}
-
 impl FileReport {
     /// The one-line report: in -> out, rates, frames, duration, speed, peak, clipped, and
     /// how (stopband, precision, dither).
@@ -92,7 +83,7 @@ impl FileReport {
             self.frames_out,
             self.seconds,
             self.speed(),
-            db(self.levels.peak_dbfs()),
+            fmt_db(self.levels.peak_dbfs()),
         );
         if self.out_encoding.is_float() {
             s.push_str(&format!(", {} over 0 dBFS (kept: float)", self.levels.over));
@@ -107,7 +98,7 @@ impl FileReport {
         }
         s.push_str(&format!(
             " [stopband {} dB, {} arithmetic, {}{}]",
-            db(self.requested_stopband_db),
+            fmt_db(self.requested_stopband_db),
             self.precision,
             if self.dithered {
                 "TPDF dither"

@@ -4,44 +4,41 @@
 
 use std::path::{Path, PathBuf};
 
-use anyhow::{anyhow, bail, Context, Result};
+use anyhow::{anyhow, bail, Result};
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use resample_core::measure::Measurement;
 
-use crate::output::temp_path_for;
+use crate::error::about_file;
+use crate::io::staged::StagedFile;
 
 /// Picture size, pixels.
 const SIZE: (u32, u32) = (1200, 900);
 /// Levels shown, dB below the wanted tone's reference level.
 const RANGE_DB: f64 = 200.0;
 
-const FONT: &[u8] = include_bytes!("../assets/DejaVuSansMono.ttf");
+const FONT: &[u8] = include_bytes!("../../assets/DejaVuSansMono.ttf");
 const INK: RGBColor = RGBColor(222, 226, 214);
 const PAPER: RGBColor = RGBColor(18, 22, 30);
 const GRID: RGBColor = RGBColor(58, 64, 76);
 const TRACE: RGBColor = RGBColor(255, 184, 77);
 const LIMIT: RGBColor = RGBColor(230, 90, 90);
 
-/// A picture being drawn: the target checked, the font registered, and a temporary name
-/// beside the target that is renamed only when the picture is complete.
+/// A picture being drawn: the target checked, the font registered, and a staged file
+/// beside the target ([`StagedFile`]) that becomes the target only when the picture is
+/// complete, and is removed on error or interruption.
 #[derive(Debug)]
 pub struct Canvas {
     /// True for SVG, false for PNG.
     pub svg: bool,
-    /// Where to draw.
+    /// Where to draw (the staged file's temporary path).
     pub tmp: PathBuf,
     path: PathBuf,
+    staged: StagedFile,
 }
 
 /// Start a picture at `path` (.png or .svg); refuse an existing file without `force`.
 pub fn begin(path: &Path, force: bool) -> Result<Canvas> {
-    if path.exists() && !force {
-        bail!(
-            "{}: already exists (use --force to overwrite)",
-            path.display()
-        );
-    }
     let ext = path
         .extension()
         .map(|e| e.to_string_lossy().to_ascii_lowercase())
@@ -53,10 +50,15 @@ pub fn begin(path: &Path, force: bool) -> Result<Canvas> {
     };
     plotters::style::register_font("sans-serif", FontStyle::Normal, FONT)
         .map_err(|_| anyhow!("the embedded font cannot be read"))?;
+    let (staged, file) = StagedFile::create_with_extension(path, force, Some(&ext))
+        .map_err(|e| about_file(path, e))?;
+    // The backend writes the temporary file by its path.
+    drop(file);
     Ok(Canvas {
         svg,
-        tmp: temp_path_for(path).with_extension(format!("tmp.{ext}")),
+        tmp: staged.temp_path().to_path_buf(),
         path: path.to_path_buf(),
+        staged,
     })
 }
 
@@ -64,12 +66,9 @@ impl Canvas {
     /// Rename the finished picture into place, or remove it if drawing failed.
     pub fn finish(self, drawn: Result<()>) -> Result<()> {
         match drawn {
-            Ok(()) => std::fs::rename(&self.tmp, &self.path)
-                .with_context(|| format!("{}: cannot write", self.path.display())),
-            Err(e) => {
-                let _ = std::fs::remove_file(&self.tmp);
-                Err(e.context(format!("{}: cannot draw the plot", self.path.display())))
-            }
+            Ok(()) => self.staged.commit().map_err(|e| about_file(&self.path, e)),
+            // Dropping the staged file removes the temporary one.
+            Err(e) => Err(e.context(format!("{}: cannot draw the plot", self.path.display()))),
         }
     }
 }

@@ -1,18 +1,12 @@
 //! `rerate verify`, `sweep` and `grade`, run as a user runs them: the built binary, in a
 //! fresh temporary folder.
 
+use crate::util::*;
+
 use std::path::Path;
-use std::process::{Command, Output};
+use std::process::Output;
 
 use resample_core::{offline, FilterSpec};
-
-fn rerate(dir: &Path, args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_rerate"))
-        .current_dir(dir)
-        .args(args)
-        .output()
-        .expect("run rerate")
-}
 
 fn json(out: &Output) -> serde_json::Value {
     serde_json::from_slice(&out.stdout).unwrap_or_else(|e| {

@@ -1,10 +1,8 @@
 //! Requantization and levels through `rerate convert`: TPDF dither noise against the
 //! published figure, determinism, clip count, peak and gain.
 
-mod common;
-
-use common::*;
-use resample_cli::wav::Encoding;
+use crate::util::*;
+use resample_cli::audio::wav::Encoding;
 use resample_core::{offline, FilterSpec};
 
 /// Error power of the 16-bit output against the f64 offline result, in LSB².

@@ -7,7 +7,7 @@
 //! `N`-bit file is `c / 2^(N-1)`.
 //!
 //! ```no_run
-//! use resample_cli::wav::{NonFinite, WavReader, WavWriter, WriterOptions};
+//! use resample_cli::audio::wav::{NonFinite, WavReader, WavWriter, WriterOptions};
 //! let mut reader = WavReader::open("in.wav".as_ref())?;
 //! let info = reader.info().clone();
 //! let opts = WriterOptions::new(info.sample_rate, info.channels, info.encoding);

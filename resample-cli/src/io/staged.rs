@@ -10,7 +10,7 @@ use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicU64, Ordering};
 use std::sync::Mutex;
 
-use crate::wav::WavError;
+use crate::error::FileError;
 
 /// Suffix of every temporary file rerate writes.
 pub const TEMP_SUFFIX: &str = ".rerate-tmp";
@@ -40,17 +40,30 @@ pub struct StagedFile {
 impl StagedFile {
     /// Start writing `target`: refuse an existing target unless `force`, and create a new,
     /// uniquely named temporary file in the same folder.
-    pub fn create(target: &Path, force: bool) -> Result<(Self, File), WavError> {
+    pub fn create(target: &Path, force: bool) -> Result<(Self, File), FileError> {
+        Self::create_with_extension(target, force, None)
+    }
+
+    /// [`StagedFile::create`] with the temporary name ending in `.EXT` (for writers that
+    /// choose their format by the file's extension, such as the plot backends).
+    pub fn create_with_extension(
+        target: &Path,
+        force: bool,
+        ext: Option<&str>,
+    ) -> Result<(Self, File), FileError> {
         if !force && target.symlink_metadata().is_ok() {
-            return Err(WavError::Exists(target.display().to_string()));
+            return Err(FileError::Exists(target.display().to_string()));
         }
         let name = target
             .file_name()
             .map(|n| n.to_string_lossy().into_owned())
             .unwrap_or_else(|| "output".into());
         let n = COUNTER.fetch_add(1, Ordering::Relaxed);
-        let temp =
-            target.with_file_name(format!(".{name}.{}-{n}{TEMP_SUFFIX}", std::process::id()));
+        let ext = ext.map(|e| format!(".{e}")).unwrap_or_default();
+        let temp = target.with_file_name(format!(
+            ".{name}.{}-{n}{TEMP_SUFFIX}{ext}",
+            std::process::id()
+        ));
         if let Ok(mut live) = LIVE.lock() {
             live.insert(temp.clone());
         }
@@ -64,7 +77,7 @@ impl StagedFile {
             .write(true)
             .create_new(true)
             .open(&staged.temp)
-            .map_err(|e| WavError::io("cannot create the temporary output file", e))?;
+            .map_err(|e| FileError::io("cannot create the temporary output file", e))?;
         Ok((staged, file))
     }
 
@@ -80,12 +93,12 @@ impl StagedFile {
 
     /// Make the temporary file durable and move it to the final name. Without `force` this
     /// never replaces a file that appeared meanwhile.
-    pub fn commit(mut self) -> Result<(), WavError> {
+    pub fn commit(mut self) -> Result<(), FileError> {
         File::open(&self.temp)
             .and_then(|f| f.sync_all())
-            .map_err(|e| WavError::io("cannot write", e))?;
+            .map_err(|e| FileError::io("cannot write", e))?;
         if self.force {
-            fs::rename(&self.temp, &self.target).map_err(|e| WavError::io("cannot rename", e))?;
+            fs::rename(&self.temp, &self.target).map_err(|e| FileError::io("cannot rename", e))?;
         } else {
             // A hard link fails if the target exists: no window in which another writer's
             // file could be replaced.
@@ -94,15 +107,15 @@ impl StagedFile {
                     let _ = fs::remove_file(&self.temp);
                 }
                 Err(e) if e.kind() == io::ErrorKind::AlreadyExists => {
-                    return Err(WavError::Exists(self.target.display().to_string()));
+                    return Err(FileError::Exists(self.target.display().to_string()));
                 }
                 Err(_) => {
                     // Filesystems without hard links.
                     if self.target.symlink_metadata().is_ok() {
-                        return Err(WavError::Exists(self.target.display().to_string()));
+                        return Err(FileError::Exists(self.target.display().to_string()));
                     }
                     fs::rename(&self.temp, &self.target)
-                        .map_err(|e| WavError::io("cannot rename", e))?;
+                        .map_err(|e| FileError::io("cannot rename", e))?;
                 }
             }
         }
@@ -148,7 +161,7 @@ mod tests {
         // Exists, no force: refused up front.
         assert!(matches!(
             StagedFile::create(&target, false),
-            Err(WavError::Exists(_))
+            Err(FileError::Exists(_))
         ));
         // Dropped without commit: temp removed, target untouched.
         let (s, mut f) = StagedFile::create(&target, true).unwrap();
@@ -165,7 +178,7 @@ mod tests {
         let target = dir.path().join("b.wav");
         let (s, _f) = StagedFile::create(&target, false).unwrap();
         fs::write(&target, b"someone else").unwrap();
-        assert!(matches!(s.commit(), Err(WavError::Exists(_))));
+        assert!(matches!(s.commit(), Err(FileError::Exists(_))));
         assert_eq!(fs::read(&target).unwrap(), b"someone else");
         let leftovers: Vec<_> = fs::read_dir(dir.path()).unwrap().collect();
         assert_eq!(leftovers.len(), 1);

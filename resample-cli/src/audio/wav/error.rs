@@ -83,12 +83,6 @@ pub enum WavError {
         /// The limit.
         limit: u64,
     },
-    /// The output exists and overwriting was not allowed.
-    #[error("{0}: already exists (use --force to overwrite)")]
-    Exists(String),
-    /// The output path is an input file.
-    #[error("{0}: is an input file; rerate never writes over an input")]
-    IsInput(String),
     /// The writer was given a buffer that is not whole frames.
     #[error("buffer of {len} samples is not a whole number of {channels}-channel frames")]
     PartialFrame {
@@ -97,14 +91,20 @@ pub enum WavError {
         /// Channels per frame.
         channels: u16,
     },
-    /// The work was interrupted (Ctrl-C or a termination signal).
-    #[error("interrupted")]
-    Interrupted,
+    /// A problem with the file as a file (existing output, interruption, ...).
+    #[error(transparent)]
+    File(#[from] crate::error::FileError),
 }
 
 impl WavError {
     /// An I/O error while doing `what`.
     pub fn io(what: &'static str, source: io::Error) -> Self {
         Self::Io { what, source }
+    }
+}
+
+impl crate::error::NamesFile for WavError {
+    fn names_the_file(&self) -> bool {
+        matches!(self, Self::File(f) if f.names_the_file())
     }
 }

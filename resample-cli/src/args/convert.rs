@@ -1,0 +1,69 @@
+//! Flags of `rerate convert`.
+
+use std::path::PathBuf;
+
+use clap::Args;
+
+use super::rate::parse_rate;
+use super::{parse_bits, DitherArg};
+use crate::batch::Shard;
+
+/// Options of `rerate convert`.
+#[derive(Debug, Args)]
+pub struct ConvertArgs {
+    /// WAV files or folders to convert.
+    #[arg(required = true, value_name = "IN")]
+    pub inputs: Vec<PathBuf>,
+    /// Output sample rate (48000, 48k, 44.1k, 44.1kHz).
+    #[arg(long, value_parser = parse_rate)]
+    pub out_rate: u32,
+    /// Output file (one input file) or folder (several inputs, or a folder: its structure is
+    /// mirrored). Default: NAME-RATE.wav beside each input (e.g. take-48k.wav).
+    #[arg(short = 'o', long = "output", value_name = "PATH")]
+    pub output: Option<PathBuf>,
+    /// Descend into sub-folders of folder inputs.
+    #[arg(short = 'r', long)]
+    pub recursive: bool,
+    /// Output integer word length: 8, 16, 24 or 32 (default: keep the input's format).
+    #[arg(long, value_name = "N", value_parser = parse_bits, conflicts_with = "float")]
+    pub bits: Option<u16>,
+    /// Output 32-bit float.
+    #[arg(long)]
+    pub float: bool,
+    /// Minimum stopband attenuation in dB (default: follows the output format: 8-bit 60,
+    /// 16-bit 110, 24-bit and float 160, 32-bit 200).
+    #[arg(long, value_name = "DB")]
+    pub stopband_db: Option<f64>,
+    /// Passband edge as a fraction of the lower Nyquist frequency (0.5 to 0.995).
+    #[arg(long, value_name = "FRACTION", default_value_t = resample_core::limits::DEFAULT_PASSBAND)]
+    pub passband: f64,
+    /// Dither when writing 8-, 16- or 24-bit integers (fixed seed: same input, same bytes).
+    #[arg(long, value_enum, default_value_t = DitherArg::Tpdf)]
+    pub dither: DitherArg,
+    /// Gain in dB applied before conversion (e.g. -1.5 to make room for inter-sample peaks).
+    #[arg(
+        long,
+        value_name = "DB",
+        default_value_t = 0.0,
+        allow_negative_numbers = true
+    )]
+    pub gain: f64,
+    /// Replace NaN/infinite float samples with 0 and count them, instead of refusing the file.
+    #[arg(long)]
+    pub sanitize: bool,
+    /// Files converted in parallel (default: all cores). Output bytes do not depend on it.
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u32).range(1..=4096))]
+    pub jobs: Option<u32>,
+    /// Only this share of the sorted batch, K/N with 0 <= K < N (for job arrays).
+    #[arg(long, value_name = "K/N")]
+    pub shard: Option<Shard>,
+    /// Skip files whose output already exists (to resume an interrupted batch).
+    #[arg(long, conflicts_with = "force")]
+    pub skip_existing: bool,
+    /// Overwrite existing outputs (never an input).
+    #[arg(long)]
+    pub force: bool,
+    /// One JSON object per file and a summary object, one per line, on stdout.
+    #[arg(long)]
+    pub json: bool,
+}

@@ -1,0 +1,33 @@
+//! Flags of `rerate design`.
+
+use std::path::PathBuf;
+
+use clap::Args;
+
+use super::rate::parse_rate;
+
+/// Options of `rerate design`.
+#[derive(Debug, Args)]
+pub struct DesignArgs {
+    /// Input sample rate (48000, 48k, 44.1k, 44.1kHz).
+    #[arg(long, value_parser = parse_rate)]
+    pub in_rate: u32,
+    /// Output sample rate.
+    #[arg(long, value_parser = parse_rate)]
+    pub out_rate: u32,
+    /// Minimum stopband attenuation in dB (20 to 200).
+    #[arg(long, default_value_t = resample_core::limits::DEFAULT_STOPBAND_DB)]
+    pub stopband_db: f64,
+    /// Passband edge as a fraction of the lower Nyquist frequency (0.5 to 0.995).
+    #[arg(long, default_value_t = resample_core::limits::DEFAULT_PASSBAND)]
+    pub passband: f64,
+    /// Print the report as one JSON object.
+    #[arg(long)]
+    pub json: bool,
+    /// Write the prototype taps to FILE, one per line, in full f64 precision.
+    #[arg(long, value_name = "FILE")]
+    pub export: Option<PathBuf>,
+    /// Overwrite FILE given to --export if it exists.
+    #[arg(long)]
+    pub force: bool,
+}

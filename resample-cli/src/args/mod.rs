@@ -1,0 +1,118 @@
+//! The command line: the clap structures of every command (one file each), the values
+//! several commands share (rates, word lengths, dither, the sweep's shape, report options),
+//! and the one validation step that turns a bad value into a usage error (exit status 2)
+//! before any work starts.
+
+pub mod convert;
+pub mod demo;
+pub mod design;
+pub mod grade;
+pub mod rate;
+pub mod sweep;
+pub mod tradeoff;
+pub mod verify;
+
+use std::path::PathBuf;
+
+use clap::{Args, Parser, Subcommand, ValueEnum};
+use resample_core::limits::{MAX_PASSBAND, MAX_STOPBAND_DB, MIN_PASSBAND, MIN_STOPBAND_DB};
+
+use crate::audio::wav::Dither;
+use crate::exit::UsageError;
+
+pub use sweep::SweepOpts;
+
+/// Sample-rate conversion you can measure.
+#[derive(Debug, Parser)]
+#[command(name = "rerate", version, about, long_about = None)]
+pub struct Cli {
+    /// What to do.
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// The commands.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Print (or export) the filter a conversion would use.
+    Design(design::DesignArgs),
+    /// Convert WAV files (one file, several, or folders) to another sample rate.
+    Convert(convert::ConvertArgs),
+    /// The built-in demo: a generated jingle converted to 48 kHz and 16 kHz.
+    Demo(demo::DemoArgs),
+    /// Sweep-through test of our own converter: exit 0 when it meets the request, 1 if not.
+    Verify(verify::VerifyArgs),
+    /// Write the test sweep (WAV) to run through any other converter.
+    #[command(after_help = sweep::CAUTION)]
+    Sweep(sweep::SweepArgs),
+    /// Measure another converter's output of the sweep.
+    Grade(grade::GradeArgs),
+    /// Table (and plot) of filter length against measured quality and speed.
+    Tradeoff(tradeoff::TradeoffArgs),
+}
+
+/// Dither choices.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum DitherArg {
+    /// Triangular-PDF dither, 2 LSB peak to peak.
+    Tpdf,
+    /// Plain rounding.
+    None,
+}
+
+impl DitherArg {
+    /// The writer's dither for this choice.
+    pub fn dither(self) -> Dither {
+        match self {
+            Self::Tpdf => Dither::Tpdf,
+            Self::None => Dither::None,
+        }
+    }
+}
+
+/// `--bits N`: an integer word length rerate writes (8, 16, 24 or 32), parsed the same way
+/// by every command that takes it.
+pub fn parse_bits(text: &str) -> Result<u16, String> {
+    match text.trim() {
+        "8" => Ok(8),
+        "16" => Ok(16),
+        "24" => Ok(24),
+        "32" => Ok(32),
+        _ => Err(format!(
+            "'{text}' is not a word length rerate writes (8, 16, 24 or 32)"
+        )),
+    }
+}
+
+/// Report options shared by `verify` and `grade`.
+#[derive(Debug, Args)]
+pub struct ReportArgs {
+    /// Print one JSON object instead of text.
+    #[arg(long)]
+    pub json: bool,
+    /// Draw the output's time-frequency picture and response to FILE (.png or .svg).
+    #[arg(long, value_name = "FILE")]
+    pub plot: Option<PathBuf>,
+    /// Overwrite FILE given to --plot if it exists.
+    #[arg(long)]
+    pub force: bool,
+}
+
+/// Check a stopband attenuation and a passband edge against what the core accepts, so that
+/// a bad value is a usage error (exit status 2) in every command, before any work.
+pub fn check_filter(stopband_db: Option<f64>, passband: f64) -> Result<(), UsageError> {
+    if let Some(db) = stopband_db {
+        if !(MIN_STOPBAND_DB..=MAX_STOPBAND_DB).contains(&db) {
+            return Err(UsageError(format!(
+                "--stopband-db {db} is out of range ({MIN_STOPBAND_DB} to {MAX_STOPBAND_DB} dB)"
+            )));
+        }
+    }
+    if !(MIN_PASSBAND..=MAX_PASSBAND).contains(&passband) {
+        return Err(UsageError(format!(
+            "--passband {passband} is out of range ({MIN_PASSBAND} to {MAX_PASSBAND} of the \
+             lower Nyquist frequency)"
+        )));
+    }
+    Ok(())
+}

@@ -1,0 +1,98 @@
+//! Flags of `rerate tradeoff`, and its list of attenuations.
+
+use std::path::PathBuf;
+
+use clap::Args;
+
+use super::rate::parse_rate;
+
+/// A list of attenuations, dB.
+#[derive(Debug, Clone, PartialEq)]
+pub struct DbList(pub Vec<f64>);
+
+/// `FROM:TO:STEP` (inclusive), a comma list, or one value.
+pub fn parse_db_range(s: &str) -> Result<DbList, String> {
+    let num = |t: &str| {
+        t.trim()
+            .parse::<f64>()
+            .ok()
+            .filter(|v| v.is_finite())
+            .ok_or_else(|| format!("'{t}' is not a number of dB"))
+    };
+    let parts: Vec<&str> = s.split(':').collect();
+    let list = match parts.as_slice() {
+        [from, to, step] => {
+            let (a, b, d) = (num(from)?, num(to)?, num(step)?);
+            if d <= 0.0 || b < a {
+                return Err("FROM:TO:STEP needs FROM <= TO and STEP > 0".into());
+            }
+            let n = ((b - a) / d + 1e-9).floor() as usize + 1;
+            if n > 64 {
+                return Err(format!("{n} designs: at most 64 per table"));
+            }
+            (0..n).map(|i| a + d * i as f64).collect()
+        }
+        [one] => one.split(',').map(num).collect::<Result<Vec<_>, _>>()?,
+        _ => return Err("use FROM:TO:STEP or a comma list".into()),
+    };
+    if list.is_empty() {
+        return Err("no attenuation given".into());
+    }
+    Ok(DbList(list))
+}
+
+/// Options of `rerate tradeoff`.
+#[derive(Debug, Args)]
+pub struct TradeoffArgs {
+    /// Input sample rate (48000, 48k, 44.1k, 44.1kHz).
+    #[arg(long, value_parser = parse_rate)]
+    pub in_rate: u32,
+    /// Output sample rate.
+    #[arg(long, value_parser = parse_rate)]
+    pub out_rate: u32,
+    /// Stopband attenuations to design for, dB: FROM:TO:STEP, or a comma list.
+    #[arg(long, default_value = "60:180:20", value_parser = parse_db_range)]
+    pub stopband_db: DbList,
+    /// Passband edge as a fraction of the lower Nyquist frequency (0.5 to 0.995).
+    #[arg(long, default_value_t = resample_core::limits::DEFAULT_PASSBAND)]
+    pub passband: f64,
+    /// Sweep duration for the quality measurement, seconds.
+    #[arg(long, default_value_t = 4.0)]
+    pub seconds: f64,
+    /// Seconds of audio converted to time each method.
+    #[arg(long, default_value_t = 5.0)]
+    pub speed_seconds: f64,
+    /// Leave out the baseline methods.
+    #[arg(long)]
+    pub no_baselines: bool,
+    /// Print the rows as JSON.
+    #[arg(long, conflicts_with = "csv")]
+    pub json: bool,
+    /// Print the rows as CSV.
+    #[arg(long)]
+    pub csv: bool,
+    /// Draw rejection and speed against taps per phase to FILE (.png or .svg).
+    #[arg(long, value_name = "FILE")]
+    pub plot: Option<PathBuf>,
+    /// Overwrite FILE given to --plot if it exists.
+    #[arg(long)]
+    pub force: bool,
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn ranges_parse() {
+        assert_eq!(
+            parse_db_range("60:180:20").unwrap().0,
+            vec![60.0, 80.0, 100.0, 120.0, 140.0, 160.0, 180.0]
+        );
+        assert_eq!(parse_db_range("90,120").unwrap().0, vec![90.0, 120.0]);
+        assert_eq!(parse_db_range("100").unwrap().0, vec![100.0]);
+        for bad in ["", "a", "60:40:10", "60:80:0", "1:2", "0:1000:1", "nan"] {
+            assert!(parse_db_range(bad).is_err(), "{bad}");
+        }
+    }
+}

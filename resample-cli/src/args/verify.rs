@@ -1,0 +1,38 @@
+//! Flags of `rerate verify`.
+
+use clap::Args;
+use resample_core::measure;
+
+use super::rate::parse_rate;
+use super::{parse_bits, ReportArgs};
+
+/// Options of `rerate verify`.
+#[derive(Debug, Args)]
+pub struct VerifyArgs {
+    /// Input sample rate (48000, 48k, 44.1k, 44.1kHz).
+    #[arg(long, value_parser = parse_rate)]
+    pub in_rate: u32,
+    /// Output sample rate.
+    #[arg(long, value_parser = parse_rate)]
+    pub out_rate: u32,
+    /// Minimum stopband attenuation in dB (20 to 200) to design for and check against;
+    /// default: what `convert` uses for the output format (--bits / --float).
+    #[arg(long)]
+    pub stopband_db: Option<f64>,
+    /// Check the conversion `convert` would run for integer output of N bits (its default
+    /// stopband and arithmetic precision follow the format).
+    #[arg(long, value_name = "N", value_parser = parse_bits, conflicts_with = "float")]
+    pub bits: Option<u16>,
+    /// Check the conversion for 32-bit float output (the default).
+    #[arg(long)]
+    pub float: bool,
+    /// Passband edge as a fraction of the lower Nyquist frequency (0.5 to 0.995).
+    #[arg(long, default_value_t = resample_core::limits::DEFAULT_PASSBAND)]
+    pub passband: f64,
+    /// Sweep duration in seconds (longer sweeps resolve the stopband edge more finely).
+    #[arg(long, default_value_t = measure::DEFAULT_SECONDS)]
+    pub seconds: f64,
+    /// How to report.
+    #[command(flatten)]
+    pub report: ReportArgs,
+}

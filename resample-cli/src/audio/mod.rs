@@ -1,0 +1,62 @@
+//! Audio files: the input seam and the formats behind it.
+//!
+//! Commands open inputs through [`Input`], which hides the format: its
+//! [`info`](Input::info) and blocks of frames as floating point, full scale ±1.0. WAV
+//! ([`wav`]) is the first format; another is one new module here and one new variant of
+//! [`Input`], chosen in [`Input::open`] by the file's first bytes.
+
+pub mod wav;
+
+use std::path::Path;
+
+use resample_core::Sample;
+
+pub use wav::{Encoding, NonFinite, WavInfo};
+use wav::{WavError, WavReader};
+
+/// An input file open for streaming reads, whatever its format.
+#[derive(Debug)]
+#[non_exhaustive]
+pub enum Input {
+    /// A RIFF/WAVE file.
+    Wav(WavReader),
+}
+
+impl Input {
+    /// Open and check an input file.
+    pub fn open(path: &Path) -> Result<Self, WavError> {
+        WavReader::open(path).map(Self::Wav)
+    }
+
+    /// What the file's header says.
+    pub fn info(&self) -> &WavInfo {
+        match self {
+            Self::Wav(r) => r.info(),
+        }
+    }
+
+    /// Frames read so far.
+    pub fn frames_read(&self) -> u64 {
+        match self {
+            Self::Wav(r) => r.frames_read(),
+        }
+    }
+
+    /// Non-finite samples replaced by 0 so far (with [`NonFinite::Zero`]).
+    pub fn sanitized(&self) -> u64 {
+        match self {
+            Self::Wav(r) => r.sanitized(),
+        }
+    }
+
+    /// Read up to `buf.len() / channels` frames, interleaved, full scale ±1.0; 0 at the end.
+    pub fn read_frames<T: Sample>(
+        &mut self,
+        buf: &mut [T],
+        non_finite: NonFinite,
+    ) -> Result<usize, WavError> {
+        match self {
+            Self::Wav(r) => r.read_frames(buf, non_finite),
+        }
+    }
+}

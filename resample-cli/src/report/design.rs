@@ -1,0 +1,87 @@
+//! The design report (`rerate design`): aligned text, or one JSON object.
+
+use resample_core::DesignReport;
+use serde_json::json;
+
+use super::format::{fmt_db, fmt_ripple};
+
+/// The report as a JSON value (non-finite numbers become null).
+pub fn report_json(r: &DesignReport) -> serde_json::Value {
+    let finite = |v: f64| if v.is_finite() { json!(v) } else { json!(null) };
+    json!({
+        "in_rate": r.in_rate,
+        "out_rate": r.out_rate,
+        "up": r.up,
+        "down": r.down,
+        "total_taps": r.total_taps,
+        "taps_per_phase": r.taps_per_phase,
+        "padded_taps_per_phase": r.padded_taps_per_phase,
+        "formula_taps_per_phase": r.formula_taps_per_phase,
+        "beta": r.beta,
+        "passband_edge_hz": r.passband_edge_hz,
+        "stopband_edge_hz": r.stopband_edge_hz,
+        "cutoff_hz": r.cutoff_hz,
+        "requested_stopband_db": r.requested_stopband_db,
+        "measured_stopband_db": finite(r.measured_stopband_db),
+        "passband_ripple_db": r.passband_ripple_db,
+        "measured_on_phases": r.measured_on_phases,
+        "attempts": r.attempts,
+        "latency_input_samples": r.latency_input_frames,
+        "latency_output_samples": r.latency_output_frames,
+        "latency_ms": r.latency_ms,
+        "table_bytes_f32": r.table_bytes_f32,
+        "table_bytes_f64": r.table_bytes_f64,
+    })
+}
+
+/// The report as aligned text.
+pub fn report_text(r: &DesignReport) -> String {
+    let mut s = String::new();
+    let mut line = |k: &str, v: String| s.push_str(&format!("{k:<22}{v}\n"));
+    line("rates", format!("{} Hz -> {} Hz", r.in_rate, r.out_rate));
+    line("ratio (up/down)", format!("{}/{}", r.up, r.down));
+    if r.up == 1 && r.down == 1 {
+        line("filter", "none (equal rates: samples are copied)".into());
+        return s;
+    }
+    line(
+        "taps",
+        format!(
+            "{} total, {} per phase, Kaiser formula alone: {} per phase",
+            r.total_taps, r.taps_per_phase, r.formula_taps_per_phase
+        ),
+    );
+    line("Kaiser beta", format!("{:.4}", r.beta));
+    line(
+        "passband edge",
+        format!(
+            "{:.1} Hz (ripple {} dB p-p, measured)",
+            r.passband_edge_hz,
+            fmt_ripple(r.passband_ripple_db)
+        ),
+    );
+    line("stopband edge", format!("{:.1} Hz", r.stopband_edge_hz));
+    line(
+        "stopband",
+        format!(
+            "{} dB measured, {} dB requested",
+            fmt_db(r.measured_stopband_db),
+            fmt_db(r.requested_stopband_db)
+        ),
+    );
+    line(
+        "latency",
+        format!(
+            "{:.2} input samples, {:.2} output samples, {:.3} ms",
+            r.latency_input_frames, r.latency_output_frames, r.latency_ms
+        ),
+    );
+    line(
+        "table memory",
+        format!(
+            "{} bytes (f32), {} bytes (f64)",
+            r.table_bytes_f32, r.table_bytes_f64
+        ),
+    );
+    s
+}

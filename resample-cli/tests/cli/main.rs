@@ -1,0 +1,12 @@
+//! rerate's integration tests, one test binary: the built `rerate` run as a user runs it,
+//! always in fresh temporary folders (never the working folder); shared helpers in `util`.
+
+mod bad_input;
+mod design_cli;
+mod formats;
+mod grade_convert;
+mod levels;
+mod measure_cli;
+mod safety;
+mod tradeoff;
+mod util;
