@@ -57,8 +57,9 @@ const ENCODE_CHUNK: usize = 16 << 10;
 /// A WAV file being written.
 ///
 /// The header is the one `hound` writes for the spec (made in memory); the sample bytes are
-/// encoded here in chunks, exactly as hound encodes them one at a time, and the two size
-/// fields are completed on [`WavWriter::finish`] as hound completes them.
+/// encoded here in chunks, exactly as hound encodes them one at a time. [`WavWriter::finish`]
+/// completes the two size fields and, unlike hound, ends an odd-sized data chunk with the pad
+/// byte RIFF requires (counted in the RIFF size, not in the data chunk's).
 pub struct WavWriter {
     out: Option<BufWriter<File>>,
     staged: StagedFile,
@@ -93,6 +94,11 @@ fn map_write(e: hound::Error) -> WavError {
         hound::Error::IoError(io) => WavError::io("cannot write", io),
         other => WavError::Malformed(other.to_string()),
     }
+}
+
+/// The pad byte (0 or 1) RIFF puts after a chunk of `len` bytes.
+fn pad_len(len: u64) -> u64 {
+    len % 2
 }
 
 /// The header hound writes for `spec` (RIFF, format chunk, data chunk header), sizes 0.
@@ -203,8 +209,8 @@ impl WavWriter {
         };
         let width = usize::from(self.quant.encoding().bytes());
         let total = self.data_bytes + (samples.len() * width) as u64;
-        // The RIFF size field must hold the header and the data (hound's limit too).
-        if total + u64::from(self.header_len) - 8 > u64::from(u32::MAX) {
+        // The RIFF size field must hold the header, the data and its pad byte.
+        if total + pad_len(total) + u64::from(self.header_len) - 8 > u64::from(u32::MAX) {
             return Err(WavError::Malformed(
                 "more audio than a WAV file can hold (4 GiB)".into(),
             ));
@@ -236,11 +242,16 @@ impl WavWriter {
     /// Complete the header, make the file durable and move it to its final name.
     pub fn finish(mut self) -> Result<LevelStats, WavError> {
         if let Some(mut out) = self.out.take() {
-            // The two size fields hound fills in when finalizing: the RIFF chunk (everything
-            // after its first 8 bytes) and the data chunk. Both fit: checked on every write.
+            // RIFF pads a chunk of odd size with one zero byte, which its size field does not
+            // count (IBM/Microsoft, "Multimedia Programming Interface and Data Specifications
+            // 1.0", 1991); the RIFF chunk's size (everything after its first 8 bytes) counts
+            // it. Both sizes fit: checked on every write.
+            let pad = pad_len(self.data_bytes) as u32;
             let data = self.data_bytes as u32;
-            let riff = data + self.header_len - 8;
+            let riff = data + pad + self.header_len - 8;
             let fill = |out: &mut BufWriter<File>| -> io::Result<()> {
+                // The writer stands just after the last audio byte.
+                out.write_all(&[0u8][..pad as usize])?;
                 out.seek(SeekFrom::Start(4))?;
                 out.write_all(&riff.to_le_bytes())?;
                 out.seek(SeekFrom::Start(u64::from(self.header_len) - 4))?;
@@ -266,8 +277,11 @@ mod tests {
     #[test]
     fn bytes_match_hound_sample_by_sample() {
         // The same samples through hound's own per-sample writer, with a quantizer of the same
-        // settings: the files must be identical, header and size fields included.
+        // settings: the files must be identical, header and size fields included, except that
+        // an odd-sized data chunk gets its pad byte (hound writes none), which the RIFF size
+        // counts.
         let dir = tempfile::tempdir().unwrap();
+        let mut padded = 0;
         for enc in [
             Encoding::Int(8),
             Encoding::Int(16),
@@ -275,9 +289,9 @@ mod tests {
             Encoding::Int(32),
             Encoding::Float32,
         ] {
-            for channels in [1u16, 2, 6] {
+            for (channels, frames) in [(1u16, 40_000), (1, 40_001), (2, 40_001), (6, 40_000)] {
                 for dither in [Dither::Tpdf, Dither::None] {
-                    let x: Vec<f64> = (0..40_000 * usize::from(channels))
+                    let x: Vec<f64> = (0..frames * usize::from(channels))
                         .map(|i| 1.2 * ((i as f64) * 0.001_37).sin())
                         .collect();
                     let ours = dir.path().join("ours.wav");
@@ -301,14 +315,22 @@ mod tests {
                         }
                     }
                     h.finalize().unwrap();
-                    let (a, b) = (
+                    let (a, mut b) = (
                         std::fs::read(&ours).unwrap(),
                         std::fs::read(&theirs).unwrap(),
                     );
-                    assert!(a == b, "{enc} x{channels} {dither:?}");
+                    if (x.len() * usize::from(enc.bytes())) % 2 == 1 {
+                        b.push(0);
+                        let riff = u32::from_le_bytes(b[4..8].try_into().unwrap()) + 1;
+                        b[4..8].copy_from_slice(&riff.to_le_bytes());
+                        padded += 1;
+                    }
+                    assert!(a == b, "{enc} x{channels} {frames} {dither:?}");
                 }
             }
         }
+        // 8- and 24-bit mono of an odd length, each with and without dither.
+        assert_eq!(padded, 4);
     }
 
     #[test]
