@@ -2,6 +2,7 @@
 //! always in fresh temporary folders (never the working folder); shared helpers in `util`.
 
 mod bad_input;
+mod conformance;
 mod design_cli;
 mod formats;
 mod grade_convert;

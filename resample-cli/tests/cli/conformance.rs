@@ -10,14 +10,12 @@
 //! WAVE_FORMAT_EXTENSIBLE. Needs python3 with scipy (fixtures/requirements.txt, installed by
 //! CI): without them these tests fail, saying so; they are never skipped.
 
-mod common;
-
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
-use common::*;
-use resample_cli::wav::{Encoding, WavReader};
+use crate::util::*;
+use resample_cli::audio::wav::{Encoding, WavReader};
 use serde_json::{json, Value};
 
 /// The walker script.
