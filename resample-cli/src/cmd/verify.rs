@@ -37,7 +37,7 @@ pub fn run(args: &VerifyArgs) -> Result<Status> {
         .passband(args.passband);
     let design = spec.design().context("cannot design the filter")?;
     // The same rule `convert` follows (resample_cli::quality).
-    let precision = quality::precision_for(encoding);
+    let precision = quality::precision_for(requested);
     let sweep = Sweep::new(args.in_rate).seconds(args.seconds);
     sweep.check().context("cannot make the sweep")?;
     let settings = Settings {

@@ -125,7 +125,7 @@ pub fn convert_file(
     let stopband = settings
         .stopband_db
         .unwrap_or_else(|| default_stopband_db(encoding));
-    let precision = precision_for(encoding);
+    let precision = precision_for(stopband);
     // Designing the filter and creating the output: done by the engine once the input is
     // being read (the pipelined engine reads ahead meanwhile).
     let setup = || -> Result<(Arc<Design>, WavWriter), ConvertError> {
