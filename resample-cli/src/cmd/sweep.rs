@@ -32,7 +32,6 @@ pub fn run(args: &SweepArgs) -> Result<Status> {
     let opts = WriterOptions {
         dither: args.dither.dither(),
         force: args.force,
-        expected_frames: Some(x.len() as u64),
         ..WriterOptions::new(args.rate, 1, encoding)
     };
     let named = |e| crate::error::about_file(&args.output, e);

@@ -141,7 +141,6 @@ pub fn convert_file(
             encoding,
             dither: settings.dither,
             force: settings.force,
-            expected_frames: Some(design.pair().output_len(info.frames)),
         };
         let writer = WavWriter::create(output, &opts)?;
         Ok((design, writer))

@@ -137,7 +137,16 @@ fn inf_float() {
 
 #[test]
 fn rf64() {
-    check("rf64.wav", "RF64");
+    // RF64 files are read (EBU Tech 3306); this one has a 'ds64' chunk but no audio.
+    check("rf64.wav", "no data chunk");
+}
+
+#[test]
+fn rf64_without_ds64() {
+    check(
+        "rf64_without_ds64.wav",
+        "an RF64/BW64 file must start with a 'ds64' chunk",
+    );
 }
 
 #[test]

@@ -60,12 +60,16 @@ fn every_format_and_channel_count() {
 #[test]
 fn hand_written_files_are_read() {
     // Written by fixtures/make_wav_fixtures.py, not by hound: WAVE_FORMAT_EXTENSIBLE 24-bit
-    // 6 channels, float with an odd-length chunk (pad byte) before the data.
+    // 6 channels, float with an odd-length chunk (pad byte) before the data, and the same
+    // 16-bit stereo audio as plain RIFF, as RF64 and as BW64 (EBU Tech 3306 / ITU-R BS.2088:
+    // 'ds64' first, 32-bit sizes 0xFFFFFFFF).
     let dir = tempfile::tempdir().unwrap();
     for (name, ch, enc) in [
         ("ext24_6ch_8k.wav", 6u16, Encoding::Int(24)),
         ("float_mono_8k.wav", 1, Encoding::Float32),
         ("pcm16_stereo_8k.wav", 2, Encoding::Int(16)),
+        ("rf64_stereo_8k.wav", 2, Encoding::Int(16)),
+        ("bw64_stereo_8k.wav", 2, Encoding::Int(16)),
     ] {
         let input = fixtures().join("ok").join(name);
         let o = rerate(
@@ -84,6 +88,11 @@ fn hand_written_files_are_read() {
         let (_, _, _, x) = read_wav(&input);
         assert_eq!((rate, och, oenc), (16_000, ch, enc));
         assert_eq!(y.len(), 2 * x.len());
+    }
+    // The three containers of the same audio convert to the same audio.
+    let (_, _, _, plain) = read_wav(&dir.path().join("pcm16_stereo_8k.wav"));
+    for name in ["rf64_stereo_8k.wav", "bw64_stereo_8k.wav"] {
+        assert_eq!(read_wav(&dir.path().join(name)).3, plain, "{name}");
     }
 }
 

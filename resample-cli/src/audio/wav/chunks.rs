@@ -6,11 +6,14 @@
 use std::io::{self, Read, Seek, SeekFrom};
 
 use super::error::WavError;
+use super::rf64::{parse_ds64, Ds64, DS64_BODY};
 
 /// Largest format chunk accepted, bytes (WAVE_FORMAT_EXTENSIBLE needs 40).
 const MAX_FMT_BYTES: u32 = 1024;
 /// Most chunks looked at before the data chunk.
 const MAX_CHUNKS: usize = 100_000;
+/// Largest 'ds64' chunk accepted, bytes (its table of other chunks' sizes is not needed).
+const MAX_DS64_BYTES: u32 = 64 << 10;
 
 /// Where things are in a WAV file.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -19,8 +22,8 @@ pub(crate) struct Layout {
     pub fmt: Vec<u8>,
     /// Offset of the first audio byte.
     pub data_offset: u64,
-    /// Bytes of audio the data chunk declares.
-    pub data_len: u32,
+    /// Bytes of audio the data chunk declares (from 'ds64' for an RF64/BW64 file).
+    pub data_len: u64,
 }
 
 impl Layout {
@@ -189,11 +192,43 @@ fn read_exact_or<R: Read>(r: &mut R, buf: &mut [u8], short: WavError) -> Result<
     })
 }
 
-/// Walk the chunks of a file of `size` bytes whose first 12 bytes ("RIFF", size, "WAVE")
-/// are already checked; `r` is positioned after them.
-pub(crate) fn scan<R: Read + Seek>(r: &mut R, size: u64) -> Result<Layout, WavError> {
+/// Walk the chunks of a file of `size` bytes whose first 12 bytes ("RIFF", size, "WAVE"; or
+/// "RF64"/"BW64" when `rf64_container`) are already checked; `r` is positioned after them.
+/// An RF64/BW64 file must begin with its 'ds64' chunk, whose data size replaces the data
+/// chunk's 32-bit placeholder.
+pub(crate) fn scan<R: Read + Seek>(
+    r: &mut R,
+    size: u64,
+    rf64_container: bool,
+) -> Result<Layout, WavError> {
     let mut pos = 12u64;
     let mut fmt: Option<Vec<u8>> = None;
+    let mut rf64: Option<Ds64> = None;
+    if rf64_container {
+        let mut head = [0u8; 8];
+        read_exact_or(r, &mut head, WavError::HeaderTruncated)?;
+        pos += 8;
+        let len = u32::from_le_bytes([head[4], head[5], head[6], head[7]]);
+        if &head[..4] != b"ds64" || !(DS64_BODY..=MAX_DS64_BYTES).contains(&len) {
+            return Err(WavError::Malformed(format!(
+                "an RF64/BW64 file must start with a 'ds64' chunk of {DS64_BODY} to \
+                 {MAX_DS64_BYTES} bytes; found '{}' of {len} bytes",
+                String::from_utf8_lossy(&head[..4]).escape_debug()
+            )));
+        }
+        if u64::from(len) > size - pos {
+            return Err(WavError::HeaderTruncated);
+        }
+        let mut body = vec![0u8; len as usize];
+        read_exact_or(r, &mut body, WavError::HeaderTruncated)?;
+        pos += u64::from(len);
+        rf64 = parse_ds64(&body);
+        if len % 2 == 1 && size > pos {
+            r.seek(SeekFrom::Current(1))
+                .map_err(|e| WavError::io("cannot read", e))?;
+            pos += 1;
+        }
+    }
     for _ in 0..MAX_CHUNKS {
         let mut head = [0u8; 8];
         if size.saturating_sub(pos) < 8 {
@@ -212,10 +247,15 @@ pub(crate) fn scan<R: Read + Seek>(r: &mut R, size: u64) -> Result<Layout, WavEr
                 let fmt = fmt.ok_or_else(|| {
                     WavError::Malformed("missing fmt chunk before the data chunk".into())
                 })?;
+                // RF64: the 32-bit size is a placeholder for the 'ds64' figure (EBU Tech 3306).
+                let data_len = match (rf64, len) {
+                    (Some(ds), u32::MAX) => ds.data_size,
+                    _ => u64::from(len),
+                };
                 return Ok(Layout {
                     fmt,
                     data_offset: pos,
-                    data_len: len,
+                    data_len,
                 });
             }
             b"fmt " => {
@@ -304,7 +344,7 @@ mod tests {
         ]);
         let mut c = Cursor::new(&v);
         c.set_position(12);
-        let l = scan(&mut c, v.len() as u64).unwrap();
+        let l = scan(&mut c, v.len() as u64, false).unwrap();
         assert_eq!(l.fmt, fmt);
         assert_eq!(l.data_len, 4);
         assert_eq!(l.data_offset, v.len() as u64 - 4);
@@ -316,13 +356,13 @@ mod tests {
         let mut c = Cursor::new(&v);
         c.set_position(12);
         assert!(matches!(
-            scan(&mut c, v.len() as u64),
+            scan(&mut c, v.len() as u64, false),
             Err(WavError::Malformed(_))
         ));
         let v = file(&[(b"junk", &[0u8; 4], Some(0x7FFF_FFFF))]);
         let mut c = Cursor::new(&v);
         c.set_position(12);
-        let e = scan(&mut c, v.len() as u64).unwrap_err().to_string();
+        let e = scan(&mut c, v.len() as u64, false).unwrap_err().to_string();
         assert!(e.contains("declares 2147483647 bytes"), "{e}");
     }
 }

@@ -72,17 +72,6 @@ pub enum WavError {
         /// Channel index, from 0.
         channel: u16,
     },
-    /// The output would not fit in a RIFF file.
-    #[error(
-        "the output would be {bytes} bytes, over the 4 GiB limit of a RIFF WAV file \
-         ({limit} bytes); split the input, or write fewer bits per sample"
-    )]
-    TooLarge {
-        /// Bytes the output would need.
-        bytes: u64,
-        /// The limit.
-        limit: u64,
-    },
     /// The writer was given a buffer that is not whole frames.
     #[error("buffer of {len} samples is not a whole number of {channels}-channel frames")]
     PartialFrame {

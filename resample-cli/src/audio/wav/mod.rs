@@ -29,16 +29,15 @@ mod chunks;
 mod dither;
 mod encoding;
 mod error;
-mod limits;
 mod quantize;
 mod reader;
+mod rf64;
 mod writeback;
 mod writer;
 
 pub use dither::{Dither, Tpdf, DITHER_SEED};
 pub use encoding::Encoding;
 pub use error::WavError;
-pub use limits::{check_riff_size, output_bytes, RIFF_LIMIT_BYTES};
 pub use quantize::{LevelStats, Quantizer};
 pub use reader::{NonFinite, WavInfo, WavReader};
 pub use writer::{WavWriter, WriterOptions};

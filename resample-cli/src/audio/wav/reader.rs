@@ -143,20 +143,18 @@ impl WavReader {
         }
         let mut magic = [0u8; 12];
         let got = read_up_to(&mut file, &mut magic)?;
-        match (&magic[0..4.min(got)], got) {
-            (b"RIFF", 12) if &magic[8..12] == b"WAVE" => {}
-            (b"RIFF", 12) => return Err(WavError::NotWav("a RIFF file, but not WAVE".into())),
-            (b"RF64" | b"BW64", _) => {
-                return Err(WavError::Unsupported(
-                    "RF64/BW64 container (files over 4 GiB)".into(),
-                ))
+        let rf64 = match (&magic[0..4.min(got)], got) {
+            (b"RIFF", 12) if &magic[8..12] == b"WAVE" => false,
+            (b"RF64" | b"BW64", 12) if &magic[8..12] == b"WAVE" => true,
+            (b"RIFF" | b"RF64" | b"BW64", 12) => {
+                return Err(WavError::NotWav("a RIFF file, but not WAVE".into()))
             }
             (b"RIFX", _) => return Err(WavError::Unsupported("big-endian RIFX container".into())),
-            (b"RIFF", _) => return Err(WavError::HeaderTruncated),
+            (b"RIFF" | b"RF64" | b"BW64", _) => return Err(WavError::HeaderTruncated),
             _ if got < 4 => return Err(WavError::NotWav("shorter than a RIFF header".into())),
             _ => return Err(WavError::NotWav("no RIFF tag at the start".into())),
-        }
-        let layout = scan(&mut file, size)?;
+        };
+        let layout = scan(&mut file, size, rf64)?;
         let available = size - layout.data_offset;
         let format = layout.format()?;
         if format.sample_rate == 0 {
@@ -176,7 +174,7 @@ impl WavReader {
                 resample_core::MAX_CHANNELS
             )));
         }
-        let declared = u64::from(layout.data_len);
+        let declared = layout.data_len;
         if declared % u64::from(format.block_align) != 0 {
             return Err(WavError::Malformed(format!(
                 "the data chunk's length ({declared} bytes) is not a multiple of sample size \

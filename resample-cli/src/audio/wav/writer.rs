@@ -11,8 +11,8 @@ use resample_core::Sample;
 use super::dither::Dither;
 use super::encoding::Encoding;
 use super::error::WavError;
-use super::limits::check_riff_size;
 use super::quantize::{LevelStats, Quantizer};
+use super::rf64::{junk_chunk, size_fields};
 use super::writeback::WriteBack;
 use crate::io::staged::StagedFile;
 
@@ -32,9 +32,6 @@ pub struct WriterOptions {
     pub dither: Dither,
     /// Replace an existing file.
     pub force: bool,
-    /// Frames that will be written, if known: checked against the RIFF size limit before
-    /// anything is created.
-    pub expected_frames: Option<u64>,
 }
 
 impl WriterOptions {
@@ -46,7 +43,6 @@ impl WriterOptions {
             encoding,
             dither: Dither::Tpdf,
             force: false,
-            expected_frames: None,
         }
     }
 }
@@ -101,13 +97,20 @@ fn pad_len(len: u64) -> u64 {
     len % 2
 }
 
-/// The header hound writes for `spec` (RIFF, format chunk, data chunk header), sizes 0.
+/// The header hound writes for `spec` (RIFF, format chunk, data chunk header), sizes 0,
+/// with a 'JUNK' chunk reserved after "WAVE" for the 'ds64' chunk of a file that will pass
+/// 4 GiB (see [`super::rf64`]).
 fn header(spec: hound::WavSpec) -> Result<Vec<u8>, WavError> {
     let mut buf = io::Cursor::new(Vec::new());
     hound::WavWriter::new(&mut buf, spec)
         .and_then(|w| w.finalize())
         .map_err(map_write)?;
-    Ok(buf.into_inner())
+    let plain = buf.into_inner();
+    let mut h = Vec::with_capacity(plain.len() + 36);
+    h.extend_from_slice(&plain[..12]);
+    h.extend_from_slice(&junk_chunk());
+    h.extend_from_slice(&plain[12..]);
+    Ok(h)
 }
 
 /// Requantize `samples` and append their bytes to `bytes` as hound 3.5 writes them
@@ -141,9 +144,6 @@ impl WavWriter {
     pub fn create(path: &Path, opts: &WriterOptions) -> Result<Self, WavError> {
         if opts.channels == 0 {
             return Err(WavError::Malformed("0 channels".into()));
-        }
-        if let Some(frames) = opts.expected_frames {
-            check_riff_size(frames, opts.channels, opts.encoding)?;
         }
         let spec = opts.encoding.spec(opts.sample_rate, opts.channels);
         let header = header(spec)?;
@@ -208,13 +208,8 @@ impl WavWriter {
             return Err(WavError::Malformed("writer already finished".into()));
         };
         let width = usize::from(self.quant.encoding().bytes());
+        // No size limit: a file that passes 4 GiB becomes RF64 on finish.
         let total = self.data_bytes + (samples.len() * width) as u64;
-        // The RIFF size field must hold the header, the data and its pad byte.
-        if total + pad_len(total) + u64::from(self.header_len) - 8 > u64::from(u32::MAX) {
-            return Err(WavError::Malformed(
-                "more audio than a WAV file can hold (4 GiB)".into(),
-            ));
-        }
         for chunk in samples.chunks(ENCODE_CHUNK) {
             self.bytes.clear();
             encode(&mut self.quant, chunk, &mut self.bytes);
@@ -245,17 +240,16 @@ impl WavWriter {
             // RIFF pads a chunk of odd size with one zero byte, which its size field does not
             // count (IBM/Microsoft, "Multimedia Programming Interface and Data Specifications
             // 1.0", 1991); the RIFF chunk's size (everything after its first 8 bytes) counts
-            // it. Both sizes fit: checked on every write.
-            let pad = pad_len(self.data_bytes) as u32;
-            let data = self.data_bytes as u32;
-            let riff = data + pad + self.header_len - 8;
+            // it. Sizes past 32 bits make the file RF64 (EBU Tech 3306).
+            let pad = pad_len(self.data_bytes) as usize;
+            let patches = size_fields(u64::from(self.header_len), self.data_bytes, self.frames);
             let fill = |out: &mut BufWriter<File>| -> io::Result<()> {
                 // The writer stands just after the last audio byte.
-                out.write_all(&[0u8][..pad as usize])?;
-                out.seek(SeekFrom::Start(4))?;
-                out.write_all(&riff.to_le_bytes())?;
-                out.seek(SeekFrom::Start(u64::from(self.header_len) - 4))?;
-                out.write_all(&data.to_le_bytes())?;
+                out.write_all(&[0u8][..pad])?;
+                for (at, bytes) in &patches {
+                    out.seek(SeekFrom::Start(*at))?;
+                    out.write_all(bytes)?;
+                }
                 out.flush()
             };
             fill(&mut out).map_err(|e| WavError::io("cannot write", e))?;
@@ -319,6 +313,13 @@ mod tests {
                         std::fs::read(&ours).unwrap(),
                         std::fs::read(&theirs).unwrap(),
                     );
+                    // Ours reserves a 'JUNK' chunk of 28 zero bytes after "WAVE" (room for an
+                    // RF64 'ds64' chunk), counted in the RIFF size; hound's has none.
+                    let mut junk = b"JUNK\x1c\0\0\0".to_vec();
+                    junk.extend_from_slice(&[0u8; 28]);
+                    b.splice(12..12, junk);
+                    let riff = u32::from_le_bytes(b[4..8].try_into().unwrap()) + 36;
+                    b[4..8].copy_from_slice(&riff.to_le_bytes());
                     if (x.len() * usize::from(enc.bytes())) % 2 == 1 {
                         b.push(0);
                         let riff = u32::from_le_bytes(b[4..8].try_into().unwrap()) + 1;
