@@ -28,14 +28,22 @@ pub struct SweepOpts {
     /// Peak level of the sweep in dBFS (-60 to 0).
     #[arg(long, default_value_t = measure::DEFAULT_LEVEL_DBFS, allow_negative_numbers = true)]
     pub level: f64,
+    /// Append one second of steady probe tones across the band edge of a conversion to
+    /// RATE (the lower Nyquist frequency), which `grade` reads to resolve the stopband
+    /// there to the hertz; give the same RATE to `grade`.
+    #[arg(long, value_name = "RATE", value_parser = parse_rate)]
+    pub for_rate: Option<u32>,
 }
 
 impl SweepOpts {
     /// The sweep at `rate`, checked.
     pub fn sweep(&self, rate: u32) -> Result<Sweep> {
-        let s = Sweep::new(rate)
+        let mut s = Sweep::new(rate)
             .seconds(self.seconds)
             .level_dbfs(self.level);
+        if let Some(b) = self.for_rate {
+            s = s.edge_probes(b);
+        }
         s.check().context("cannot make the sweep")?;
         Ok(s)
     }
@@ -125,10 +133,13 @@ pub fn run(args: &SweepArgs) -> Result<()> {
     )?;
     writeln!(
         out,
-        "grade a converter's output of it with: rerate grade OUT.wav --source-rate {} --seconds {} --level {}",
+        "grade a converter's output of it with: rerate grade OUT.wav --source-rate {} --seconds {} --level {}{}",
         args.rate,
         sweep.duration(),
-        sweep.level()
+        sweep.level(),
+        sweep
+            .edge_rate()
+            .map_or_else(String::new, |b| format!(" --for-rate {b}"))
     )?;
     writeln!(out, "{CAUTION}")?;
     Ok(())

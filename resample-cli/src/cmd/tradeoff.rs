@@ -181,7 +181,9 @@ fn time_engine<T: Sample>(design: &Design, x: &[f64]) -> Result<f64> {
 
 /// Measure every row.
 pub fn rows(args: &TradeoffArgs) -> Result<Vec<Row>> {
-    let sweep = Sweep::new(args.in_rate).seconds(args.seconds);
+    let sweep = Sweep::new(args.in_rate)
+        .seconds(args.seconds)
+        .edge_probes(args.out_rate);
     sweep.check().context("cannot make the sweep")?;
     let speed_n = (args.speed_seconds * f64::from(args.in_rate))
         .round()

@@ -318,6 +318,20 @@ impl Transfer {
     }
 }
 
+/// `y` (sampled at `rate`) with everything below `cut_hz` removed by a brick wall on its
+/// whole-signal spectrum, as long as `y`.
+pub(crate) fn above_cut(y: &[f64], rate: u32, cut_hz: f64) -> Result<Vec<f64>> {
+    let n = smooth_size(y.len() + y.len() / 10 + 16);
+    let mut spec = spectrum(y, n)?;
+    let cut = (cut_hz / (f64::from(rate) / n as f64)).ceil() as usize;
+    for c in spec.iter_mut().take(cut) {
+        *c = Complex::new(0.0, 0.0);
+    }
+    let mut out = inverse(&spec, n)?;
+    out.truncate(y.len());
+    Ok(out)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
