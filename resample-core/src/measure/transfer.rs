@@ -163,17 +163,19 @@ impl Transfer {
         Ok(t)
     }
 
-    /// Whitened cross-correlation: the band-limited impulse response, whose largest value
-    /// is the delay (output samples). The peak is found on the FFT's grid, then to a small
-    /// fraction of a sample by maximising the impulse response's exact band-limited
-    /// interpolation between the neighbouring grid points.
+    /// Whitened cross-correlation: the band-limited impulse response; the delay (output
+    /// samples) is the centre of its main lobe, midway between the two points where it falls
+    /// to half its peak. The peak is found on the FFT's grid and refined, and the two points
+    /// are located, on the impulse response's exact band-limited interpolation. For a
+    /// symmetric response (a linear-phase filter, a moving average, a pure delay) that is
+    /// its centre exactly, even where its top is flat.
     ///
-    /// The peak, not the slope of the phase: a converter with a broad, smooth response
-    /// (linear interpolation, a short filter) lets images or aliases into the band, and in
-    /// `Y / X` they are terms whose phase turns fast and irregularly. Weighted by `|H|`, they
-    /// bias a phase slope by tens to thousands of samples (a zero-delay linear interpolator
-    /// from 96 kHz to 44.1 kHz read 1705 samples); in the impulse response they are chirps
-    /// spread over seconds, far below its peak, which stays where the delay is.
+    /// The impulse response, not the slope of the phase: a converter with a broad, smooth
+    /// response (linear interpolation, a short filter) lets images or aliases into the band,
+    /// and in `Y / X` they are terms whose phase turns fast and irregularly. Weighted by
+    /// `|H|`, they bias a phase slope by tens to thousands of samples (a zero-delay linear
+    /// interpolator from 96 kHz to 44.1 kHz read 1705 samples); in the impulse response they
+    /// are chirps spread over seconds, far below its main lobe, which stays where it is.
     fn find_latency(&self, b: usize) -> Result<f64> {
         let a = self.first;
         if b <= a + 8 {
@@ -244,7 +246,33 @@ impl Transfer {
                 f1 = at(x1);
             }
         }
-        Ok(0.5 * (lo + hi))
+        let peak_t = 0.5 * (lo + hi);
+        let half = 0.5 * at(peak_t);
+        // Walk out a sample at a time until below half the peak, then bisect the crossing.
+        let limit = (self.nb / 4) as f64;
+        let crossing = |dir: f64| {
+            let mut inside = peak_t;
+            let mut k = 1.0;
+            let mut outside = peak_t + dir;
+            while at(outside) >= half {
+                if k >= limit {
+                    return outside;
+                }
+                inside = outside;
+                k += 1.0;
+                outside = peak_t + dir * k;
+            }
+            for _ in 0..48 {
+                let mid = 0.5 * (inside + outside);
+                if at(mid) >= half {
+                    inside = mid;
+                } else {
+                    outside = mid;
+                }
+            }
+            0.5 * (inside + outside)
+        };
+        Ok(0.5 * (crossing(-1.0) + crossing(1.0)))
     }
 
     /// Latency in output samples (positive: the output lags the input).
