@@ -103,8 +103,9 @@ impl Baseline {
 
 impl Baseline {
     /// [`Baseline::convert`] in any float type, into a caller's buffer (at least
-    /// `ceil(n B / A)` long), without allocating (the moving average keeps its last
-    /// [`Baseline::smoother_len`] inputs in `scratch`, resized once): the form to time the
+    /// `ceil(n B / A)` long), without allocating once `scratch` has grown (it holds the
+    /// linear interpolation's fractions, or the moving average's last
+    /// [`Baseline::smoother_len`] inputs): the form to time the
     /// baselines with, at the precision of the rows beside them. Same arithmetic as
     /// `convert`, step by step (identical results in `f64`). Returns the output length.
     pub fn convert_into<T: num_traits::Float>(
@@ -124,8 +125,18 @@ impl Baseline {
         let (mut i, mut rem) = (0u64, 0u64);
         match self {
             Baseline::Linear => {
+                // The fractions rem / up, divided once each (a table of `up` entries).
+                let table = up <= 1 << 16;
+                if table {
+                    scratch.clear();
+                    scratch.extend((0..up).map(|r| T::from(r).unwrap_or_else(T::zero) / upf));
+                }
                 for v in y.iter_mut().take(total) {
-                    let f = T::from(rem).unwrap_or_else(T::zero) / upf;
+                    let f = if table {
+                        scratch[rem as usize]
+                    } else {
+                        T::from(rem).unwrap_or_else(T::zero) / upf
+                    };
                     *v = (T::one() - f) * at(i) + f * at(i + 1);
                     i += step;
                     rem += carry;

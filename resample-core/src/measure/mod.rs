@@ -16,13 +16,18 @@
 //!   Nyquist frequency. When the output rate is the higher one, the output above the input's
 //!   Nyquist frequency holds nothing but images; it is split off on the whole-signal spectrum
 //!   and searched without a guard band, so images right above the input's Nyquist frequency
-//!   (where a filter's stopband starts) are measured too.
+//!   (where a filter's stopband starts) are measured too. When the sweep carries edge probes
+//!   ([`Sweep::edge_probes`], see [`edge`]), steady tones across the lower Nyquist frequency
+//!   measure the stopband there to the hertz, each image or alias on its own bin of a
+//!   one-second FFT, and the level at the edge itself is interpolated between the nearest
+//!   components either side; the worst of sweep and probes counts. Without probes the edge
+//!   is only as sharp as the sweep (tens of hertz at its top, several dB either way).
 //! * **passband ripple**: peak-to-peak spread of the converter's measured response from
 //!   twice the sweep's start frequency up to the passband edge.
 //! * **-0.1 dB and -3 dB bandwidth**: where that response first falls 0.1 dB and 3 dB below
 //!   its level at the reference frequency.
 //! * **latency**: by whitened cross-correlation of output with input, in output samples and
-//!   milliseconds.
+//!   milliseconds: the centre of the band-limited impulse response's main lobe.
 //!
 //! ```
 //! use resample_core::measure::{measure_converter, Settings, Sweep};
