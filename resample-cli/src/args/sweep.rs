@@ -25,14 +25,22 @@ pub struct SweepOpts {
     /// Peak level of the sweep in dBFS (-60 to 0).
     #[arg(long, default_value_t = measure::DEFAULT_LEVEL_DBFS, allow_negative_numbers = true)]
     pub level: f64,
+    /// Append one second of steady probe tones across the band edge of a conversion to
+    /// RATE (the lower Nyquist frequency), which `grade` reads to resolve the stopband
+    /// there to the hertz; give the same RATE to `grade`.
+    #[arg(long, value_name = "RATE", value_parser = parse_rate)]
+    pub for_rate: Option<u32>,
 }
 
 impl SweepOpts {
     /// The sweep at `rate`, checked.
     pub fn sweep(&self, rate: u32) -> Result<Sweep> {
-        let s = Sweep::new(rate)
+        let mut s = Sweep::new(rate)
             .seconds(self.seconds)
             .level_dbfs(self.level);
+        if let Some(b) = self.for_rate {
+            s = s.edge_probes(b);
+        }
         s.check().context("cannot make the sweep")?;
         Ok(s)
     }

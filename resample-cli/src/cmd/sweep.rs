@@ -60,10 +60,13 @@ pub fn run(args: &SweepArgs) -> Result<Status> {
     )?;
     writeln!(
         out,
-        "grade a converter's output of it with: rerate grade OUT.wav --source-rate {} --seconds {} --level {}",
+        "grade a converter's output of it with: rerate grade OUT.wav --source-rate {} --seconds {} --level {}{}",
         args.rate,
         sweep.duration(),
-        sweep.level()
+        sweep.level(),
+        sweep
+            .edge_rate()
+            .map_or_else(String::new, |b| format!(" --for-rate {b}"))
     )?;
     writeln!(out, "{CAUTION}")?;
     Ok(Status::Success)

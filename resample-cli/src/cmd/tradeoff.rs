@@ -19,6 +19,42 @@ use crate::exit::Status;
 use crate::report::format::num;
 use crate::report::tradeoff::Row;
 
+/// A number for CSV that keeps its significance: scientific below 0.001 (not `0.000000`).
+fn sig(v: f64) -> String {
+    if v != 0.0 && v.is_finite() && v.abs() < 1e-3 {
+        format!("{v:.4e}")
+    } else {
+        format!("{v:.6}")
+    }
+}
+
+/// The reason a design row measures below its request, with a hint.
+fn shortfall(m: &measure::Measurement, design: &Design, requested: f64) -> Option<String> {
+    if m.rejection_db >= requested {
+        return None;
+    }
+    let designed = design.report().measured_stopband_db;
+    let from_probes = m
+        .edge
+        .as_ref()
+        .is_some_and(|e| (e.time_s - m.worst.time_s).abs() < 1e-9);
+    Some(if designed < requested {
+        format!(
+            "the design itself reaches {designed:.1} dB (arithmetic precision of the design); ask for more"
+        )
+    } else if from_probes {
+        format!(
+            "arithmetic precision: the edge probes read {:.1} dB at {:.0} Hz where the design's response has {designed:.1} dB; the conversion's arithmetic adds it",
+            m.rejection_db, m.worst.unwanted_hz
+        )
+    } else {
+        format!(
+            "sweep resolution: the sweep read its strongest component at {:.0} Hz; a longer --seconds sweeps more slowly and resolves it more finely",
+            m.worst.unwanted_hz
+        )
+    })
+}
+
 /// Deterministic noise to time conversions on.
 fn noise(n: usize) -> Vec<f64> {
     let mut s = 0x2545_F491_4F6C_DD1D_u64;
@@ -83,7 +119,9 @@ fn time_engine<T: Sample>(design: &Design, x: &[f64]) -> Result<f64> {
 
 /// Measure every row.
 pub fn rows(args: &TradeoffArgs) -> Result<Vec<Row>> {
-    let sweep = Sweep::new(args.in_rate).seconds(args.seconds);
+    let sweep = Sweep::new(args.in_rate)
+        .seconds(args.seconds)
+        .edge_probes(args.out_rate);
     sweep.check().context("cannot make the sweep")?;
     let speed_n = (args.speed_seconds * f64::from(args.in_rate))
         .round()
@@ -125,10 +163,16 @@ pub fn rows(args: &TradeoffArgs) -> Result<Vec<Row>> {
             measured_delay_ms: m.latency_ms,
             speed_x_realtime: audio_s / secs,
             table_bytes: Some(r.table_bytes_f32),
+            note: shortfall(&m, &design, db),
         });
     }
     if !args.no_baselines {
         let settings = Settings::default();
+        // Timed in f32 like the designs, into a buffer made once, as an engine would run.
+        let x32: Vec<f32> = x.iter().map(|&v| v as f32).collect();
+        let pair = resample_core::RatePair::new(args.in_rate, args.out_rate)?;
+        let mut y32 = vec![0.0_f32; pair.output_len(x32.len() as u64) as usize];
+        let mut scratch = Vec::new();
         for b in Baseline::ALL {
             let mut failure = None;
             let m = measure::measure_converter(&sweep, args.out_rate, &settings, |s| {
@@ -143,7 +187,8 @@ pub fn rows(args: &TradeoffArgs) -> Result<Vec<Row>> {
             }
             let m = m.with_context(|| format!("cannot measure {}", b.name()))?;
             let secs = best_of_three(|| {
-                std::hint::black_box(b.convert(args.in_rate, args.out_rate, &x)?);
+                b.convert_into(args.in_rate, args.out_rate, &x32, &mut y32, &mut scratch)?;
+                std::hint::black_box(&y32);
                 Ok(())
             })?;
             rows.push(Row {
@@ -160,6 +205,7 @@ pub fn rows(args: &TradeoffArgs) -> Result<Vec<Row>> {
                 measured_delay_ms: m.latency_ms,
                 speed_x_realtime: audio_s / secs,
                 table_bytes: None,
+                note: None,
             });
         }
     }
@@ -190,28 +236,32 @@ pub fn run(args: &TradeoffArgs) -> Result<Status> {
             "in_rate": args.in_rate,
             "out_rate": args.out_rate,
             "sweep_seconds": args.seconds,
-            "speed": "one thread (CPU time where the system reports it), mono, f32 for designs / f64 for baselines, multiple of real time",
+            "speed": "one thread (CPU time where the system reports it), mono, f32, multiple of real time",
             "rows": list,
         });
         writeln!(out, "{v}")?;
     } else if args.csv {
         writeln!(
             out,
-            "method,requested_db,taps_per_phase,rejection_db,ripple_db,latency_ms,speed_x_realtime,table_bytes"
+            "method,requested_db,taps_per_phase,rejection_db,ripple_db,latency_ms,speed_x_realtime,table_bytes,note"
         )?;
         let opt = |v: Option<String>| v.unwrap_or_default();
         for r in &rows {
             writeln!(
                 out,
-                "{},{},{},{:.3},{:.6},{:.4},{:.1},{}",
+                "{},{},{},{},{},{},{},{},{}",
                 r.method,
                 opt(r.requested_db.map(|v| v.to_string())),
                 opt(r.taps_per_phase.map(|v| v.to_string())),
-                r.rejection_db,
-                r.ripple_db,
-                r.latency_ms,
-                r.speed_x_realtime,
-                opt(r.table_bytes.map(|v| v.to_string()))
+                sig(r.rejection_db),
+                sig(r.ripple_db),
+                sig(r.latency_ms),
+                sig(r.speed_x_realtime),
+                opt(r.table_bytes.map(|v| v.to_string())),
+                opt(r
+                    .note
+                    .as_ref()
+                    .map(|n| format!("\"{}\"", n.replace('"', "'"))))
             )?;
         }
     } else {
@@ -231,6 +281,7 @@ fn row_json(r: &Row) -> Value {
         "measured_delay_ms": num(r.measured_delay_ms),
         "speed_x_realtime": num(r.speed_x_realtime),
         "table_bytes_f32": r.table_bytes,
+        "note": r.note,
     })
 }
 
@@ -252,12 +303,13 @@ fn table_text(rows: &[Row], args: &TradeoffArgs) -> String {
     ));
     let dash = || "-".to_string();
     for r in rows {
+        let mark = if r.note.is_some() { "*" } else { "" };
         s.push_str(&format!(
-            "{:<20} {:>9} {:>6} {:>10.1} {:>11} {:>11.3} {:>12.0} {:>10}\n",
+            "{:<20} {:>9} {:>6} {:>10} {:>11} {:>11.3} {:>12.0} {:>10}\n",
             r.method,
             r.requested_db.map_or_else(dash, |v| format!("{v}")),
             r.taps_per_phase.map_or_else(dash, |v| v.to_string()),
-            r.rejection_db,
+            format!("{:.1}{mark}", r.rejection_db),
             crate::report::format::small_db(r.ripple_db),
             r.latency_ms,
             r.speed_x_realtime,
@@ -265,9 +317,14 @@ fn table_text(rows: &[Row], args: &TradeoffArgs) -> String {
                 .map_or_else(dash, |v| format!("{:.1}", v as f64 / 1024.0)),
         ));
     }
+    for r in rows {
+        if let (Some(n), Some(db)) = (&r.note, r.requested_db) {
+            s.push_str(&format!("* {db} dB row below its request: {n}\n"));
+        }
+    }
     s.push_str(
         "taps: per phase; latency: how far ahead a live stream must read; table memory in f32;\n\
-         speed: one thread, mono, f32 (baselines f64); it varies with the machine and its load\n",
+         speed: one thread, mono, f32 for every row; it varies with the machine and its load\n",
     );
     s
 }

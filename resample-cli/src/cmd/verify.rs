@@ -38,7 +38,9 @@ pub fn run(args: &VerifyArgs) -> Result<Status> {
     let design = spec.design().context("cannot design the filter")?;
     // The same rule `convert` follows (resample_cli::quality).
     let precision = quality::precision_for(requested);
-    let sweep = Sweep::new(args.in_rate).seconds(args.seconds);
+    let sweep = Sweep::new(args.in_rate)
+        .seconds(args.seconds)
+        .edge_probes(args.out_rate);
     sweep.check().context("cannot make the sweep")?;
     let settings = Settings {
         passband_edge_hz: Some(design.report().passband_edge_hz),

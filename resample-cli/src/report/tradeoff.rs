@@ -25,4 +25,6 @@ pub struct Row {
     pub speed_x_realtime: f64,
     /// Table memory in f32, bytes (designs only).
     pub table_bytes: Option<u64>,
+    /// Why a design row measures below its request, and what to try.
+    pub note: Option<String>,
 }

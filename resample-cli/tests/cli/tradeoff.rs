@@ -120,3 +120,63 @@ fn bad_ranges_are_usage_errors() {
     );
     assert_eq!(out.status.code(), Some(2));
 }
+
+/// Rows below their request carry the reason, rows at or above it none; CSV numbers keep
+/// their significance (a ripple of 1e-8 dB is not printed as 0.000000).
+#[test]
+fn shortfalls_are_flagged_and_csv_keeps_significance() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = rerate(
+        dir.path(),
+        &[
+            "tradeoff",
+            "--in-rate",
+            "48k",
+            "--out-rate",
+            "16k",
+            "--stopband-db",
+            "120,180",
+            "--seconds",
+            "2",
+            "--speed-seconds",
+            "0.2",
+            "--no-baselines",
+            "--csv",
+        ],
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let text = String::from_utf8(out.stdout).unwrap();
+    let mut lines = text.lines();
+    let head: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let col = |name: &str| head.iter().position(|h| *h == name).unwrap();
+    let (req, rej, rip, note) = (
+        col("requested_db"),
+        col("rejection_db"),
+        col("ripple_db"),
+        col("note"),
+    );
+    let mut rows = 0;
+    for line in lines {
+        // The note is last and may hold commas inside its quotes.
+        let f: Vec<&str> = line.splitn(head.len(), ',').collect();
+        let asked: f64 = f[req].parse().unwrap();
+        let got: f64 = f[rej].parse().unwrap();
+        let ripple: f64 = f[rip].parse().unwrap();
+        assert!(ripple > 0.0, "ripple printed as {}", f[rip]);
+        assert!(!f[..note].contains(&"0.000000"), "{line}");
+        if got < asked {
+            assert!(
+                f[note].contains("sweep resolution") || f[note].contains("arithmetic precision"),
+                "{line}"
+            );
+        } else {
+            assert!(f[note].is_empty(), "{line}");
+        }
+        rows += 1;
+    }
+    assert_eq!(rows, 2);
+}

@@ -101,9 +101,120 @@ impl Baseline {
     }
 }
 
+impl Baseline {
+    /// [`Baseline::convert`] in any float type, into a caller's buffer (at least
+    /// `ceil(n B / A)` long), without allocating once `scratch` has grown (it holds the
+    /// linear interpolation's fractions, or the moving average's last
+    /// [`Baseline::smoother_len`] inputs): the form to time the
+    /// baselines with, at the precision of the rows beside them. Same arithmetic as
+    /// `convert`, step by step (identical results in `f64`). Returns the output length.
+    pub fn convert_into<T: num_traits::Float>(
+        self,
+        in_rate: u32,
+        out_rate: u32,
+        x: &[T],
+        y: &mut [T],
+        scratch: &mut Vec<T>,
+    ) -> Result<usize> {
+        let pair = RatePair::new(in_rate, out_rate)?;
+        let (up, down) = (u64::from(pair.up()), u64::from(pair.down()));
+        let total = (pair.output_len(x.len() as u64) as usize).min(y.len());
+        let at = |i: u64| x.get(i as usize).copied().unwrap_or_else(T::zero);
+        let (step, carry) = (down / up, down % up);
+        let upf = T::from(up).unwrap_or_else(T::one);
+        let (mut i, mut rem) = (0u64, 0u64);
+        match self {
+            Baseline::Linear => {
+                // The fractions rem / up, divided once each (a table of `up` entries).
+                let table = up <= 1 << 16;
+                if table {
+                    scratch.clear();
+                    scratch.extend((0..up).map(|r| T::from(r).unwrap_or_else(T::zero) / upf));
+                }
+                for v in y.iter_mut().take(total) {
+                    let f = if table {
+                        scratch[rem as usize]
+                    } else {
+                        T::from(rem).unwrap_or_else(T::zero) / upf
+                    };
+                    *v = (T::one() - f) * at(i) + f * at(i + 1);
+                    i += step;
+                    rem += carry;
+                    if rem >= up {
+                        rem -= up;
+                        i += 1;
+                    }
+                }
+            }
+            _ => {
+                for v in y.iter_mut().take(total) {
+                    *v = at(i);
+                    i += step;
+                    rem += carry;
+                    if rem >= up {
+                        rem -= up;
+                        i += 1;
+                    }
+                }
+            }
+        }
+        match self {
+            Baseline::HoldMovingAverage => {
+                let n = Self::smoother_len(in_rate, out_rate);
+                let nf = T::from(n).unwrap_or_else(T::one);
+                scratch.clear();
+                scratch.resize(n, T::zero());
+                let mut sum = T::zero();
+                for (k, v) in y.iter_mut().take(total).enumerate() {
+                    let held = *v;
+                    sum = sum + held;
+                    if k >= n {
+                        sum = sum - scratch[k % n];
+                    }
+                    scratch[k % n] = held;
+                    *v = sum / nf;
+                }
+            }
+            Baseline::HoldOnePole => {
+                let a =
+                    T::from(Self::one_pole_coefficient(in_rate, out_rate)).unwrap_or_else(T::zero);
+                let mut s = T::zero();
+                for v in y.iter_mut().take(total) {
+                    s = (T::one() - a) * *v + a * s;
+                    *v = s;
+                }
+            }
+            Baseline::Hold | Baseline::Linear => {}
+        }
+        Ok(total)
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn convert_into_is_convert() {
+        let x: Vec<f64> = (0..5000)
+            .map(|i| ((i * 7919) % 1013) as f64 / 506.0 - 1.0)
+            .collect();
+        for (a, b) in [
+            (44_100, 48_000),
+            (96_000, 44_100),
+            (8_000, 48_000),
+            (48_000, 16_000),
+        ] {
+            for m in Baseline::ALL {
+                let want = m.convert(a, b, &x).unwrap();
+                let mut y = vec![0.0; want.len() + 3];
+                let mut scratch = Vec::new();
+                let n = m.convert_into(a, b, &x, &mut y, &mut scratch).unwrap();
+                assert_eq!(n, want.len());
+                assert_eq!(&y[..n], &want[..], "{} {a} -> {b}", m.name());
+            }
+        }
+    }
 
     #[test]
     fn hold_and_linear_by_an_integer_factor() {

@@ -16,13 +16,18 @@
 //!   Nyquist frequency. When the output rate is the higher one, the output above the input's
 //!   Nyquist frequency holds nothing but images; it is split off on the whole-signal spectrum
 //!   and searched without a guard band, so images right above the input's Nyquist frequency
-//!   (where a filter's stopband starts) are measured too.
+//!   (where a filter's stopband starts) are measured too. When the sweep carries edge probes
+//!   ([`Sweep::edge_probes`], see [`edge`]), steady tones across the lower Nyquist frequency
+//!   measure the stopband there to the hertz, each image or alias on its own bin of a
+//!   one-second FFT, and the level at the edge itself is interpolated between the nearest
+//!   components either side; the worst of sweep and probes counts. Without probes the edge
+//!   is only as sharp as the sweep (tens of hertz at its top, several dB either way).
 //! * **passband ripple**: peak-to-peak spread of the converter's measured response from
 //!   twice the sweep's start frequency up to the passband edge.
 //! * **-0.1 dB and -3 dB bandwidth**: where that response first falls 0.1 dB and 3 dB below
 //!   its level at the reference frequency.
 //! * **latency**: by whitened cross-correlation of output with input, in output samples and
-//!   milliseconds.
+//!   milliseconds: the centre of the band-limited impulse response's main lobe.
 //!
 //! ```
 //! use resample_core::measure::{measure_converter, Settings, Sweep};
@@ -38,6 +43,7 @@
 //! ```
 
 mod baseline;
+pub mod edge;
 mod stft;
 mod sweep;
 mod transfer;
@@ -45,6 +51,7 @@ mod transfer;
 use realfft::RealFftPlanner;
 
 pub use baseline::Baseline;
+pub use edge::{EdgeReport, Probes};
 pub use stft::{strongest_band, Analyser, ANALYSIS_BETA, OVERLAP};
 pub use sweep::{
     Law, Sweep, DEFAULT_END_FRACTION, DEFAULT_LEVEL_DBFS, DEFAULT_SECONDS, DEFAULT_START_HZ,
@@ -151,6 +158,8 @@ pub struct Measurement {
     pub transfer: Transfer,
     /// Bin levels of every frame, when [`Settings::keep_spectrogram`] was set.
     pub spectrogram: Option<Spectrogram>,
+    /// What the edge probes found, when the sweep carried them ([`Sweep::edge_probes`]).
+    pub edge: Option<EdgeReport>,
 }
 
 impl Measurement {
@@ -264,8 +273,45 @@ fn analyse_with_input(
             problem: format!("passband edge {edge} Hz is below the swept band"),
         });
     }
+    let probes = sweep.probes();
+    if let Some(r) = sweep.edge_rate() {
+        if r != out_rate {
+            return Err(Error::MeasureSetup {
+                problem: format!(
+                    "the sweep carries edge probes for {r} Hz, but the output is at {out_rate} Hz"
+                ),
+            });
+        }
+    }
     let transfer = transfer::Transfer::measure(x, in_rate, y, out_rate, lo, f_top, edge)?;
     let tau = transfer.latency_samples();
+    // With probes, the frames stop short of the probe section (a tenth of a second before
+    // its fade-in reaches the output), and in downsampling they leave the stretch of the
+    // sweep just above the edge to the probes: there the converter's impulse response and
+    // the frame both reach back into the transition band.
+    let (frames_end, skip) = match &probes {
+        Some(p) => {
+            let end = ((sweep.probe_start() - 0.1) * b_hz + tau).floor().max(0.0) as usize;
+            let span = p
+                .tones()
+                .iter()
+                .map(|&f| (f64::from(f) - p.edge_hz()).abs())
+                .fold(0.0, f64::max);
+            let skip = (b_hz < a_hz).then_some((lower_nyq, lower_nyq + span));
+            (end.min(y.len()), skip)
+        }
+        None => (y.len(), None),
+    };
+    // Upsampling: everything above the input's Nyquist frequency is an image. With probes,
+    // the split is made on the sweep's part alone (the probe tones sit right under the
+    // split, and their fades would ring across it).
+    let high = if b_hz <= a_hz {
+        None
+    } else if probes.is_some() {
+        Some(transfer::above_cut(&y[..frames_end], out_rate, a_hz / 2.0)?)
+    } else {
+        Some(transfer.output_above(a_hz / 2.0, y.len())?)
+    };
     let f_ref = if REFERENCE_HZ > lo && REFERENCE_HZ < edge {
         REFERENCE_HZ
     } else {
@@ -276,13 +322,6 @@ fn analyse_with_input(
     let passband_ripple_db = transfer.ripple_db(lo, edge);
     let bw01 = transfer.bandwidth(f_ref, ref_gain, 0.1);
     let bw3 = transfer.bandwidth(f_ref, ref_gain, 3.0);
-
-    // Upsampling: everything above the input's Nyquist frequency is an image.
-    let high = if b_hz > a_hz {
-        Some(transfer.output_above(a_hz / 2.0, y.len())?)
-    } else {
-        None
-    };
 
     let an = Analyser::new(len, out_rate)?;
     let bin = an.bin_hz();
@@ -302,14 +341,18 @@ fn analyse_with_input(
     let mut frames = Vec::new();
     let mut levels = Vec::new();
     let mut start = 0usize;
-    while start + len <= y.len() {
+    while start + len <= frames_end {
         let s0 = (start as f64 - tau) / b_hz;
         let s1 = ((start + len - 1) as f64 - tau) / b_hz;
         let p = an.powers(y, start, &mut planner)?;
         let (mut wanted, mut guard, mut span_hz) = (None, None, 0.0);
+        let mut left_to_probes = false;
         if s1 >= ts && s0 <= te {
             let fa = law.tone_at(s0.max(ts)).unwrap_or(sweep.f1());
             let fb = law.tone_at(s1.min(te)).unwrap_or(sweep.f2());
+            if let Some((k0, k1)) = skip {
+                left_to_probes = fb > k0 && fa < k1;
+            }
             span_hz = fb - fa;
             // A frame that holds part of a fade also holds the fade's spread.
             let in_fade = s0 < ts + FADE_SECONDS || s1 > te - FADE_SECONDS;
@@ -343,6 +386,9 @@ fn analyse_with_input(
             let ph = an.powers(h, start, &mut planner)?;
             consider(strongest_band(&ph, 0, nbins, width));
         }
+        if left_to_probes {
+            best = (0.0, 0);
+        }
         frames.push(Frame {
             time_s: (start as f64 + len as f64 / 2.0) / b_hz,
             wanted_hz: wanted,
@@ -355,13 +401,38 @@ fn analyse_with_input(
         }
         start += an.hop();
     }
-    let worst = frames
+    let mut worst = frames
         .iter()
         .copied()
         .max_by(|a, b| a.unwanted_dbfs.total_cmp(&b.unwanted_dbfs))
         .ok_or_else(|| Error::MeasureSetup {
             problem: "no analysis frame fits in the output".into(),
         })?;
+    let edge_report = match &probes {
+        Some(p) => {
+            let r = p.analyse(y, sweep.probe_start(), FADE_SECONDS, tau)?;
+            // Probe levels are relative to one tone; a tone at the sweep's level would put
+            // them this much higher.
+            let (mut rel, mut hz) = (r.worst_db, r.worst_hz);
+            if let Some(e) = r.at_edge_db {
+                if e > rel {
+                    (rel, hz) = (e, r.edge_hz);
+                }
+            }
+            let dbfs = sweep.level() + rel;
+            if dbfs > worst.unwanted_dbfs {
+                worst = Frame {
+                    time_s: r.time_s,
+                    wanted_hz: None,
+                    wanted_dbfs: FLOOR_DBFS,
+                    unwanted_dbfs: dbfs,
+                    unwanted_hz: hz,
+                };
+            }
+            Some(r)
+        }
+        None => None,
+    };
     Ok(Measurement {
         in_rate,
         out_rate,
@@ -383,5 +454,6 @@ fn analyse_with_input(
             hop_s: an.hop() as f64 / b_hz,
             levels_dbfs: levels,
         }),
+        edge: edge_report,
     })
 }

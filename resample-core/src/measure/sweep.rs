@@ -20,7 +20,9 @@
 //! The run-up and glide are integrated numerically on a grid aligned with the samples (16
 //! points per sample); the phase error is a smooth function far below anything measured.
 
+use super::edge::Probes;
 use crate::filter::window::bessel_i0;
+
 use crate::{Error, Result};
 
 /// Default start frequency, Hz.
@@ -68,6 +70,7 @@ pub struct Sweep {
     level_dbfs: f64,
     start_hz: f64,
     end_hz: Option<f64>,
+    edge_rate: Option<u32>,
 }
 
 impl Sweep {
@@ -79,7 +82,32 @@ impl Sweep {
             level_dbfs: DEFAULT_LEVEL_DBFS,
             start_hz: DEFAULT_START_HZ,
             end_hz: None,
+            edge_rate: None,
         }
+    }
+
+    /// Append steady probe tones across the band edge of a conversion to `out_rate` (see
+    /// [`super::edge`]): the analysis then resolves the stopband next to the lower Nyquist
+    /// frequency. No probes for `out_rate` equal to the sweep's rate.
+    pub fn edge_probes(mut self, out_rate: u32) -> Self {
+        self.edge_rate = (out_rate != self.rate).then_some(out_rate);
+        self
+    }
+
+    /// The output rate the edge probes were placed for, if any.
+    pub fn edge_rate(&self) -> Option<u32> {
+        self.edge_rate
+    }
+
+    /// The edge probes, if the sweep carries them (and any tone fits).
+    pub fn probes(&self) -> Option<Probes> {
+        Probes::new(self.rate, self.edge_rate?, self.amplitude())
+    }
+
+    /// Signal time (seconds from the first sample) at which the probe section starts
+    /// (its fade-in included): right after the sweep's closing silence.
+    pub fn probe_start(&self) -> f64 {
+        self.plain_len() as f64 / f64::from(self.rate)
     }
 
     /// Sweep duration from start to end frequency, seconds (fades and silence come on top).
@@ -169,6 +197,11 @@ impl Sweep {
                 "sweep band {f1} Hz to {f2} Hz does not fit (need 0 < 2 f1 < f2 < {nyq} Hz)"
             ));
         }
+        if let Some(r) = self.edge_rate {
+            if r == 0 || r > crate::MAX_RATE {
+                return Err(Error::RateOutOfRange { rate: r.into() });
+            }
+        }
         Ok(())
     }
 
@@ -194,8 +227,19 @@ impl Sweep {
         self.law().t_end()
     }
 
-    /// Total length in samples: silence, fade-in, sweep, glide, fade-out, silence.
+    /// Total length in samples: silence, fade-in, sweep, glide, fade-out, silence; then,
+    /// with edge probes, their fade-in, steady tones, fade-out and silence.
     pub fn len(&self) -> usize {
+        let tail = (TAIL_SECONDS * f64::from(self.rate)).ceil() as usize;
+        let probes = match self.edge_rate.and_then(|b| Probes::place(self.rate, b)) {
+            Some(_) => 2 * self.law().nd + Probes::steady_len_for(self.rate) + tail,
+            None => 0,
+        };
+        self.plain_len() + probes
+    }
+
+    /// Length of the sweep alone (without edge probes), samples.
+    fn plain_len(&self) -> usize {
         let law = self.law();
         law.start
             + law.glide_at
@@ -228,7 +272,7 @@ impl Sweep {
 
     fn samples_with(&self, law: &Law) -> Result<Vec<f64>> {
         let a = self.amplitude();
-        let mut x = vec![0.0; self.len()];
+        let mut x = vec![0.0; self.plain_len()];
         let (start, nd, g) = (law.start, law.nd, law.glide_at);
         let rate = f64::from(self.rate);
         // Run-up with fade-in.
@@ -253,6 +297,10 @@ impl Sweep {
             let env = 1.0 - law.step[j];
             let ph = phi_end + two_pi * law.f_end * j as f64 / rate;
             x[start + g + nd + j] = a * env * ph.sin();
+        }
+        if let Some(p) = self.probes() {
+            x.extend(p.samples(&law.step));
+            x.resize(self.len(), 0.0);
         }
         Ok(x)
     }

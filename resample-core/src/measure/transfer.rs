@@ -3,7 +3,7 @@
 //! method of Farina (108th AES Convention, 2000). From it: the level of the wanted tone at
 //! every frequency (ripple, bandwidth, the reference level) and the latency, found by
 //! whitened cross-correlation of output and input (the peak of the band-limited impulse
-//! response, refined by the slope of the phase).
+//! response, located between grid points on its exact band-limited interpolation).
 
 use crate::ratio::gcd;
 use realfft::num_complex::Complex;
@@ -157,8 +157,19 @@ impl Transfer {
         Ok(t)
     }
 
-    /// Whitened cross-correlation: the band-limited impulse response; its peak is the
-    /// coarse delay, the slope of the residual phase the fine delay (output samples).
+    /// Whitened cross-correlation: the band-limited impulse response; the delay (output
+    /// samples) is the centre of its main lobe, midway between the two points where it falls
+    /// to half its peak. The peak is found on the FFT's grid and refined, and the two points
+    /// are located, on the impulse response's exact band-limited interpolation. For a
+    /// symmetric response (a linear-phase filter, a moving average, a pure delay) that is
+    /// its centre exactly, even where its top is flat.
+    ///
+    /// The impulse response, not the slope of the phase: a converter with a broad, smooth
+    /// response (linear interpolation, a short filter) lets images or aliases into the band,
+    /// and in `Y / X` they are terms whose phase turns fast and irregularly. Weighted by
+    /// `|H|`, they bias a phase slope by tens to thousands of samples (a zero-delay linear
+    /// interpolator from 96 kHz to 44.1 kHz read 1705 samples); in the impulse response they
+    /// are chirps spread over seconds, far below its main lobe, which stays where it is.
     fn find_latency(&self, b: usize) -> Result<f64> {
         let a = self.first;
         if b <= a + 8 {
@@ -190,30 +201,72 @@ impl Transfer {
         } else {
             idx as f64
         };
-        // Fine delay: the weighted mean group delay of the residual after removing the
-        // coarse delay, from the phase step between neighbouring bins. Each step is weighted
-        // by the smaller |H|^2 of its two bins, so the sign flips at nulls (phase steps of pi
-        // where |H| is near zero) count for nothing.
-        let rate = f64::from(self.out_rate);
-        let two_pi = 2.0 * core::f64::consts::PI;
-        let dw = two_pi * self.bin_hz / rate;
-        let rot = |j: usize| {
-            let w = two_pi * j as f64 * self.bin_hz / rate;
-            self.h[j] * Complex::from_polar(1.0, w * coarse)
+        // |ir(t)| at a fractional lag t: Re sum_j c_j e^{j 2 pi j t / nb} (the factors that
+        // do not depend on t dropped), the phasor advanced by rotation and renormalised.
+        let band = &c[a..=b];
+        let nb = self.nb as f64;
+        let at = |t: f64| {
+            let w = 2.0 * core::f64::consts::PI * t / nb;
+            let step = Complex::from_polar(1.0, w);
+            let mut rot = Complex::from_polar(1.0, w * a as f64);
+            let mut acc = 0.0;
+            for (i, cj) in band.iter().enumerate() {
+                acc += cj.re * rot.re - cj.im * rot.im;
+                rot *= step;
+                if i % 1024 == 1023 {
+                    rot /= rot.norm();
+                }
+            }
+            acc.abs()
         };
-        let (mut num, mut den) = (0.0, 0.0);
-        let mut prev = rot(a);
-        for j in a + 1..=b {
-            let cur = rot(j);
-            let weight = prev.norm_sqr().min(cur.norm_sqr());
-            // arg(cur / prev) is the phase step, wrapped to (-pi, pi].
-            let step = (cur * prev.conj()).arg();
-            num += weight * step;
-            den += weight * dw;
-            prev = cur;
+        // Golden-section search for the maximum within a sample of the grid's peak.
+        let g = 0.5 * (5f64.sqrt() - 1.0);
+        let (mut lo, mut hi) = (coarse - 1.0, coarse + 1.0);
+        let mut x1 = hi - g * (hi - lo);
+        let mut x2 = lo + g * (hi - lo);
+        let (mut f1, mut f2) = (at(x1), at(x2));
+        while hi - lo > 1e-9 {
+            if f1 < f2 {
+                lo = x1;
+                x1 = x2;
+                f1 = f2;
+                x2 = lo + g * (hi - lo);
+                f2 = at(x2);
+            } else {
+                hi = x2;
+                x2 = x1;
+                f2 = f1;
+                x1 = hi - g * (hi - lo);
+                f1 = at(x1);
+            }
         }
-        let slope = if den > 0.0 { num / den } else { 0.0 };
-        Ok(coarse - slope)
+        let peak_t = 0.5 * (lo + hi);
+        let half = 0.5 * at(peak_t);
+        // Walk out a sample at a time until below half the peak, then bisect the crossing.
+        let limit = (self.nb / 4) as f64;
+        let crossing = |dir: f64| {
+            let mut inside = peak_t;
+            let mut k = 1.0;
+            let mut outside = peak_t + dir;
+            while at(outside) >= half {
+                if k >= limit {
+                    return outside;
+                }
+                inside = outside;
+                k += 1.0;
+                outside = peak_t + dir * k;
+            }
+            for _ in 0..48 {
+                let mid = 0.5 * (inside + outside);
+                if at(mid) >= half {
+                    inside = mid;
+                } else {
+                    outside = mid;
+                }
+            }
+            0.5 * (inside + outside)
+        };
+        Ok(0.5 * (crossing(-1.0) + crossing(1.0)))
     }
 
     /// Latency in output samples (positive: the output lags the input).
@@ -310,6 +363,20 @@ impl Transfer {
         y.truncate(len);
         Ok(y)
     }
+}
+
+/// `y` (sampled at `rate`) with everything below `cut_hz` removed by a brick wall on its
+/// whole-signal spectrum, as long as `y`.
+pub(crate) fn above_cut(y: &[f64], rate: u32, cut_hz: f64) -> Result<Vec<f64>> {
+    let n = smooth_size(y.len() + y.len() / 10 + 16);
+    let mut spec = spectrum(y, n)?;
+    let cut = (cut_hz / (f64::from(rate) / n as f64)).ceil() as usize;
+    for c in spec.iter_mut().take(cut) {
+        *c = Complex::new(0.0, 0.0);
+    }
+    let mut out = inverse(&spec, n)?;
+    out.truncate(y.len());
+    Ok(out)
 }
 
 #[cfg(test)]

@@ -32,3 +32,21 @@ pub const PAIRS: [(u32, u32); 8] = [
     (16_000, 48_000),
     (48_000, 48_000),
 ];
+
+/// The modified Bessel function of the first kind, order 0, by its power series
+/// `sum_k ((x/2)^k / k!)^2` (Abramowitz and Stegun 9.6.12, from memory), written here apart
+/// from the crate's own so that reference windows do not reuse the code under test.
+#[allow(dead_code)]
+pub fn bessel_i0(x: f64) -> f64 {
+    let half = x / 2.0;
+    let (mut term, mut sum) = (1.0_f64, 1.0_f64);
+    for k in 1..500 {
+        let r = half / f64::from(k);
+        term *= r * r;
+        sum += term;
+        if term < sum * 1e-17 {
+            break;
+        }
+    }
+    sum
+}
