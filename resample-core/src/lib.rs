@@ -65,14 +65,15 @@
 //! ## Streaming (a live audio callback)
 //!
 //! Everything that allocates or takes time happens once, outside the audio callback: the
-//! design (it measures its own prototype: milliseconds to a second for long filters), the
+//! design (it measures its own prototype, which takes longer the longer the filter), the
 //! converter (it allocates its tap table, history and scratch) and the buffers, sized with
 //! [`StreamConverter::max_output_frames`] for the largest chunk the host will ever pass.
 //! Inside the callback only `process_interleaved` / `process_planar` run: they do not
 //! allocate, lock or panic, and with that much room each call reads its whole chunk.
-//! The number of frames out varies from call to call (it is 0 until the filter's look-ahead,
-//! [`StreamConverter::latency_input_frames`], has arrived, and then goes up and down by one
-//! with the ratio), so a device with a fixed output size takes it through a FIFO. At the end
+//! The number of frames out varies from call to call: none until the filter's look-ahead
+//! ([`StreamConverter::latency_input_frames`]) has arrived, then about `chunk × L / M`, one
+//! more or less; a device that wants a fixed number of frames per callback takes them
+//! through a FIFO (or asks [`StreamConverter::input_frames_for_output`] how much to feed). At the end
 //! of the stream, `flush_*` until it returns 0 delivers the tail; `reset` starts a new
 //! stream with the same converter without allocating.
 //!
