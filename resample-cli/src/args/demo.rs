@@ -8,7 +8,7 @@ use clap::Args;
 #[derive(Debug, Args)]
 pub struct DemoArgs {
     /// Folder for the demo files (created if missing). Only the demo's own files
-    /// (demo-jingle-*.wav) in it are written or replaced.
+    /// (demo-jingle-*.wav) in it are written, replaced or removed.
     #[arg(short = 'o', long = "output", default_value = "rerate-demo")]
     pub output: PathBuf,
     /// Print the reports as JSON lines.

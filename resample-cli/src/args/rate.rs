@@ -27,6 +27,18 @@ pub fn parse_rate(text: &str) -> Result<u32, String> {
     }
     let rounded = hz.round();
     if (hz - rounded).abs() > 1e-6 {
+        // "44.1" for 44.1 kHz: a rate in kHz written without its unit.
+        let khz = hz * 1000.0;
+        if scale == 1.0
+            && (khz - khz.round()).abs() < 1e-6
+            && khz <= f64::from(resample_core::MAX_RATE)
+        {
+            return Err(format!(
+                "'{text}' is not a whole number of Hz; for {} Hz write {}k",
+                khz.round(),
+                num
+            ));
+        }
         return Err(format!("'{text}' is not a whole number of Hz"));
     }
     Ok(rounded as u32)
@@ -45,6 +57,16 @@ mod tests {
         assert_eq!(parse_rate("44.1 KHZ"), Ok(44_100));
         assert_eq!(parse_rate("22.05k"), Ok(22_050));
         assert_eq!(parse_rate("8000Hz"), Ok(8_000));
+    }
+
+    #[test]
+    fn kilohertz_without_the_unit_gets_a_suggestion() {
+        let e = parse_rate("44.1").unwrap_err();
+        assert!(e.contains("for 44100 Hz write 44.1k"), "{e}");
+        let e = parse_rate("22.05").unwrap_err();
+        assert!(e.contains("write 22.05k"), "{e}");
+        let e = parse_rate("44.1001k").unwrap_err();
+        assert!(!e.contains("write"), "{e}");
     }
 
     #[test]

@@ -33,6 +33,12 @@ pub struct Plan {
     pub inputs: HashSet<FileId>,
     /// More than one input, or a folder: `-o` names a folder.
     pub is_batch: bool,
+    /// Files found but not taken as inputs because this run writes them: without `-o`,
+    /// `NAME-RATE.wav` beside a `NAME.wav` of the batch is that file's output (a second
+    /// run must not convert its own outputs again).
+    pub excluded: usize,
+    /// Folders given without `--recursive` that have sub-folders (not searched).
+    pub unsearched: Vec<PathBuf>,
 }
 
 /// A command-line mistake (exit code 2).
@@ -55,13 +61,17 @@ pub fn plan(
     }
     let mut found: Vec<(PathBuf, PathBuf)> = Vec::new(); // (input, rel)
     let mut any_dir = false;
+    let mut unsearched = Vec::new();
     for inp in inputs {
         let meta = std::fs::metadata(inp)
             .map_err(|e| PlanError(format!("{}: {}", inp.display(), describe_io(&e))))?;
         if meta.is_dir() {
             any_dir = true;
-            let files = crate::io::walk::wav_files(inp, recursive)
+            let (files, subdirs) = crate::io::walk::wav_files_counting(inp, recursive)
                 .map_err(|e| PlanError(format!("{}: {}", inp.display(), describe_io(&e))))?;
+            if subdirs > 0 {
+                unsearched.push(inp.clone());
+            }
             if files.is_empty() {
                 return Err(PlanError(format!(
                     "{}: no .wav files found{}",
@@ -91,6 +101,20 @@ pub fn plan(
             )));
         }
     }
+    // Without -o, outputs go beside their inputs: a file that is the output this run would
+    // write for another input of the batch (left by an earlier run) is not an input.
+    let mut excluded = 0;
+    if output.is_none() {
+        let own: HashSet<FileId> = found
+            .iter()
+            .filter_map(|(inp, _)| file_id(&default_output_name(inp, out_rate)))
+            .collect();
+        if !own.is_empty() {
+            let before = found.len();
+            found.retain(|(inp, _)| file_id(inp).is_none_or(|id| !own.contains(&id)));
+            excluded = before - found.len();
+        }
+    }
     let mut ids = HashSet::new();
     for (inp, _) in &found {
         if let Some(id) = file_id(inp) {
@@ -102,7 +126,7 @@ pub fn plan(
         .map(|(input, rel)| {
             let output = match output {
                 Some(out) if is_batch => out.join(&rel),
-                Some(out) if out.is_dir() => out.join(&rel),
+                Some(out) if out.is_dir() || names_folder(out) => out.join(&rel),
                 Some(out) => out.to_path_buf(),
                 None => default_output_name(&input, out_rate),
             };
@@ -127,7 +151,67 @@ pub fn plan(
         tasks,
         inputs: ids,
         is_batch,
+        excluded,
+        unsearched,
     })
+}
+
+/// Whether `-o` was written as a folder (`new/`), so that a missing one is created rather
+/// than taken as a file name.
+fn names_folder(out: &Path) -> bool {
+    let text = out.as_os_str().to_string_lossy();
+    text.ends_with('/') || text.ends_with(std::path::MAIN_SEPARATOR)
+}
+
+/// The folders the batch writes into that do not exist yet, outermost first; made before
+/// any work ([`create_folders`]).
+pub fn missing_folders(tasks: &[Task]) -> Vec<PathBuf> {
+    let mut dirs: Vec<PathBuf> = tasks
+        .iter()
+        .filter_map(|t| t.output.parent())
+        .filter(|p| !p.as_os_str().is_empty() && !p.is_dir())
+        .map(Path::to_path_buf)
+        .collect();
+    dirs.sort();
+    dirs.dedup();
+    dirs
+}
+
+/// Create each folder (and its parents). The error names the first folder that could not be
+/// made and gives the system's reason.
+pub fn create_folders(dirs: &[PathBuf]) -> Result<(), PlanError> {
+    for dir in dirs {
+        if let Err(e) = std::fs::create_dir_all(dir) {
+            // Name the level that failed, not only the leaf asked for.
+            let mut failed = dir.as_path();
+            while let Some(parent) = failed.parent() {
+                if parent.as_os_str().is_empty() || parent.exists() {
+                    break;
+                }
+                failed = parent;
+            }
+            let reason = strip_os_code(&e);
+            return Err(PlanError(if failed == dir.as_path() {
+                format!("cannot create folder {}: {reason}", dir.display())
+            } else {
+                format!(
+                    "cannot create folder {} (for {}): {reason}",
+                    failed.display(),
+                    dir.display()
+                )
+            }));
+        }
+    }
+    Ok(())
+}
+
+/// The system's message without its "(os error N)" tail.
+fn strip_os_code(e: &std::io::Error) -> String {
+    let s = e.to_string();
+    match s.find(" (os error") {
+        Some(i) => s[..i].to_string(),
+        None => s,
+    }
 }
 
 fn describe_io(e: &std::io::Error) -> String {

@@ -14,16 +14,61 @@ use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use rayon::prelude::*;
 use serde_json::json;
 
-use crate::args::check_filter;
 use crate::args::convert::ConvertArgs;
+use crate::args::{check_filter, DitherArg};
 use crate::exit::{Status, UsageError};
 use crate::io::signals::{self, CANCEL};
 
 /// How one task ended.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
 enum Outcome {
     Converted,
     Skipped,
     Failed,
+    /// Stopped by a signal while being converted (its unfinished output was removed).
+    Interrupted,
+    /// Never started: a signal arrived first.
+    NotStarted,
+    /// Failed because samples were limited and `--refuse-clipping` was given.
+    Clipped,
+}
+
+impl Outcome {
+    /// The `status` of its JSON record.
+    fn status(self) -> &'static str {
+        match self {
+            Self::Converted => "converted",
+            Self::Skipped => "skipped",
+            Self::Failed | Self::Clipped => "failed",
+            Self::Interrupted => "interrupted",
+            Self::NotStarted => "not started",
+        }
+    }
+}
+
+/// Whether an error is clipping refused by `--refuse-clipping`.
+fn is_clipping(e: &anyhow::Error) -> bool {
+    e.chain().any(|c| {
+        matches!(
+            c.downcast_ref::<crate::convert::ConvertError>(),
+            Some(crate::convert::ConvertError::Clipped { .. })
+        )
+    })
+}
+
+/// Whether an error is the interruption of a conversion under way.
+fn is_interruption(e: &anyhow::Error) -> bool {
+    e.chain().any(|c| {
+        matches!(
+            c.downcast_ref::<crate::error::FileError>(),
+            Some(crate::error::FileError::Interrupted)
+        ) || matches!(
+            c.downcast_ref::<crate::convert::ConvertError>(),
+            Some(crate::convert::ConvertError::File(
+                crate::error::FileError::Interrupted
+            ))
+        )
+    })
 }
 
 /// Run `rerate convert`.
@@ -38,10 +83,11 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
         stopband_db: args.stopband_db,
         passband: args.passband,
         encoding,
-        dither: args.dither.dither(),
+        dither: args.dither.unwrap_or(DitherArg::Tpdf).dither(),
         gain_db: args.gain,
         sanitize: args.sanitize,
         force: args.force,
+        refuse_clipping: args.refuse_clipping,
         pipeline: false,
     };
     if !args.gain.is_finite() {
@@ -49,6 +95,13 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
     }
     // Check the filter parameters once, up front, rather than once per file.
     check_filter(args.stopband_db, args.passband)?;
+    if args.dither == Some(DitherArg::Tpdf) && (args.float || args.bits == Some(32)) {
+        eprintln!(
+            "rerate: note: --dither tpdf does not apply to {} output (it is not requantized, \
+             so nothing is dithered)",
+            if args.float { "float" } else { "32-bit" }
+        );
+    }
     let plan = match batch::plan(
         &args.inputs,
         args.output.as_deref(),
@@ -62,12 +115,31 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
         tasks,
         inputs,
         is_batch,
+        excluded,
+        unsearched,
     } = plan;
+    if excluded > 0 {
+        eprintln!(
+            "rerate: {excluded} file{} not taken as input: this run's own output{} \
+             (NAME-{}.wav beside NAME.wav)",
+            if excluded == 1 { "" } else { "s" },
+            if excluded == 1 { "" } else { "s" },
+            batch::rate_label(args.out_rate),
+        );
+    }
+    for dir in &unsearched {
+        eprintln!(
+            "rerate: {}: sub-folders not searched (add -r to include them)",
+            dir.display()
+        );
+    }
     let total_found = tasks.len();
     let tasks = match args.shard {
         Some(s) => s.select(tasks),
         None => tasks,
     };
+    // Output folders are made before any work; one that cannot be made stops the run.
+    batch::create_folders(&batch::missing_folders(&tasks))?;
     signals::install();
     let jobs = args
         .jobs
@@ -86,7 +158,7 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
         .filter_map(|t| std::fs::metadata(&t.input).ok())
         .map(|m| m.len())
         .sum();
-    let bar = Bar::new(total_bytes);
+    let bar = Bar::new(total_bytes, tasks.len());
     let designs = DesignCache::new();
     let out = Mutex::new(std::io::stdout());
     let emit = |line: String| {
@@ -96,14 +168,23 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
             }
         });
     };
-    let failed = AtomicUsize::new(0);
     let outcomes: Vec<Outcome> = pool.install(|| {
         tasks
             .par_iter()
             .map(|task| {
+                if CANCEL.load(Ordering::Relaxed) {
+                    if args.json {
+                        emit(record(task, Outcome::NotStarted, None));
+                    }
+                    return Outcome::NotStarted;
+                }
                 let r = one(task, &inputs, &settings, args, &designs, &bar);
+                bar.file_done();
                 match r {
                     Ok(Some(report)) => {
+                        if let Some(w) = report.limit_warning() {
+                            bar.bar.suspend(|| eprintln!("rerate: warning: {w}"));
+                        }
                         emit(if args.json {
                             report.json().to_string()
                         } else {
@@ -112,51 +193,61 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
                         Outcome::Converted
                     }
                     Ok(None) => {
-                        emit(if args.json {
-                            json!({"status": "skipped", "input": task.input.display().to_string(),
-                                   "output": task.output.display().to_string(),
-                                   "reason": "output exists"})
-                            .to_string()
-                        } else {
-                            format!(
-                                "{} -> {}: skipped (output exists)",
-                                task.input.display(),
-                                task.output.display()
-                            )
-                        });
+                        // Text: one summary line for all of them (a resume can skip
+                        // thousands); JSON: a record each.
+                        if args.json {
+                            emit(record(
+                                task,
+                                Outcome::Skipped,
+                                Some(("reason", "output exists")),
+                            ));
+                        }
                         Outcome::Skipped
                     }
+                    Err(e) if is_interruption(&e) => {
+                        if args.json {
+                            emit(record(task, Outcome::Interrupted, None));
+                        }
+                        Outcome::Interrupted
+                    }
                     Err(e) => {
-                        failed.fetch_add(1, Ordering::Relaxed);
                         let msg = format!("{}: {e}", task.input.display());
                         bar.bar.suspend(|| eprintln!("rerate: {msg}"));
                         if args.json {
-                            emit(
-                                json!({"status": "failed", "input": task.input.display().to_string(),
-                                       "output": task.output.display().to_string(),
-                                       "error": e.to_string()})
-                                .to_string(),
-                            );
+                            emit(record(
+                                task,
+                                Outcome::Failed,
+                                Some(("error", &e.to_string())),
+                            ));
                         }
-                        Outcome::Failed
+                        if is_clipping(&e) {
+                            Outcome::Clipped
+                        } else {
+                            Outcome::Failed
+                        }
                     }
                 }
             })
             .collect()
     });
     bar.bar.finish_and_clear();
-    let count = |f: fn(&Outcome) -> bool| outcomes.iter().filter(|o| f(o)).count();
-    let converted = count(|o| matches!(o, Outcome::Converted));
-    let skipped = count(|o| matches!(o, Outcome::Skipped));
-    let n_failed = count(|o| matches!(o, Outcome::Failed));
+    let count = |want: Outcome| outcomes.iter().filter(|&&o| o == want).count();
+    let converted = count(Outcome::Converted);
+    let skipped = count(Outcome::Skipped);
+    let n_clipped = count(Outcome::Clipped);
+    let n_failed = count(Outcome::Failed) + n_clipped;
+    let n_interrupted = count(Outcome::Interrupted);
+    let not_started = count(Outcome::NotStarted);
     let interrupted = CANCEL.load(Ordering::SeqCst);
     if args.json {
         emit(
             json!({"summary": {
                 "converted": converted, "skipped": skipped, "failed": n_failed,
+                "interrupted": n_interrupted, "not_started": not_started,
                 "selected": tasks.len(), "found": total_found,
+                "excluded_own_outputs": excluded,
                 "shard": args.shard.map(|s| format!("{}/{}", s.index, s.count)),
-                "interrupted": interrupted,
+                "stopped_by_signal": interrupted,
             }})
             .to_string(),
         );
@@ -165,20 +256,42 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
             .shard
             .map(|s| format!(", shard {}/{} of {total_found} files", s.index, s.count))
             .unwrap_or_default();
-        emit(format!(
-            "{converted} converted, {skipped} skipped, {n_failed} failed ({} selected{shard})",
-            tasks.len()
-        ));
+        let mut line = format!("{converted} converted, {skipped} skipped, {n_failed} failed");
+        if interrupted {
+            line.push_str(&format!(
+                ", {n_interrupted} interrupted, {not_started} not started"
+            ));
+        }
+        emit(format!("{line} ({} selected{shard})", tasks.len()));
+    }
+    if interrupted {
+        eprintln!(
+            "rerate: interrupted: {converted} converted, {n_interrupted} stopped under way \
+             (unfinished outputs removed), {not_started} not started; run again with \
+             --skip-existing to finish"
+        );
     }
     Ok(if interrupted {
         Status::Interrupted
     } else if n_failed == 0 {
         Status::Success
-    } else if is_batch {
+    } else if is_batch || n_failed == n_clipped {
+        // Clipping refused by --refuse-clipping is a failed check, like a batch's failures.
         Status::CheckFailed
     } else {
         Status::Failed
     })
+}
+
+/// The JSON record of a task that was not converted, with one more field.
+fn record(task: &Task, outcome: Outcome, extra: Option<(&str, &str)>) -> String {
+    let mut v = json!({"status": outcome.status(),
+                       "input": task.input.display().to_string(),
+                       "output": task.output.display().to_string()});
+    if let (Some((k, x)), Some(map)) = (extra, v.as_object_mut()) {
+        map.insert(k.to_string(), json!(x));
+    }
+    v.to_string()
 }
 
 /// Convert one task; `Ok(None)` when skipped.
@@ -190,9 +303,6 @@ fn one(
     designs: &DesignCache,
     bar: &Bar,
 ) -> Result<Option<crate::convert::FileReport>, anyhow::Error> {
-    if CANCEL.load(Ordering::Relaxed) {
-        return Err(crate::error::FileError::Interrupted.into());
-    }
     if let Some(id) = file_id(&task.output) {
         if inputs.contains(&id) {
             return Err(crate::error::FileError::IsInput(task.output.display().to_string()).into());
@@ -202,12 +312,6 @@ fn one(
         }
         if !args.force {
             return Err(crate::error::FileError::Exists(task.output.display().to_string()).into());
-        }
-    }
-    if let Some(parent) = task.output.parent() {
-        if !parent.as_os_str().is_empty() {
-            std::fs::create_dir_all(parent)
-                .with_context(|| format!("cannot create folder {}", parent.display()))?;
         }
     }
     let progress = |bytes: u64| bar.inc(bytes);
@@ -225,28 +329,51 @@ fn one(
 }
 
 /// A progress bar on stderr, shown only when stderr is a terminal and the work has already
-/// taken more than a second.
+/// taken more than a second: bytes of input read, and for a batch the files done.
 struct Bar {
     bar: ProgressBar,
     start: Instant,
     shown: AtomicBool,
     terminal: bool,
+    /// Files finished (any outcome) and the batch's size; size 1: no file count shown.
+    files_done: AtomicUsize,
+    files: usize,
 }
 
 impl Bar {
-    fn new(total: u64) -> Self {
+    fn new(total: u64, files: usize) -> Self {
         let bar = ProgressBar::with_draw_target(Some(total), ProgressDrawTarget::hidden());
-        if let Ok(style) = ProgressStyle::with_template(
-            "{spinner} [{elapsed_precise}] {wide_bar} {bytes}/{total_bytes} ({eta} left)",
-        ) {
+        let template = if files > 1 {
+            "{spinner} [{elapsed_precise}] {wide_bar} {msg}, {bytes}/{total_bytes} ({eta} left)"
+        } else {
+            "{spinner} [{elapsed_precise}] {wide_bar} {bytes}/{total_bytes} ({eta} left)"
+        };
+        if let Ok(style) = ProgressStyle::with_template(template) {
             bar.set_style(style);
         }
-        Self {
+        let b = Self {
             bar,
             start: Instant::now(),
             shown: AtomicBool::new(false),
             terminal: std::io::stderr().is_terminal(),
+            files_done: AtomicUsize::new(0),
+            files,
+        };
+        b.set_files(0);
+        b
+    }
+
+    fn set_files(&self, done: usize) {
+        if self.files > 1 {
+            self.bar.set_message(format!("{done}/{} files", self.files));
         }
+    }
+
+    /// One more file finished.
+    fn file_done(&self) {
+        let done = self.files_done.fetch_add(1, Ordering::Relaxed) + 1;
+        self.set_files(done);
+        self.inc(0);
     }
 
     fn inc(&self, bytes: u64) {

@@ -17,6 +17,13 @@ pub fn run(args: &DemoArgs) -> Result<Status> {
     let dir = &args.output;
     std::fs::create_dir_all(dir).with_context(|| format!("cannot create {}", dir.display()))?;
     let source = dir.join("demo-jingle-44.1k.wav");
+    // The output of the command the demo suggests at the end, left by an earlier run: gone,
+    // so that the suggestion works as printed again.
+    let suggested = dir.join("demo-jingle-44.1k-96k.wav");
+    if suggested.is_file() {
+        std::fs::remove_file(&suggested)
+            .with_context(|| format!("cannot replace {}", suggested.display()))?;
+    }
     let mut opts = WriterOptions::new(JINGLE_RATE, 2, Encoding::Int(24));
     opts.force = true;
     let mut w = WavWriter::create(&source, &opts)
@@ -56,10 +63,27 @@ pub fn run(args: &DemoArgs) -> Result<Status> {
         }
     }
     if !args.json {
+        // A command that works as printed, from the folder the demo ran in.
         println!(
-            "demo: next, convert your own files: rerate convert IN.wav --out-rate 48k \
-             (see rerate convert --help)"
+            "demo: next, try: rerate convert {} --out-rate 96k --float   \
+             (writes {}; rerate convert --help for more)",
+            shell_word(&source.display().to_string()),
+            shell_word(&suggested.display().to_string()),
         );
     }
     Ok(Status::Success)
+}
+
+/// `word` as one word for a POSIX shell: as it is when it has no special characters, else in
+/// single quotes.
+fn shell_word(word: &str) -> String {
+    let plain = !word.is_empty()
+        && word
+            .chars()
+            .all(|c| c.is_ascii_alphanumeric() || "._/-+=:,@".contains(c));
+    if plain {
+        word.to_string()
+    } else {
+        format!("'{}'", word.replace('\'', "'\\''"))
+    }
 }

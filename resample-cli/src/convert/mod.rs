@@ -13,7 +13,7 @@ use std::time::Instant;
 
 use resample_core::{Design, Sample, StreamConverter};
 
-pub use crate::report::file::FileReport;
+pub use crate::report::file::{FileReport, Overs};
 pub use cache::DesignCache;
 pub use memory::run_engine;
 
@@ -45,6 +45,9 @@ pub struct Settings {
     pub sanitize: bool,
     /// Replace an existing output file.
     pub force: bool,
+    /// Integer output with samples over full scale (limited) is an error: the output is
+    /// not kept.
+    pub refuse_clipping: bool,
     /// Read and decode, and requantize and write, on two helper threads, and convert
     /// segments of the file side by side on rayon's pool (for a file converted while cores
     /// are free). The output is the same either way.
@@ -64,6 +67,7 @@ impl Settings {
             gain_db: 0.0,
             sanitize: false,
             force: false,
+            refuse_clipping: false,
             pipeline: true,
         }
     }
@@ -82,6 +86,22 @@ pub enum ConvertError {
     /// The filter could not be designed or the converter built.
     #[error("cannot convert: {0}")]
     Core(#[from] resample_core::Error),
+    /// Samples over full scale were limited and `refuse_clipping` was set (the output was
+    /// not kept).
+    #[error(
+        "{over} samples over full scale (peak {peak} dBFS before limiting); {headroom} dB of \
+         headroom needed: --gain {gain}; output not kept (--refuse-clipping)"
+    )]
+    Clipped {
+        /// Samples limited.
+        over: u64,
+        /// Peak before limiting, dBFS, as printed.
+        peak: String,
+        /// Headroom needed, dB, as printed.
+        headroom: String,
+        /// Gain that avoids it, dB, as printed.
+        gain: String,
+    },
     /// The engine produced a different number of frames than promised (a bug).
     #[error("internal error: wrote {written} frames, expected {expected}")]
     Length {
@@ -169,8 +189,21 @@ pub fn convert_file(
             expected: frames_out,
         });
     }
-    let dithered = writer.dithers();
+    let stats = writer.stats();
+    if settings.refuse_clipping && stats.clipped > 0 {
+        // Dropping the writer removes the unfinished output.
+        drop(writer);
+        let over = Overs::new(&stats, settings.gain_db);
+        return Err(ConvertError::Clipped {
+            over: stats.clipped,
+            peak: crate::report::format::fmt_db(stats.peak_dbfs()),
+            headroom: over.headroom,
+            gain: over.gain,
+        });
+    }
     let levels = writer.finish()?;
+    // Dither is claimed only when some sample got it (not for silence).
+    let dithered = levels.dithered > 0;
     let r = design.report();
     Ok(FileReport {
         input: input.to_path_buf(),
@@ -190,6 +223,7 @@ pub fn convert_file(
         taps_per_phase: r.taps_per_phase,
         precision,
         dithered,
+        dither_asked: settings.dither == Dither::Tpdf,
         gain_db: settings.gain_db,
         sanitized: reader.sanitized(),
         levels,

@@ -14,6 +14,13 @@ pub fn is_wav_name(name: &str) -> bool {
 
 /// The WAV files under `dir`, as paths relative to it (not sorted).
 pub fn wav_files(dir: &Path, recursive: bool) -> io::Result<Vec<PathBuf>> {
+    wav_files_counting(dir, recursive).map(|(files, _)| files)
+}
+
+/// [`wav_files`], and the number of sub-folders not descended into (without `recursive`;
+/// hidden ones not counted).
+pub fn wav_files_counting(dir: &Path, recursive: bool) -> io::Result<(Vec<PathBuf>, usize)> {
+    let mut skipped = 0;
     let mut out = Vec::new();
     let mut stack = vec![PathBuf::new()];
     while let Some(rel) = stack.pop() {
@@ -23,15 +30,19 @@ pub fn wav_files(dir: &Path, recursive: bool) -> io::Result<Vec<PathBuf>> {
             let name_s = name.to_string_lossy();
             let ty = fs::metadata(entry.path())?; // follows symlinks
             if ty.is_dir() {
-                if recursive && !name_s.starts_with('.') {
-                    stack.push(rel.join(&name));
+                if !name_s.starts_with('.') {
+                    if recursive {
+                        stack.push(rel.join(&name));
+                    } else {
+                        skipped += 1;
+                    }
                 }
             } else if ty.is_file() && is_wav_name(&name_s) {
                 out.push(rel.join(&name));
             }
         }
     }
-    Ok(out)
+    Ok((out, skipped))
 }
 
 /// A file's identity (device and inode on Unix; the canonical path elsewhere), so that two

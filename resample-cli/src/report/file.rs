@@ -2,7 +2,7 @@
 
 use std::path::PathBuf;
 
-use super::format::fmt_db;
+use super::format::{fixed, fmt_db};
 use crate::audio::wav::{Encoding, LevelStats};
 use crate::quality::Precision;
 
@@ -41,8 +41,11 @@ pub struct FileReport {
     pub taps_per_phase: usize,
     /// Arithmetic precision.
     pub precision: Precision,
-    /// Whether TPDF dither was added.
+    /// Whether TPDF dither was added (to at least one sample).
     pub dithered: bool,
+    /// Whether dither was asked for (it applies to integer output of 24 bits or fewer, and
+    /// only to samples off the output's code grid).
+    pub dither_asked: bool,
     /// Gain applied, dB.
     pub gain_db: f64,
     /// Non-finite input samples replaced by 0.
@@ -62,56 +65,112 @@ impl FileReport {
     }
 }
 
+/// An encoding in few characters: "16-bit", "float".
+fn short(e: Encoding) -> String {
+    match e {
+        Encoding::Int(b) => format!("{b}-bit"),
+        Encoding::Float32 => "float".into(),
+    }
+}
+
+/// What samples over full scale call for, as printed: the headroom needed and the `--gain`
+/// that gives it (on top of the gain already applied).
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Overs {
+    /// Headroom needed, dB (one decimal).
+    pub headroom: String,
+    /// The `--gain` value that avoids the overs, dB (one decimal).
+    pub gain: String,
+}
+
+impl Overs {
+    /// From the level figures and the gain already applied.
+    pub fn new(levels: &LevelStats, gain_db: f64) -> Self {
+        let step = levels.suggested_gain_db().unwrap_or(0.0);
+        Self {
+            headroom: fixed(-step, 1),
+            gain: fixed(step + gain_db, 1),
+        }
+    }
+}
+
 impl FileReport {
-    /// The one-line report: in -> out, rates, frames, duration, speed, peak, clipped, and
-    /// how (stopband, precision, dither).
+    /// The report: the paths, then two lines of at most 80 columns for usual values: rates,
+    /// channels, format, duration and speed; then the peak (measured before any limiting)
+    /// and overs, and how (stopband, arithmetic, dither, gain).
     pub fn line(&self) -> String {
         let enc = if self.in_encoding == self.out_encoding {
-            self.out_encoding.to_string()
+            short(self.out_encoding)
         } else {
-            format!("{} -> {}", self.in_encoding, self.out_encoding)
+            format!(
+                "{} -> {}",
+                short(self.in_encoding),
+                short(self.out_encoding)
+            )
         };
-        let mut s = format!(
-            "{} -> {}: {} -> {} Hz, {} ch, {enc}, {} -> {} frames, {:.3} s, {:.1}x real time, \
-             peak {} dBFS",
-            self.input.display(),
-            self.output.display(),
+        let first = format!(
+            "  {} -> {} Hz, {} ch, {enc}, {:.3} s, {:.0}x real time",
             self.in_rate,
             self.out_rate,
             self.channels,
-            self.frames_in,
-            self.frames_out,
             self.seconds,
             self.speed(),
-            fmt_db(self.levels.peak_dbfs()),
         );
-        if self.out_encoding.is_float() {
-            s.push_str(&format!(", {} over 0 dBFS (kept: float)", self.levels.over));
-        } else {
-            s.push_str(&format!(", clipped {}", self.levels.clipped));
+        let mut second = format!("  peak {} dBFS", fmt_db(self.levels.peak_dbfs()));
+        if self.levels.clipped > 0 {
+            second.push_str(&format!(", {} limited", self.levels.clipped));
+        } else if self.levels.over > 0 {
+            second.push_str(&format!(", {} over 0 dBFS (kept)", self.levels.over));
         }
-        if let Some(g) = self.levels.suggested_gain_db() {
-            s.push_str(&format!(" (try --gain {:.1})", g + self.gain_db));
-        }
-        if self.sanitized > 0 {
-            s.push_str(&format!(", {} non-finite samples zeroed", self.sanitized));
-        }
-        s.push_str(&format!(
-            " [stopband {} dB, {} arithmetic, {}{}]",
+        second.push_str(&format!(
+            "; {} dB stopband, {}, {}",
             fmt_db(self.requested_stopband_db),
             self.precision,
-            if self.dithered {
-                "TPDF dither"
-            } else {
-                "no dither"
-            },
-            if self.gain_db != 0.0 {
-                format!(", gain {:+.2} dB", self.gain_db)
-            } else {
-                String::new()
-            }
+            self.dither_words(),
         ));
-        s
+        if self.gain_db != 0.0 {
+            second.push_str(&format!(", gain {} dB", self.gain_db));
+        }
+        if self.sanitized > 0 {
+            second.push_str(&format!(", {} non-finite zeroed", self.sanitized));
+        }
+        format!(
+            "{} -> {}\n{first}\n{second}",
+            self.input.display(),
+            self.output.display()
+        )
+    }
+
+    /// The dither actually used, in words.
+    fn dither_words(&self) -> &'static str {
+        if self.dithered {
+            "TPDF dither"
+        } else if self.levels.samples > 0
+            && self.levels.dithered == 0
+            && matches!(self.out_encoding, Encoding::Int(b) if b <= 24)
+            && self.dither_asked
+        {
+            "no dither needed"
+        } else {
+            "no dither"
+        }
+    }
+
+    /// The warning for stderr when samples over full scale were limited (integer output).
+    pub fn limit_warning(&self) -> Option<String> {
+        if self.levels.clipped == 0 {
+            return None;
+        }
+        let o = Overs::new(&self.levels, self.gain_db);
+        Some(format!(
+            "{}: {} samples over full scale, limited (peak {} dBFS, measured before \
+             limiting); {} dB of headroom needed: --gain {}",
+            self.output.display(),
+            self.levels.clipped,
+            fmt_db(self.levels.peak_dbfs()),
+            o.headroom,
+            o.gain
+        ))
     }
 
     /// The report as a JSON object (non-finite numbers become null).
@@ -149,6 +208,8 @@ impl FileReport {
             "taps_per_phase": self.taps_per_phase,
             "precision": self.precision.to_string(),
             "dither": if self.dithered { "tpdf" } else { "none" },
+            "dithered_samples": self.levels.dithered,
+            "peak_measured": "before limiting",
         })
     }
 }

@@ -3,10 +3,19 @@
 
 use serde_json::{json, Value};
 
-/// A dB figure: two decimals, or "inf" / "-inf" for an unbounded value.
+/// `v` with `decimals` decimals, never "-0.00": a value that rounds to zero prints as zero.
+pub fn fixed(v: f64, decimals: usize) -> String {
+    let s = format!("{v:.decimals$}");
+    match s.strip_prefix('-') {
+        Some(rest) if rest.chars().all(|c| c == '0' || c == '.') => rest.to_string(),
+        _ => s,
+    }
+}
+
+/// A dB figure: two decimals (never "-0.00"), or "inf" / "-inf" for an unbounded value.
 pub fn fmt_db(db: f64) -> String {
     if db.is_finite() {
-        format!("{db:.2}")
+        fixed(db, 2)
     } else if db < 0.0 {
         "-inf".into()
     } else {
@@ -48,5 +57,22 @@ pub fn num(v: f64) -> Value {
         json!(v)
     } else {
         Value::Null
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn no_negative_zero() {
+        assert_eq!(fixed(-0.0001, 3), "0.000");
+        assert_eq!(fixed(-0.0, 2), "0.00");
+        assert_eq!(fixed(-0.0006, 3), "-0.001");
+        assert_eq!(fixed(-2.5e-9, 0), "0");
+        assert_eq!(fmt_db(-0.001), "0.00");
+        assert_eq!(fmt_db(-3.0), "-3.00");
+        assert_eq!(small_db(-0.00001), "-1.00e-5");
+        assert_eq!(fmt_ripple(0.0), "0.00e0");
     }
 }

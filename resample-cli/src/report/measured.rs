@@ -3,7 +3,7 @@
 use resample_core::measure::Measurement;
 use serde_json::{json, Map, Value};
 
-use super::format::{hz, num, small_db};
+use super::format::{fixed, hz, num, small_db};
 
 /// The metrics every measuring command prints, under the agreed keys.
 pub fn metrics_json(m: &Measurement) -> Map<String, Value> {
@@ -62,8 +62,9 @@ pub fn metrics_text(m: &Measurement) -> String {
     line(
         "latency",
         format!(
-            "{:.3} output samples ({:.4} ms), by correlation",
-            m.latency_samples, m.latency_ms
+            "{} output samples ({} ms), by correlation",
+            fixed(m.latency_samples, 3),
+            fixed(m.latency_ms, 4)
         ),
     );
     s

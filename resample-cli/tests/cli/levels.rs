@@ -135,14 +135,18 @@ fn overs_are_clipped_counted_and_a_gain_suggested() {
     assert!(clipped > 100, "{v}");
     assert!(peak > 0.3 && peak < 2.0, "{v}");
     assert!(gain <= -(peak + 0.1) + 1e-9 && gain > -(peak + 0.3), "{v}");
-    // The text line says the same.
+    // The text report and the warning on stderr say the same.
     let o = rerate(
         d,
         &["convert", "sq.wav", "--out-rate", "44.1k", "-o", "t.wav"],
     );
     let line = out(&o);
-    assert!(line.contains(&format!("clipped {clipped}")), "{line}");
-    assert!(line.contains(&format!("try --gain {gain:.1}")), "{line}");
+    assert!(line.contains(&format!(", {clipped} limited;")), "{line}");
+    assert!(
+        err(&o).contains(&format!("--gain {gain:.1}")),
+        "{}",
+        err(&o)
+    );
     // Applying the suggestion: nothing clipped.
     let g = format!("{gain}");
     let o = rerate(

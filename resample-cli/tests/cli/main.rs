@@ -2,8 +2,10 @@
 //! always in fresh temporary folders (never the working folder); shared helpers in `util`.
 
 mod bad_input;
+mod batches;
 mod conformance;
 mod design_cli;
+mod first_use;
 mod formats;
 mod grade_convert;
 mod levels;

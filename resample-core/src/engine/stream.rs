@@ -198,6 +198,39 @@ impl<T: Sample> StreamConverter<T> {
         (ready as u64).saturating_sub(self.n_out)
     }
 
+    /// The most output frames one processing call can write when given `input_frames`
+    /// input frames, whatever came before: `ceil(input_frames L / M)`. Size the output
+    /// buffer with it, once, for the largest chunk the stream will ever pass.
+    ///
+    /// The guarantee: if every `process_*` call gets room for `max_output_frames` of its
+    /// input's length, every call reads all of its input and writes every output that input
+    /// made ready, so the converter never falls behind. Do not size the buffer from
+    /// [`StreamConverter::output_frames_for_input`] of the first chunk: that count is
+    /// smaller than later ones, because the first outputs wait for the filter's look-ahead
+    /// ([`StreamConverter::latency_input_frames`]).
+    ///
+    /// Why it holds: after `n` input frames, outputs `m` with `m M + half < n L` are ready,
+    /// `R(n) = max(0, ceil((n L - half) / M))` of them, and `R(n + k) - R(n) <= ceil(k L / M)`
+    /// because `ceil(a + b) <= ceil(a) + ceil(b)`. The bound is exact: in steady state, when
+    /// `n L - half` is a multiple of `M`, a call of `k` frames writes exactly
+    /// `ceil(k L / M)`. A call whose output buffer was filled may leave ready output behind,
+    /// and the next call then writes it first (up to the room it is given).
+    ///
+    /// ```
+    /// use resample_core::{FilterSpec, StreamConverter};
+    /// let design = FilterSpec::new(44_100, 48_000).design()?;
+    /// let conv = StreamConverter::<f32>::new(&design, 2)?;
+    /// // 512 frames at 44.1 kHz make at most ceil(512 * 160 / 147) = 558 frames at 48 kHz.
+    /// assert_eq!(conv.max_output_frames(512), 558);
+    /// // The first chunk makes far fewer (the filter's look-ahead), later ones up to 558.
+    /// assert!(conv.output_frames_for_input(512) < 558);
+    /// # Ok::<(), resample_core::Error>(())
+    /// ```
+    pub fn max_output_frames(&self, input_frames: usize) -> usize {
+        let n = self.pair.output_len(input_frames as u64);
+        usize::try_from(n).unwrap_or(usize::MAX)
+    }
+
     /// Smallest number of further input frames after which `output_frames` more output
     /// frames can be produced (before any flush).
     pub fn input_frames_for_output(&self, output_frames: u64) -> u64 {

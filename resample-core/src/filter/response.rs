@@ -493,7 +493,7 @@ mod tests {
     #[test]
     fn moving_average_has_published_response() {
         // Moving average of length N: |H(f)| = |sin(pi f N) / (N sin(pi f))| (Harris 1978,
-        // Dirichlet kernel; ../shared/CHECKS.md). Its first side lobe is near -13.26 dB
+        // Dirichlet kernel). Its first side lobe is near -13.26 dB
         // (rectangular window, Harris 1978 Table 1).
         let n = 64;
         let taps = vec![1.0 / n as f64; n];
@@ -508,7 +508,7 @@ mod tests {
 
     #[test]
     fn exact_evaluation_matches_dirichlet_formula() {
-        // |H(f)| = |sin(pi f N) / (N sin(pi f))| (Harris 1978; ../shared/CHECKS.md).
+        // |H(f)| = |sin(pi f N) / (N sin(pi f))| (Harris 1978, Dirichlet kernel).
         let n = 8;
         let taps = vec![1.0 / n as f64; n];
         let f = 1000.0 / 48_000.0;

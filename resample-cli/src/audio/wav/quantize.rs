@@ -19,6 +19,8 @@ pub struct LevelStats {
     pub clipped: u64,
     /// Samples seen.
     pub samples: u64,
+    /// Samples that got dither (those off the output's code grid; 0 for a silent file).
+    pub dithered: u64,
 }
 
 impl LevelStats {
@@ -87,7 +89,10 @@ impl Quantizer {
         // and word length) needs no requantization, so it gets no dither: silence stays
         // silent and same-format copies stay bit-exact.
         let d = match &mut self.dither {
-            Some(t) if v.fract() != 0.0 => t.next_lsb(),
+            Some(t) if v.fract() != 0.0 => {
+                self.stats.dithered += 1;
+                t.next_lsb()
+            }
             _ => 0.0,
         };
         (v + d).round().clamp(self.min, self.max) as i32
