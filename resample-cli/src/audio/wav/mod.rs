@@ -32,6 +32,7 @@ mod error;
 mod limits;
 mod quantize;
 mod reader;
+mod source;
 mod writeback;
 mod writer;
 
