@@ -33,6 +33,8 @@ pub struct Plan {
     pub inputs: HashSet<FileId>,
     /// More than one input, or a folder: `-o` names a folder.
     pub is_batch: bool,
+    /// What the walk left out and why (symbolic link loops), to be shown as warnings.
+    pub warnings: Vec<String>,
 }
 
 /// A command-line mistake (exit code 2).
@@ -55,12 +57,20 @@ pub fn plan(
     }
     let mut found: Vec<(PathBuf, PathBuf)> = Vec::new(); // (input, rel)
     let mut any_dir = false;
+    let mut warnings = Vec::new();
     for inp in inputs {
+        if let Some(e) = stream_input_problem(inp, inputs.len(), output) {
+            return Err(PlanError(e));
+        }
+        if inp.as_os_str() == "-" {
+            found.push((inp.clone(), inp.clone()));
+            continue;
+        }
         let meta = std::fs::metadata(inp)
             .map_err(|e| PlanError(format!("{}: {}", inp.display(), describe_io(&e))))?;
         if meta.is_dir() {
             any_dir = true;
-            let files = crate::io::walk::wav_files(inp, recursive)
+            let (files, warned) = crate::io::walk::wav_files(inp, recursive)
                 .map_err(|e| PlanError(format!("{}: {}", inp.display(), describe_io(&e))))?;
             if files.is_empty() {
                 return Err(PlanError(format!(
@@ -73,6 +83,7 @@ pub fn plan(
                     }
                 )));
             }
+            warnings.extend(warned);
             found.extend(files.into_iter().map(|rel| (inp.join(&rel), rel)));
         } else {
             let name = inp
@@ -127,7 +138,30 @@ pub fn plan(
         tasks,
         inputs: ids,
         is_batch,
+        warnings,
     })
+}
+
+/// Why a stream input (`-` for standard input, a pipe) cannot be planned as given: it
+/// has no name to put an output beside, and standard input is read once.
+fn stream_input_problem(inp: &Path, n_inputs: usize, output: Option<&Path>) -> Option<String> {
+    let kind = if inp.as_os_str() == "-" {
+        "standard input (-)"
+    } else if crate::io::special_kind(inp).ok()?? == "a pipe" {
+        "a pipe"
+    } else {
+        return None;
+    };
+    if inp.as_os_str() == "-" && n_inputs > 1 {
+        return Some(format!("{kind} can only be converted on its own"));
+    }
+    match output {
+        None => Some(format!(
+            "{}: {kind} has no folder to write beside; give the output file with -o",
+            inp.display()
+        )),
+        Some(_) => None,
+    }
 }
 
 fn describe_io(e: &std::io::Error) -> String {

@@ -1,9 +1,8 @@
 //! `rerate convert`: WAV files (one, several, or folders) to another sample rate, in
 //! parallel, safely, with a report line per file and a summary.
 
-use std::io::{IsTerminal, Write};
+use std::io::IsTerminal;
 use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
-use std::sync::Mutex;
 use std::time::{Duration, Instant};
 
 use crate::audio::wav::Encoding;
@@ -18,6 +17,7 @@ use crate::args::check_filter;
 use crate::args::convert::ConvertArgs;
 use crate::exit::{Status, UsageError};
 use crate::io::signals::{self, CANCEL};
+use crate::report::print;
 
 /// How one task ended.
 enum Outcome {
@@ -62,7 +62,11 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
         tasks,
         inputs,
         is_batch,
+        warnings,
     } = plan;
+    for w in warnings {
+        print::err_line(&format!("rerate: warning: {w}"));
+    }
     let total_found = tasks.len();
     let tasks = match args.shard {
         Some(s) => s.select(tasks),
@@ -88,14 +92,7 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
         .sum();
     let bar = Bar::new(total_bytes);
     let designs = DesignCache::new();
-    let out = Mutex::new(std::io::stdout());
-    let emit = |line: String| {
-        bar.bar.suspend(|| {
-            if let Ok(mut o) = out.lock() {
-                let _ = writeln!(o, "{line}");
-            }
-        });
-    };
+    let emit = |line: String| bar.bar.suspend(|| print::out_line(&line));
     let failed = AtomicUsize::new(0);
     let outcomes: Vec<Outcome> = pool.install(|| {
         tasks
@@ -129,7 +126,7 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
                     Err(e) => {
                         failed.fetch_add(1, Ordering::Relaxed);
                         let msg = format!("{}: {e}", task.input.display());
-                        bar.bar.suspend(|| eprintln!("rerate: {msg}"));
+                        bar.bar.suspend(|| print::err_line(&format!("rerate: {msg}")));
                         if args.json {
                             emit(
                                 json!({"status": "failed", "input": task.input.display().to_string(),
@@ -207,7 +204,7 @@ fn one(
     if let Some(parent) = task.output.parent() {
         if !parent.as_os_str().is_empty() {
             std::fs::create_dir_all(parent)
-                .with_context(|| format!("cannot create folder {}", parent.display()))?;
+                .map_err(|e| anyhow::anyhow!("cannot create folder {}: {e}", parent.display()))?;
         }
     }
     let progress = |bytes: u64| bar.inc(bytes);
@@ -215,13 +212,12 @@ fn one(
         cancel: &CANCEL,
         progress: &progress,
     };
-    Ok(Some(convert_file(
-        &task.input,
-        &task.output,
-        settings,
-        designs,
-        ctl,
-    )?))
+    match convert_file(&task.input, &task.output, settings, designs, ctl) {
+        Ok(report) => Ok(Some(report)),
+        // Another run (the same batch started twice) finished this output meanwhile.
+        Err(e) if args.skip_existing && e.is_exists() => Ok(None),
+        Err(e) => Err(e.into()),
+    }
 }
 
 /// A progress bar on stderr, shown only when stderr is a terminal and the work has already

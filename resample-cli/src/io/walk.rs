@@ -1,6 +1,7 @@
 //! Finding the WAV files in a folder (optionally its sub-folders), and telling files apart
 //! by identity rather than by name.
 
+use std::collections::HashSet;
 use std::fs;
 use std::io;
 use std::path::{Path, PathBuf};
@@ -12,18 +13,43 @@ pub fn is_wav_name(name: &str) -> bool {
     !name.starts_with('.') && (lower.ends_with(".wav") || lower.ends_with(".wave"))
 }
 
-/// The WAV files under `dir`, as paths relative to it (not sorted).
-pub fn wav_files(dir: &Path, recursive: bool) -> io::Result<Vec<PathBuf>> {
+/// The WAV files under `dir`, as paths relative to it (not sorted), and warnings about
+/// what was left out. Symbolic links are followed, but a folder already on the way (a link
+/// that loops back) is visited once, and a link that cannot be resolved (a loop of links)
+/// is skipped: each is a warning, not a reason to refuse the whole walk.
+pub fn wav_files(dir: &Path, recursive: bool) -> io::Result<(Vec<PathBuf>, Vec<String>)> {
     let mut out = Vec::new();
+    let mut warnings = Vec::new();
+    let mut seen: HashSet<FileId> = file_id(dir).into_iter().collect();
     let mut stack = vec![PathBuf::new()];
     while let Some(rel) = stack.pop() {
         for entry in fs::read_dir(dir.join(&rel))? {
             let entry = entry?;
             let name = entry.file_name();
             let name_s = name.to_string_lossy();
-            let ty = fs::metadata(entry.path())?; // follows symlinks
+            let ty = match fs::metadata(entry.path()) {
+                Ok(ty) => ty, // symbolic links followed
+                Err(e) if entry.file_type().is_ok_and(|t| t.is_symlink()) => {
+                    warnings.push(format!(
+                        "{}: skipped, a symbolic link that cannot be followed ({e})",
+                        entry.path().display()
+                    ));
+                    continue;
+                }
+                Err(e) => return Err(e),
+            };
             if ty.is_dir() {
                 if recursive && !name_s.starts_with('.') {
+                    if let Some(id) = file_id(&entry.path()) {
+                        if !seen.insert(id) {
+                            warnings.push(format!(
+                                "{}: skipped, a symbolic link loop (this folder is already \
+                                 part of the walk)",
+                                entry.path().display()
+                            ));
+                            continue;
+                        }
+                    }
                     stack.push(rel.join(&name));
                 }
             } else if ty.is_file() && is_wav_name(&name_s) {
@@ -31,7 +57,7 @@ pub fn wav_files(dir: &Path, recursive: bool) -> io::Result<Vec<PathBuf>> {
             }
         }
     }
-    Ok(out)
+    Ok((out, warnings))
 }
 
 /// A file's identity (device and inode on Unix; the canonical path elsewhere), so that two
