@@ -5,6 +5,7 @@
 use crate::audio::wav::{Encoding, WavWriter, WriterOptions};
 use crate::convert::{convert_file, Control, DesignCache, Settings};
 use crate::demo::{jingle, JINGLE_RATE};
+use crate::report::print::out_line;
 use anyhow::{Context, Result};
 
 use crate::args::demo::DemoArgs;
@@ -26,11 +27,11 @@ pub fn run(args: &DemoArgs) -> Result<Status> {
     w.finish()
         .with_context(|| format!("{}: cannot write", source.display()))?;
     if !args.json {
-        println!(
+        out_line(&format!(
             "demo: wrote {} (a 6 s jingle for a short video: tones, a chirp, a noise burst; \
              play it at a low level)",
             source.display()
-        );
+        ));
     }
     let designs = DesignCache::new();
     let no_progress = |_: u64| {};
@@ -50,15 +51,15 @@ pub fn run(args: &DemoArgs) -> Result<Status> {
         let report = convert_file(&source, &out, &s, &designs, ctl)
             .with_context(|| format!("{}", source.display()))?;
         if args.json {
-            println!("{}", report.json());
+            out_line(&report.json().to_string());
         } else {
-            println!("{}", report.line());
+            out_line(&report.line());
         }
     }
     if !args.json {
-        println!(
+        out_line(
             "demo: next, convert your own files: rerate convert IN.wav --out-rate 48k \
-             (see rerate convert --help)"
+             (see rerate convert --help)",
         );
     }
     Ok(Status::Success)

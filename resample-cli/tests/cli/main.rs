@@ -6,6 +6,7 @@ mod conformance;
 mod design_cli;
 mod formats;
 mod grade_convert;
+mod hostile;
 mod levels;
 mod measure_cli;
 mod safety;
