@@ -173,11 +173,8 @@ fn temp_name(target: &Path, n: u64, ext: Option<&str>) -> String {
 /// Refuse to replace anything but a regular file (a symbolic link is judged by what it
 /// names): `--force` must never turn a device, a pipe or a folder into a file.
 fn check_replaceable(target: &Path) -> Result<(), FileError> {
-    let kind = match crate::io::special_kind(target) {
-        Ok(kind) => kind,
-        // A dangling symbolic link: the link itself is replaced.
-        Err(_) => None,
-    };
+    // A dangling symbolic link (an error here): the link itself is replaced.
+    let kind = crate::io::special_kind(target).unwrap_or_default();
     match kind {
         None => Ok(()),
         Some(kind) => Err(FileError::NotRegular {

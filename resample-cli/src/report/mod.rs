@@ -2,7 +2,7 @@
 //! report ([`file`](mod@file)), the measured
 //! figures of `verify` and `grade` ([`measured`]), the pictures ([`plot`],
 //! [`tradeoff_plot`]), number formatting shared by all of them ([`format`](mod@format)),
-//! and printing lines that never panics on a closed pipe ([`print`]).
+//! and printing lines that never panics on a closed pipe ([`print`](mod@print)).
 
 pub mod design;
 pub mod file;

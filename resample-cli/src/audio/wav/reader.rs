@@ -527,7 +527,7 @@ mod tests {
             bytes_per_sample: bytes,
         };
         let mut w = hound::WavWriter::new_with_spec_ex(
-            std::io::BufWriter::new(File::create(path).unwrap()),
+            std::io::BufWriter::new(std::fs::File::create(path).unwrap()),
             ex,
         )
         .unwrap();
