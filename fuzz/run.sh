@@ -1,13 +1,22 @@
 #!/usr/bin/env bash
-# Fuzz rerate's WAV read path. Usage: fuzz/run.sh [SECONDS] (default 600).
-# Needs cargo-fuzz (`cargo install cargo-fuzz`). On a stable toolchain, RUSTC_BOOTSTRAP=1
-# lets cargo-fuzz use the sanitizer and coverage flags it needs.
+# Fuzz rerate. Usage: fuzz/run.sh [TARGET] [SECONDS] (default: wav_read, 600 s).
+# Targets: wav_read (the WAV read path, seekable and streamed) and convert_mem (the whole
+# conversion on bytes in memory: parse, design, convert, encode).
+# Needs cargo-fuzz (`cargo install cargo-fuzz`) and a nightly toolchain (`cargo +nightly`);
+# on a stable toolchain only, RUSTC_BOOTSTRAP=1 lets cargo-fuzz use the flags it needs.
 set -euo pipefail
 cd "$(dirname "$0")"
-secs="${1:-600}"
-mkdir -p corpus/wav_read artifacts/wav_read
+target="${1:-wav_read}"
+secs="${2:-600}"
+mkdir -p "corpus/$target" "artifacts/$target"
 # Seed the corpus with the bad-input fixtures and the small valid fixtures.
-cp -n ../fixtures/bad/*.wav corpus/wav_read/ 2>/dev/null || true
-cp -n ../fixtures/ok/*.wav corpus/wav_read/ 2>/dev/null || true
-RUSTC_BOOTSTRAP=1 cargo fuzz run wav_read corpus/wav_read -- \
-  -max_total_time="$secs" -max_len=65536 -rss_limit_mb=1024 -print_final_stats=1
+cp -n ../fixtures/bad/*.wav "corpus/$target/" 2>/dev/null || true
+cp -n ../fixtures/ok/*.wav "corpus/$target/" 2>/dev/null || true
+toolchain=()
+if rustup toolchain list 2>/dev/null | grep -q '^nightly'; then
+  toolchain=(+nightly)
+else
+  export RUSTC_BOOTSTRAP=1
+fi
+cargo "${toolchain[@]}" fuzz run "$target" "corpus/$target" -- \
+  -max_total_time="$secs" -max_len=65536 -rss_limit_mb=2048 -timeout=30 -print_final_stats=1

@@ -21,6 +21,15 @@ pub enum FileError {
     /// The output exists and overwriting was not allowed.
     #[error("{0}: already exists (use --force to overwrite)")]
     Exists(String),
+    /// The output path names something other than a regular file (a device, a pipe, a
+    /// folder), which is never replaced, not even with `--force`.
+    #[error("{path}: is {kind}; rerate replaces only regular files, even with --force")]
+    NotRegular {
+        /// The output path.
+        path: String,
+        /// What it is ("a character device", "a pipe", ...).
+        kind: &'static str,
+    },
     /// The output path is an input file.
     #[error("{0}: is an input file; rerate never writes over an input")]
     IsInput(String),
@@ -44,7 +53,10 @@ pub trait NamesFile {
 
 impl NamesFile for FileError {
     fn names_the_file(&self) -> bool {
-        matches!(self, Self::Exists(_) | Self::IsInput(_))
+        matches!(
+            self,
+            Self::Exists(_) | Self::IsInput(_) | Self::NotRegular { .. }
+        )
     }
 }
 

@@ -8,6 +8,10 @@
 //! | 2 | bad usage: an unknown flag, or a flag's value out of range (nothing was done) |
 //! | 3 | the work could not be done: bad input, an I/O error, an impossible design |
 //! | 130 | interrupted (Ctrl-C or a termination signal); unfinished outputs were removed |
+//!
+//! A standard output or error closed early never changes a conversion's status (printing
+//! stops, the work goes on); a command that only prints exits with 3 when its standard
+//! output closes before the report ends.
 
 use std::process::ExitCode;
 

@@ -43,8 +43,13 @@ pub fn run() -> ExitCode {
     };
     match result {
         Ok(status) => status.into(),
+        // A command whose work is its printed report stops when standard output closes.
+        Err(e) if report::print::is_broken_pipe(&e) => {
+            report::print::err_line("rerate: standard output was closed before the report ended");
+            exit::Status::Failed.into()
+        }
         Err(e) => {
-            eprintln!("rerate: {e:#}");
+            report::print::err_line(&format!("rerate: {e:#}"));
             exit::status_of(&e).into()
         }
     }

@@ -7,6 +7,7 @@
 
 pub mod wav;
 
+use std::io::{Read, Seek};
 use std::path::Path;
 
 use resample_core::Sample;
@@ -23,9 +24,16 @@ pub enum Input {
 }
 
 impl Input {
-    /// Open and check an input file.
+    /// Open and check an input file: a regular file, a pipe (read as a stream, front to
+    /// back), or `-` for standard input ([`WavReader::open`]).
     pub fn open(path: &Path) -> Result<Self, WavError> {
         WavReader::open(path).map(Self::Wav)
+    }
+
+    /// Check an input held by any seekable reader (bytes in memory, an open file), from
+    /// its first byte.
+    pub fn from_reader<R: Read + Seek + Send + 'static>(r: R) -> Result<Self, WavError> {
+        WavReader::from_reader(r).map(Self::Wav)
     }
 
     /// What the file's header says.

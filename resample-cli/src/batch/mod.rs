@@ -39,6 +39,8 @@ pub struct Plan {
     pub excluded: usize,
     /// Folders given without `--recursive` that have sub-folders (not searched).
     pub unsearched: Vec<PathBuf>,
+    /// What the walk left out and why (symbolic link loops), to be shown as warnings.
+    pub warnings: Vec<String>,
 }
 
 /// A command-line mistake (exit code 2).
@@ -62,16 +64,25 @@ pub fn plan(
     let mut found: Vec<(PathBuf, PathBuf)> = Vec::new(); // (input, rel)
     let mut any_dir = false;
     let mut unsearched = Vec::new();
+    let mut warnings = Vec::new();
     for inp in inputs {
+        if let Some(e) = stream_input_problem(inp, inputs.len(), output) {
+            return Err(PlanError(e));
+        }
+        if inp.as_os_str() == "-" {
+            found.push((inp.clone(), inp.clone()));
+            continue;
+        }
         let meta = std::fs::metadata(inp)
             .map_err(|e| PlanError(format!("{}: {}", inp.display(), describe_io(&e))))?;
         if meta.is_dir() {
             any_dir = true;
-            let (files, subdirs) = crate::io::walk::wav_files_counting(inp, recursive)
+            let (files, subdirs, warned) = crate::io::walk::wav_files_counting(inp, recursive)
                 .map_err(|e| PlanError(format!("{}: {}", inp.display(), describe_io(&e))))?;
             if subdirs > 0 {
                 unsearched.push(inp.clone());
             }
+            warnings.extend(warned);
             if files.is_empty() {
                 return Err(PlanError(format!(
                     "{}: no .wav files found{}",
@@ -153,6 +164,7 @@ pub fn plan(
         is_batch,
         excluded,
         unsearched,
+        warnings,
     })
 }
 
@@ -211,6 +223,28 @@ fn strip_os_code(e: &std::io::Error) -> String {
     match s.find(" (os error") {
         Some(i) => s[..i].to_string(),
         None => s,
+    }
+}
+
+/// Why a stream input (`-` for standard input, a pipe) cannot be planned as given: it
+/// has no name to put an output beside, and standard input is read once.
+fn stream_input_problem(inp: &Path, n_inputs: usize, output: Option<&Path>) -> Option<String> {
+    let kind = if inp.as_os_str() == "-" {
+        "standard input (-)"
+    } else if crate::io::special_kind(inp).ok()?? == "a pipe" {
+        "a pipe"
+    } else {
+        return None;
+    };
+    if inp.as_os_str() == "-" && n_inputs > 1 {
+        return Some(format!("{kind} can only be converted on its own"));
+    }
+    match output {
+        None => Some(format!(
+            "{}: {kind} has no folder to write beside; give the output file with -o",
+            inp.display()
+        )),
+        Some(_) => None,
     }
 }
 

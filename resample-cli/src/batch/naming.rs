@@ -1,6 +1,7 @@
 //! The default output name beside an input: `NAME-RATE.wav` (e.g. `take-48k.wav`,
 //! `take-44.1k.wav`). It always adds a suffix, so it can never be the input's own name.
 
+use std::ffi::OsString;
 use std::path::{Path, PathBuf};
 
 /// A rate as a short label: 48000 -> "48k", 44100 -> "44.1k", 22050 -> "22.05k".
@@ -15,13 +16,15 @@ pub fn rate_label(rate: u32) -> String {
     }
 }
 
-/// `DIR/STEM-RATE.wav` for input `DIR/STEM.EXT`.
+/// `DIR/STEM-RATE.wav` for input `DIR/STEM.EXT`. The stem keeps its bytes as they are
+/// (a Latin-1 name stays Latin-1), so two different names never give one output name.
 pub fn default_output_name(input: &Path, out_rate: u32) -> PathBuf {
-    let stem = input
+    let mut name = input
         .file_stem()
-        .map(|s| s.to_string_lossy().into_owned())
+        .map(OsString::from)
         .unwrap_or_else(|| "output".into());
-    input.with_file_name(format!("{stem}-{}.wav", rate_label(out_rate)))
+    name.push(format!("-{}.wav", rate_label(out_rate)));
+    input.with_file_name(name)
 }
 
 #[cfg(test)]

@@ -1,9 +1,8 @@
 //! `rerate convert`: WAV files (one, several, or folders) to another sample rate, in
 //! parallel, safely, with a report line per file and a summary.
 
-use std::io::{IsTerminal, Write};
+use std::io::IsTerminal;
 use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
-use std::sync::Mutex;
 use std::time::{Duration, Instant};
 
 use crate::audio::wav::Encoding;
@@ -18,6 +17,7 @@ use crate::args::convert::ConvertArgs;
 use crate::args::{check_filter, DitherArg};
 use crate::exit::{Status, UsageError};
 use crate::io::signals::{self, CANCEL};
+use crate::report::print;
 
 /// How one task ended.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -117,21 +117,25 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
         is_batch,
         excluded,
         unsearched,
+        warnings,
     } = plan;
+    for w in warnings {
+        print::err_line(&format!("rerate: warning: {w}"));
+    }
     if excluded > 0 {
-        eprintln!(
+        print::err_line(&format!(
             "rerate: {excluded} file{} not taken as input: this run's own output{} \
              (NAME-{}.wav beside NAME.wav)",
             if excluded == 1 { "" } else { "s" },
             if excluded == 1 { "" } else { "s" },
             batch::rate_label(args.out_rate),
-        );
+        ));
     }
     for dir in &unsearched {
-        eprintln!(
+        print::err_line(&format!(
             "rerate: {}: sub-folders not searched (add -r to include them)",
             dir.display()
-        );
+        ));
     }
     let total_found = tasks.len();
     let tasks = match args.shard {
@@ -160,14 +164,7 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
         .sum();
     let bar = Bar::new(total_bytes, tasks.len());
     let designs = DesignCache::new();
-    let out = Mutex::new(std::io::stdout());
-    let emit = |line: String| {
-        bar.bar.suspend(|| {
-            if let Ok(mut o) = out.lock() {
-                let _ = writeln!(o, "{line}");
-            }
-        });
-    };
+    let emit = |line: String| bar.bar.suspend(|| print::out_line(&line));
     let outcomes: Vec<Outcome> = pool.install(|| {
         tasks
             .par_iter()
@@ -212,7 +209,8 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
                     }
                     Err(e) => {
                         let msg = format!("{}: {e}", task.input.display());
-                        bar.bar.suspend(|| eprintln!("rerate: {msg}"));
+                        bar.bar
+                            .suspend(|| print::err_line(&format!("rerate: {msg}")));
                         if args.json {
                             emit(record(
                                 task,
@@ -319,13 +317,12 @@ fn one(
         cancel: &CANCEL,
         progress: &progress,
     };
-    Ok(Some(convert_file(
-        &task.input,
-        &task.output,
-        settings,
-        designs,
-        ctl,
-    )?))
+    match convert_file(&task.input, &task.output, settings, designs, ctl) {
+        Ok(report) => Ok(Some(report)),
+        // Another run (the same batch started twice) finished this output meanwhile.
+        Err(e) if args.skip_existing && e.is_exists() => Ok(None),
+        Err(e) => Err(e.into()),
+    }
 }
 
 /// A progress bar on stderr, shown only when stderr is a terminal and the work has already

@@ -5,6 +5,7 @@
 use crate::audio::wav::{Encoding, WavWriter, WriterOptions};
 use crate::convert::{convert_file, Control, DesignCache, Settings};
 use crate::demo::{jingle, JINGLE_RATE};
+use crate::report::print::out_line;
 use anyhow::{Context, Result};
 
 use crate::args::demo::DemoArgs;
@@ -33,11 +34,11 @@ pub fn run(args: &DemoArgs) -> Result<Status> {
     w.finish()
         .with_context(|| format!("{}: cannot write", source.display()))?;
     if !args.json {
-        println!(
+        out_line(&format!(
             "demo: wrote {} (a 6 s jingle for a short video: tones, a chirp, a noise burst; \
              play it at a low level)",
             source.display()
-        );
+        ));
     }
     let designs = DesignCache::new();
     let no_progress = |_: u64| {};
@@ -57,19 +58,19 @@ pub fn run(args: &DemoArgs) -> Result<Status> {
         let report = convert_file(&source, &out, &s, &designs, ctl)
             .with_context(|| format!("{}", source.display()))?;
         if args.json {
-            println!("{}", report.json());
+            out_line(&report.json().to_string());
         } else {
-            println!("{}", report.line());
+            out_line(&report.line());
         }
     }
     if !args.json {
         // A command that works as printed, from the folder the demo ran in.
-        println!(
+        out_line(&format!(
             "demo: next, try: rerate convert {} --out-rate 96k --float   \
              (writes {}; rerate convert --help for more)",
             shell_word(&source.display().to_string()),
             shell_word(&suggested.display().to_string()),
-        );
+        ));
     }
     Ok(Status::Success)
 }

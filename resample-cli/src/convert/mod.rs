@@ -112,6 +112,17 @@ pub enum ConvertError {
     },
 }
 
+impl ConvertError {
+    /// Whether the output turned out to exist (made meanwhile by someone else).
+    pub fn is_exists(&self) -> bool {
+        use crate::error::FileError::Exists;
+        matches!(
+            self,
+            Self::File(Exists(_)) | Self::Wav(WavError::File(Exists(_)))
+        )
+    }
+}
+
 /// Cancellation and progress for one conversion.
 #[derive(Clone, Copy)]
 pub struct Control<'a> {
@@ -139,7 +150,35 @@ pub fn convert_file(
     ctl: Control<'_>,
 ) -> Result<FileReport, ConvertError> {
     let start = Instant::now();
-    let mut reader = Input::open(input)?;
+    let reader = Input::open(input)?;
+    convert_input(reader, input, Some(output), settings, designs, ctl, start).map(|(r, _)| r)
+}
+
+/// Convert a WAV file held in memory, end to end (header checks, design, conversion,
+/// requantization, encoding) as [`convert_file`] does, with no file anywhere: the report
+/// (its paths empty) and the output file's bytes.
+pub fn convert_in_memory(
+    input: Vec<u8>,
+    settings: &Settings,
+    designs: &DesignCache,
+    ctl: Control<'_>,
+) -> Result<(FileReport, Vec<u8>), ConvertError> {
+    let start = Instant::now();
+    let reader = Input::from_reader(std::io::Cursor::new(input))?;
+    convert_input(reader, Path::new(""), None, settings, designs, ctl, start)
+}
+
+/// The conversion behind [`convert_file`] and [`convert_in_memory`]: to `output`, or to
+/// memory when it is `None` (then the bytes are returned).
+fn convert_input(
+    mut reader: Input,
+    input: &Path,
+    output: Option<&Path>,
+    settings: &Settings,
+    designs: &DesignCache,
+    ctl: Control<'_>,
+    start: Instant,
+) -> Result<(FileReport, Vec<u8>), ConvertError> {
     let info = reader.info().clone();
     let encoding = settings.encoding.unwrap_or(info.encoding);
     let stopband = settings
@@ -162,7 +201,10 @@ pub fn convert_file(
             dither: settings.dither,
             force: settings.force,
         };
-        let writer = WavWriter::create(output, &opts)?;
+        let writer = match output {
+            Some(path) => WavWriter::create(path, &opts)?,
+            None => WavWriter::in_memory(&opts)?,
+        };
         Ok((design, writer))
     };
     let non_finite = if settings.sanitize {
@@ -201,13 +243,13 @@ pub fn convert_file(
             gain: over.gain,
         });
     }
-    let levels = writer.finish()?;
+    let (levels, bytes) = writer.finish_in_memory()?;
     // Dither is claimed only when some sample got it (not for silence).
     let dithered = levels.dithered > 0;
     let r = design.report();
-    Ok(FileReport {
+    let report = FileReport {
         input: input.to_path_buf(),
-        output: output.to_path_buf(),
+        output: output.map(Path::to_path_buf).unwrap_or_default(),
         in_rate: info.sample_rate,
         out_rate: settings.out_rate,
         channels: info.channels,
@@ -227,7 +269,8 @@ pub fn convert_file(
         gain_db: settings.gain_db,
         sanitized: reader.sanitized(),
         levels,
-    })
+    };
+    Ok((report, bytes))
 }
 
 /// What the engines need besides the design.

@@ -14,6 +14,8 @@ pub fn install() {
             crate::io::staged::remove_all_live();
             std::process::exit(i32::from(crate::exit::Status::Interrupted.code()));
         }
-        eprintln!("rerate: interrupted; removing unfinished outputs (again to exit at once)");
+        crate::report::print::err_line(
+            "rerate: interrupted; removing unfinished outputs (again to exit at once)",
+        );
     });
 }

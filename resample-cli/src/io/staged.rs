@@ -10,6 +10,7 @@ use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicU64, Ordering};
 use std::sync::Mutex;
 
+use super::stale;
 use crate::error::FileError;
 
 /// Suffix of every temporary file rerate writes.
@@ -26,6 +27,14 @@ pub fn remove_all_live() -> usize {
         Err(p) => p.into_inner().clone(),
     };
     live.iter().filter(|p| fs::remove_file(p).is_ok()).count()
+}
+
+/// Whether `temp` is a temporary file this process is writing.
+pub(crate) fn is_live(temp: &Path) -> bool {
+    match LIVE.lock() {
+        Ok(g) => g.contains(temp),
+        Err(p) => p.into_inner().contains(temp),
+    }
 }
 
 /// A file being written under a temporary name beside its final path.
@@ -51,19 +60,19 @@ impl StagedFile {
         force: bool,
         ext: Option<&str>,
     ) -> Result<(Self, File), FileError> {
-        if !force && target.symlink_metadata().is_ok() {
-            return Err(FileError::Exists(target.display().to_string()));
+        if target.symlink_metadata().is_ok() {
+            if !force {
+                return Err(FileError::Exists(target.display().to_string()));
+            }
+            check_replaceable(target)?;
         }
-        let name = target
-            .file_name()
-            .map(|n| n.to_string_lossy().into_owned())
-            .unwrap_or_else(|| "output".into());
+        let folder = match target.parent() {
+            Some(p) if !p.as_os_str().is_empty() => p,
+            _ => Path::new("."),
+        };
+        stale::sweep_once(folder);
         let n = COUNTER.fetch_add(1, Ordering::Relaxed);
-        let ext = ext.map(|e| format!(".{e}")).unwrap_or_default();
-        let temp = target.with_file_name(format!(
-            ".{name}.{}-{n}{TEMP_SUFFIX}{ext}",
-            std::process::id()
-        ));
+        let temp = folder.join(temp_name(target, n, ext));
         if let Ok(mut live) = LIVE.lock() {
             live.insert(temp.clone());
         }
@@ -98,6 +107,9 @@ impl StagedFile {
             .and_then(|f| f.sync_all())
             .map_err(|e| FileError::io("cannot write", e))?;
         if self.force {
+            if self.target.symlink_metadata().is_ok() {
+                check_replaceable(&self.target)?;
+            }
             fs::rename(&self.temp, &self.target).map_err(|e| FileError::io("cannot rename", e))?;
         } else {
             // A hard link fails if the target exists: no window in which another writer's
@@ -121,6 +133,9 @@ impl StagedFile {
         }
         self.committed = true;
         self.forget();
+        // The new name lives in the folder's own data: make it durable too, so that a
+        // finished output survives a power cut.
+        sync_folder(&self.target).map_err(|e| FileError::io("cannot write the folder", e))?;
         Ok(())
     }
 
@@ -128,6 +143,73 @@ impl StagedFile {
         if let Ok(mut live) = LIVE.lock() {
             live.remove(&self.temp);
         }
+    }
+}
+
+/// Bytes of the output's name kept in its temporary name (whole characters): enough to
+/// tell which output a temporary file is for, short enough that the temporary name stays
+/// far below the usual 255-byte limit on a name whatever the output's name.
+const TEMP_NAME_KEEP: usize = 40;
+
+/// `.NAME.HOST-PID-N.rerate-tmp[.EXT]`: NAME the output's name cut to [`TEMP_NAME_KEEP`]
+/// bytes, HOST a short hash of the machine's name, PID this process, N a counter.
+fn temp_name(target: &Path, n: u64, ext: Option<&str>) -> String {
+    let name = target
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "output".into());
+    let mut cut = name.len().min(TEMP_NAME_KEEP);
+    while !name.is_char_boundary(cut) {
+        cut -= 1;
+    }
+    let ext = ext.map(|e| format!(".{e}")).unwrap_or_default();
+    format!(
+        ".{}.{}{TEMP_SUFFIX}{ext}",
+        &name[..cut],
+        stale::owner_tag(std::process::id(), n)
+    )
+}
+
+/// Refuse to replace anything but a regular file (a symbolic link is judged by what it
+/// names): `--force` must never turn a device, a pipe or a folder into a file.
+fn check_replaceable(target: &Path) -> Result<(), FileError> {
+    // A dangling symbolic link (an error here): the link itself is replaced.
+    let kind = crate::io::special_kind(target).unwrap_or_default();
+    match kind {
+        None => Ok(()),
+        Some(kind) => Err(FileError::NotRegular {
+            path: target.display().to_string(),
+            kind,
+        }),
+    }
+}
+
+/// Make the folder holding `path` durable (its list of names). Unix only: elsewhere a
+/// folder cannot be opened to be synced, and renames are durable by other means.
+fn sync_folder(path: &Path) -> io::Result<()> {
+    #[cfg(unix)]
+    {
+        let folder = match path.parent() {
+            Some(p) if !p.as_os_str().is_empty() => p,
+            _ => Path::new("."),
+        };
+        match File::open(folder).and_then(|f| f.sync_all()) {
+            // Filesystems that cannot sync a folder (some network and FUSE ones say so).
+            Err(e)
+                if matches!(
+                    e.kind(),
+                    io::ErrorKind::InvalidInput | io::ErrorKind::Unsupported
+                ) =>
+            {
+                Ok(())
+            }
+            r => r,
+        }
+    }
+    #[cfg(not(unix))]
+    {
+        let _ = path;
+        Ok(())
     }
 }
 

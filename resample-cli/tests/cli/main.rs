@@ -8,6 +8,7 @@ mod design_cli;
 mod first_use;
 mod formats;
 mod grade_convert;
+mod hostile;
 mod levels;
 mod measure_cli;
 mod safety;

@@ -3,10 +3,11 @@
 //! even length; the walk honours that. The format chunk is parsed here too, so that every
 //! layout the specifications allow is decoded by their rules (left-justified valid bits).
 
-use std::io::{self, Read, Seek, SeekFrom};
+use std::io::{self, Read};
 
 use super::error::WavError;
 use super::rf64::{parse_ds64, Ds64, DS64_BODY};
+use super::source::Source;
 
 /// Largest format chunk accepted, bytes (WAVE_FORMAT_EXTENSIBLE needs 40).
 const MAX_FMT_BYTES: u32 = 1024;
@@ -192,17 +193,22 @@ fn read_exact_or<R: Read>(r: &mut R, buf: &mut [u8], short: WavError) -> Result<
     })
 }
 
-/// Walk the chunks of a file of `size` bytes whose first 12 bytes ("RIFF", size, "WAVE"; or
-/// "RF64"/"BW64" when `rf64_container`) are already checked; `r` is positioned after them.
-/// An RF64/BW64 file must begin with its 'ds64' chunk, whose data size replaces the data
-/// chunk's 32-bit placeholder.
-pub(crate) fn scan<R: Read + Seek>(
-    r: &mut R,
-    size: u64,
+/// Walk the chunks of a source whose first 12 bytes ("RIFF", size, "WAVE"; or "RF64"/"BW64"
+/// when `rf64_container`) are already checked; `r` is positioned after them. `size` is the
+/// source's length, `None` for a stream (then a chunk that runs past the end is found by
+/// reading, not by arithmetic). An RF64/BW64 file must begin with its 'ds64' chunk, whose data
+/// size replaces the data chunk's 32-bit placeholder.
+pub(crate) fn scan(
+    r: &mut Source,
+    size: Option<u64>,
     rf64_container: bool,
 ) -> Result<Layout, WavError> {
     let mut pos = 12u64;
     let mut fmt: Option<Vec<u8>> = None;
+    let no_data = |fmt: &Option<Vec<u8>>| match fmt {
+        None => WavError::HeaderTruncated,
+        Some(_) => WavError::Malformed("no data chunk".into()),
+    };
     let mut rf64: Option<Ds64> = None;
     if rf64_container {
         let mut head = [0u8; 8];
@@ -216,32 +222,28 @@ pub(crate) fn scan<R: Read + Seek>(
                 String::from_utf8_lossy(&head[..4]).escape_debug()
             )));
         }
-        if u64::from(len) > size - pos {
+        if size.is_some_and(|size| u64::from(len) > size - pos) {
             return Err(WavError::HeaderTruncated);
         }
         let mut body = vec![0u8; len as usize];
         read_exact_or(r, &mut body, WavError::HeaderTruncated)?;
         pos += u64::from(len);
         rf64 = parse_ds64(&body);
-        if len % 2 == 1 && size > pos {
-            r.seek(SeekFrom::Current(1))
-                .map_err(|e| WavError::io("cannot read", e))?;
-            pos += 1;
+        if len % 2 == 1 {
+            pos += r.skip(1).map_err(|e| WavError::io("cannot read", e))?;
         }
     }
     for _ in 0..MAX_CHUNKS {
         let mut head = [0u8; 8];
-        if size.saturating_sub(pos) < 8 {
-            return Err(match fmt {
-                None => WavError::HeaderTruncated,
-                Some(_) => WavError::Malformed("no data chunk".into()),
-            });
+        if size.is_some_and(|size| size.saturating_sub(pos) < 8) {
+            return Err(no_data(&fmt));
         }
-        read_exact_or(r, &mut head, WavError::HeaderTruncated)?;
+        read_exact_or(r, &mut head, no_data(&fmt))?;
         pos += 8;
         let tag = [head[0], head[1], head[2], head[3]];
         let len = u32::from_le_bytes([head[4], head[5], head[6], head[7]]);
-        let avail = size - pos;
+        // What follows: known for a seekable source, unbounded (until read) for a stream.
+        let avail = size.map_or(u64::MAX, |size| size - pos);
         match &tag {
             b"data" => {
                 let fmt = fmt.ok_or_else(|| {
@@ -272,23 +274,26 @@ pub(crate) fn scan<R: Read + Seek>(
                 pos += u64::from(len);
                 fmt = Some(body);
                 if len % 2 == 1 && avail > u64::from(len) {
-                    r.seek(SeekFrom::Current(1))
-                        .map_err(|e| WavError::io("cannot read", e))?;
-                    pos += 1;
+                    pos += r.skip(1).map_err(|e| WavError::io("cannot read", e))?;
                 }
             }
             _ => {
                 let skip = u64::from(len) + u64::from(len % 2);
-                if u64::from(len) > avail {
-                    return Err(WavError::Malformed(format!(
+                let too_long = |avail: u64| {
+                    WavError::Malformed(format!(
                         "the '{}' chunk declares {len} bytes but only {avail} follow",
                         String::from_utf8_lossy(&tag).escape_debug()
-                    )));
+                    ))
+                };
+                if u64::from(len) > avail {
+                    return Err(too_long(avail));
                 }
                 let skip = skip.min(avail);
-                r.seek(SeekFrom::Current(skip as i64))
-                    .map_err(|e| WavError::io("cannot read", e))?;
-                pos += skip;
+                let skipped = r.skip(skip).map_err(|e| WavError::io("cannot read", e))?;
+                if skipped < u64::from(len) {
+                    return Err(too_long(skipped));
+                }
+                pos += skipped;
             }
         }
     }
@@ -319,7 +324,17 @@ fn tag_name(tag: u16, bits: u16) -> &'static str {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use std::io::Cursor;
+    use std::io::{Cursor, Seek, SeekFrom};
+
+    fn at_12(v: &[u8]) -> Source {
+        let mut c = Cursor::new(v.to_vec());
+        c.seek(SeekFrom::Start(12)).unwrap();
+        Source::Seekable(Box::new(c))
+    }
+
+    fn stream_12(v: &[u8]) -> Source {
+        Source::Stream(Box::new(Cursor::new(v[12..].to_vec())))
+    }
 
     fn file(chunks: &[(&[u8; 4], &[u8], Option<u32>)]) -> Vec<u8> {
         let mut v = b"RIFF\0\0\0\0WAVE".to_vec();
@@ -342,9 +357,12 @@ mod tests {
             (b"fmt ", &fmt, None),
             (b"data", &[0, 0, 1, 0], None),
         ]);
-        let mut c = Cursor::new(&v);
-        c.set_position(12);
-        let l = scan(&mut c, v.len() as u64, false).unwrap();
+        let l = scan(&mut at_12(&v), Some(v.len() as u64), false).unwrap();
+        assert_eq!(l.fmt, fmt);
+        assert_eq!(l.data_len, 4);
+        assert_eq!(l.data_offset, v.len() as u64 - 4);
+        // The same bytes as a stream of unknown length.
+        let l = scan(&mut stream_12(&v), None, false).unwrap();
         assert_eq!(l.fmt, fmt);
         assert_eq!(l.data_len, 4);
         assert_eq!(l.data_offset, v.len() as u64 - 4);
@@ -353,16 +371,20 @@ mod tests {
     #[test]
     fn absurd_sizes_are_refused_without_allocating() {
         let v = file(&[(b"fmt ", &[0u8; 16], Some(0xFFFF_FFF0))]);
-        let mut c = Cursor::new(&v);
-        c.set_position(12);
         assert!(matches!(
-            scan(&mut c, v.len() as u64, false),
+            scan(&mut at_12(&v), Some(v.len() as u64), false),
             Err(WavError::Malformed(_))
         ));
         let v = file(&[(b"junk", &[0u8; 4], Some(0x7FFF_FFFF))]);
-        let mut c = Cursor::new(&v);
-        c.set_position(12);
-        let e = scan(&mut c, v.len() as u64, false).unwrap_err().to_string();
+        let e = scan(&mut at_12(&v), Some(v.len() as u64), false)
+            .unwrap_err()
+            .to_string();
         assert!(e.contains("declares 2147483647 bytes"), "{e}");
+        // A stream finds out by reading (bounded by the bytes there are).
+        let e = scan(&mut stream_12(&v), None, false).unwrap_err().to_string();
+        assert!(
+            e.contains("declares 2147483647 bytes but only 4 follow"),
+            "{e}"
+        );
     }
 }

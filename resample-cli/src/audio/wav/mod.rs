@@ -32,6 +32,7 @@ mod error;
 mod quantize;
 mod reader;
 mod rf64;
+mod source;
 mod writeback;
 mod writer;
 

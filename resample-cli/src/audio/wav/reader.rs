@@ -2,8 +2,7 @@
 //! (nothing is ever allocated by the header's word), then hands out blocks of frames as
 //! floating point, full scale ±1.0, refusing or zeroing non-finite float samples.
 
-use std::fs::File;
-use std::io::{self, Read, Seek, SeekFrom};
+use std::io::{self, Read, Seek};
 use std::path::Path;
 
 use resample_core::Sample;
@@ -11,6 +10,7 @@ use resample_core::Sample;
 use super::chunks::{scan, SampleLayout};
 use super::encoding::Encoding;
 use super::error::WavError;
+use super::source::Source;
 
 /// What to do with NaN or infinite float samples.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -106,12 +106,16 @@ struct IntDecode {
     valid_bits: u16,
 }
 
+/// The data size some writers put in the header when they stream a WAV file whose length
+/// they do not know yet (to a pipe) and never come back to fix (common practice, no source).
+const STREAMING_MARKER: u32 = u32::MAX;
+
 /// Bytes of audio read from the file at a time (at most).
 const RAW_CHUNK: usize = 64 << 10;
 
 /// A WAV file open for streaming reads.
 pub struct WavReader {
-    file: File,
+    file: Source,
     raw: Raw,
     int: IntDecode,
     info: WavInfo,
@@ -131,18 +135,38 @@ impl std::fmt::Debug for WavReader {
 
 impl WavReader {
     /// Open and check a WAV file: header, encoding, rate, channels, and that the file holds
-    /// the audio its header declares.
+    /// the audio its header declares. A pipe (a FIFO, `<(...)`) or a character device is
+    /// read as a stream, front to back; `-` is standard input, also a stream. Other special
+    /// files (folders, block devices, sockets) are refused, naming what they are.
     pub fn open(path: &Path) -> Result<Self, WavError> {
-        let mut file = File::open(path).map_err(|e| WavError::io("cannot open", e))?;
+        Self::check(Source::open(path)?)
+    }
+
+    /// Read a WAV file from any seekable source, from its first byte (bytes in memory
+    /// through [`std::io::Cursor`], an open file): the same checks as [`WavReader::open`].
+    pub fn from_reader<R: Read + Seek + Send + 'static>(r: R) -> Result<Self, WavError> {
+        Self::check(Source::Seekable(Box::new(r)))
+    }
+
+    /// Read a WAV file from a stream, front to back, without seeking (a pipe, standard
+    /// input): the header is read as it comes, and a stream that ends before the audio its
+    /// header declares is found when its end is reached. Memory stays bounded.
+    pub fn from_stream<R: Read + Send + 'static>(r: R) -> Result<Self, WavError> {
+        Self::check(Source::Stream(Box::new(r)))
+    }
+
+    fn check(mut file: Source) -> Result<Self, WavError> {
         let size = file
-            .metadata()
-            .map_err(|e| WavError::io("cannot read", e))?
-            .len();
-        if size == 0 {
+            .len_from_start()
+            .map_err(|e| WavError::io("cannot read", e))?;
+        if size == Some(0) {
             return Err(WavError::Empty);
         }
         let mut magic = [0u8; 12];
         let got = read_up_to(&mut file, &mut magic)?;
+        if got == 0 {
+            return Err(WavError::Empty);
+        }
         let rf64 = match (&magic[0..4.min(got)], got) {
             (b"RIFF", 12) if &magic[8..12] == b"WAVE" => false,
             (b"RF64" | b"BW64", 12) if &magic[8..12] == b"WAVE" => true,
@@ -155,7 +179,8 @@ impl WavReader {
             _ => return Err(WavError::NotWav("no RIFF tag at the start".into())),
         };
         let layout = scan(&mut file, size, rf64)?;
-        let available = size - layout.data_offset;
+        // Unknown for a stream: it ends where it ends, found while reading.
+        let available = size.map_or(u64::MAX, |size| size - layout.data_offset);
         let format = layout.format()?;
         if format.sample_rate == 0 {
             return Err(WavError::ZeroRate);
@@ -175,6 +200,11 @@ impl WavReader {
             )));
         }
         let declared = layout.data_len;
+        if !rf64 && declared == u64::from(STREAMING_MARKER) && declared > available {
+            return Err(WavError::StreamingMarker {
+                available: size.map(|_| available),
+            });
+        }
         if declared % u64::from(format.block_align) != 0 {
             return Err(WavError::Malformed(format!(
                 "the data chunk's length ({declared} bytes) is not a multiple of sample size \
@@ -227,7 +257,7 @@ impl WavReader {
             container_bits: format.block_align / format.channels * 8,
             frames: declared / u64::from(format.block_align),
         };
-        file.seek(SeekFrom::Start(layout.data_offset))
+        file.seek_to(layout.data_offset)
             .map_err(|e| WavError::io("cannot read", e))?;
         Ok(Self {
             file,
@@ -465,7 +495,7 @@ fn read_fully<R: Read>(r: &mut R, buf: &mut [u8]) -> (usize, Option<WavError>) {
     (got, None)
 }
 
-fn read_up_to(file: &mut File, buf: &mut [u8]) -> Result<usize, WavError> {
+fn read_up_to(file: &mut Source, buf: &mut [u8]) -> Result<usize, WavError> {
     let mut got = 0;
     while got < buf.len() {
         match file.read(&mut buf[got..]) {
@@ -495,7 +525,7 @@ mod tests {
             bytes_per_sample: bytes,
         };
         let mut w = hound::WavWriter::new_with_spec_ex(
-            std::io::BufWriter::new(File::create(path).unwrap()),
+            std::io::BufWriter::new(std::fs::File::create(path).unwrap()),
             ex,
         )
         .unwrap();

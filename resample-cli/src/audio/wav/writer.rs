@@ -57,8 +57,9 @@ const ENCODE_CHUNK: usize = 16 << 10;
 /// completes the two size fields and, unlike hound, ends an odd-sized data chunk with the pad
 /// byte RIFF requires (counted in the RIFF size, not in the data chunk's).
 pub struct WavWriter {
-    out: Option<BufWriter<File>>,
-    staged: StagedFile,
+    out: Option<BufWriter<Target>>,
+    /// The file being written; `None` when writing to memory.
+    staged: Option<StagedFile>,
     quant: Quantizer,
     channels: u16,
     frames: u64,
@@ -82,6 +83,38 @@ impl std::fmt::Debug for WavWriter {
             .field("staged", &self.staged)
             .field("frames", &self.frames)
             .finish_non_exhaustive()
+    }
+}
+
+/// Where the bytes go: a staged file, or memory (for fuzzing the whole path and for tests).
+#[derive(Debug)]
+enum Target {
+    File(File),
+    Memory(io::Cursor<Vec<u8>>),
+}
+
+impl Write for Target {
+    fn write(&mut self, buf: &[u8]) -> io::Result<usize> {
+        match self {
+            Self::File(f) => f.write(buf),
+            Self::Memory(m) => m.write(buf),
+        }
+    }
+
+    fn flush(&mut self) -> io::Result<()> {
+        match self {
+            Self::File(f) => f.flush(),
+            Self::Memory(_) => Ok(()),
+        }
+    }
+}
+
+impl Seek for Target {
+    fn seek(&mut self, pos: SeekFrom) -> io::Result<u64> {
+        match self {
+            Self::File(f) => f.seek(pos),
+            Self::Memory(m) => m.seek(pos),
+        }
     }
 }
 
@@ -142,13 +175,29 @@ fn encode<T: Sample>(quant: &mut Quantizer, samples: &[T], bytes: &mut Vec<u8>) 
 impl WavWriter {
     /// Start writing `path` (through a temporary file beside it).
     pub fn create(path: &Path, opts: &WriterOptions) -> Result<Self, WavError> {
+        Self::start(Some(path), opts)
+    }
+
+    /// Start writing a WAV file in memory, with the same bytes [`WavWriter::create`] would
+    /// write; [`WavWriter::finish_in_memory`] hands them over.
+    pub fn in_memory(opts: &WriterOptions) -> Result<Self, WavError> {
+        Self::start(None, opts)
+    }
+
+    fn start(path: Option<&Path>, opts: &WriterOptions) -> Result<Self, WavError> {
         if opts.channels == 0 {
             return Err(WavError::Malformed("0 channels".into()));
         }
         let spec = opts.encoding.spec(opts.sample_rate, opts.channels);
         let header = header(spec)?;
-        let (staged, file) = StagedFile::create(path, opts.force)?;
-        let mut out = BufWriter::with_capacity(WRITE_BUFFER, file);
+        let (staged, target) = match path {
+            Some(path) => {
+                let (staged, file) = StagedFile::create(path, opts.force)?;
+                (Some(staged), Target::File(file))
+            }
+            None => (None, Target::Memory(io::Cursor::new(Vec::new()))),
+        };
+        let mut out = BufWriter::with_capacity(WRITE_BUFFER, target);
         out.write_all(&header)
             .map_err(|e| WavError::io("cannot write", e))?;
         Ok(Self {
@@ -181,10 +230,9 @@ impl WavWriter {
             // Back to writing everything back on finish (the thread stops here).
             self.writeback = None;
         } else if self.writeback.is_none() {
-            if let Some(out) = &self.out {
-                self.writeback = Some(
-                    WriteBack::start(out.get_ref()).map_err(|e| WavError::io("cannot write", e))?,
-                );
+            if let Some(Target::File(file)) = self.out.as_ref().map(BufWriter::get_ref) {
+                self.writeback =
+                    Some(WriteBack::start(file).map_err(|e| WavError::io("cannot write", e))?);
             }
         }
         Ok(())
@@ -236,6 +284,28 @@ impl WavWriter {
 
     /// Complete the header, make the file durable and move it to its final name.
     pub fn finish(mut self) -> Result<LevelStats, WavError> {
+        self.complete()?;
+        let stats = self.quant.stats();
+        if let Some(staged) = self.staged.take() {
+            staged.commit()?;
+        }
+        Ok(stats)
+    }
+
+    /// [`WavWriter::finish`] for a writer made by [`WavWriter::in_memory`]: the level
+    /// figures and the file's bytes (empty for a writer of a file).
+    pub fn finish_in_memory(mut self) -> Result<(LevelStats, Vec<u8>), WavError> {
+        let bytes = self.complete()?;
+        let stats = self.quant.stats();
+        if let Some(staged) = self.staged.take() {
+            staged.commit()?;
+        }
+        Ok((stats, bytes))
+    }
+
+    /// Complete the header and write everything back; the bytes when writing to memory.
+    fn complete(&mut self) -> Result<Vec<u8>, WavError> {
+        let mut bytes = Vec::new();
         if let Some(mut out) = self.out.take() {
             // RIFF pads a chunk of odd size with one zero byte, which its size field does not
             // count (IBM/Microsoft, "Multimedia Programming Interface and Data Specifications
@@ -243,7 +313,7 @@ impl WavWriter {
             // it. Sizes past 32 bits make the file RF64 (EBU Tech 3306).
             let pad = pad_len(self.data_bytes) as usize;
             let patches = size_fields(u64::from(self.header_len), self.data_bytes, self.frames);
-            let fill = |out: &mut BufWriter<File>| -> io::Result<()> {
+            let fill = |out: &mut BufWriter<Target>| -> io::Result<()> {
                 // The writer stands just after the last audio byte.
                 out.write_all(&[0u8][..pad])?;
                 for (at, bytes) in &patches {
@@ -253,13 +323,18 @@ impl WavWriter {
                 out.flush()
             };
             fill(&mut out).map_err(|e| WavError::io("cannot write", e))?;
+            if let Target::Memory(m) = out
+                .into_inner()
+                .map_err(|e| e.into_error())
+                .map_err(|e| WavError::io("cannot write", e))?
+            {
+                bytes = m.into_inner();
+            }
         }
         if let Some(wb) = self.writeback.take() {
             wb.finish().map_err(|e| WavError::io("cannot write", e))?;
         }
-        let stats = self.quant.stats();
-        self.staged.commit()?;
-        Ok(stats)
+        Ok(bytes)
     }
 }
 
