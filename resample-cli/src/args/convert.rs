@@ -5,7 +5,7 @@ use std::path::PathBuf;
 use clap::Args;
 
 use super::rate::parse_rate;
-use super::{parse_bits, DitherArg};
+use super::{parse_bits, DitherArg, PhaseArg};
 use crate::batch::Shard;
 
 /// Options of `rerate convert`.
@@ -37,6 +37,10 @@ pub struct ConvertArgs {
     /// Passband edge as a fraction of the lower Nyquist frequency (0.5 to 0.995).
     #[arg(long, value_name = "FRACTION", default_value_t = resample_core::limits::DEFAULT_PASSBAND)]
     pub passband: f64,
+    /// Filter phase: linear (every frequency delayed alike) or minimum (a fraction of the
+    /// delay, varying with frequency; same measured rejection).
+    #[arg(long, value_enum, default_value_t = PhaseArg::Linear)]
+    pub phase: PhaseArg,
     /// Dither when writing 8-, 16- or 24-bit integers (fixed seed: same input, same bytes).
     #[arg(long, value_enum, default_value_t = DitherArg::Tpdf)]
     pub dither: DitherArg,

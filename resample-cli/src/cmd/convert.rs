@@ -37,6 +37,7 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
         out_rate: args.out_rate,
         stopband_db: args.stopband_db,
         passband: args.passband,
+        phase: args.phase.phase(),
         encoding,
         dither: args.dither.dither(),
         gain_db: args.gain,
