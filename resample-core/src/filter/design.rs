@@ -5,8 +5,11 @@
 
 use rayon::prelude::*;
 
-use super::minphase::{minimum_phase, CEPSTRUM_OVERSAMPLE, MAX_CEPSTRUM_FFT};
-use super::response::{group_delay, group_delay_range, Measurer, MAX_MEASURE_FFT, OVERSAMPLE};
+use super::minphase::{fft_len, minimum_phase_on};
+use super::minphase::{CEPSTRUM_OVERSAMPLE, MAX_CEPSTRUM_FFT};
+use super::response::{
+    group_delay, group_delay_range, ripple_allowance_db, Measurer, MAX_MEASURE_FFT, OVERSAMPLE,
+};
 use super::spec::{FilterSpec, Phase};
 use super::window::{bessel_i0, kaiser_at, kaiser_length};
 use crate::limits::{
@@ -436,16 +439,28 @@ pub(super) fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> 
         }
         // The minimum-phase filter is derived from the whole Kaiser prototype and measured
         // itself (m_phases == up here).
-        let probe = if minimum {
-            minimum_phase(&probe)
-        } else {
-            probe
-        };
-        let m = measurer.measure(
-            &probe,
+        let (pass, stop) = (
             f_pass / (in_rate * m_phases as f64),
             f_stop / (in_rate * m_phases as f64),
         );
+        let (probe, m) = if minimum {
+            // The cepstrum's DFT doubles (up to its limit) until the derived filter's
+            // measured passband ripple is within the allowance for the request (the
+            // aliased cepstrum shows first as passband ripple).
+            let allowed = ripple_allowance_db(requested);
+            let mut n = fft_len(len);
+            loop {
+                let g = minimum_phase_on(&probe, n);
+                let m = measurer.measure(&g, pass, stop);
+                if m.ripple_db() <= allowed || 2 * n > MAX_CEPSTRUM_FFT {
+                    break (g, m);
+                }
+                n *= 2;
+            }
+        } else {
+            let m = measurer.measure(&probe, pass, stop);
+            (probe, m)
+        };
         let got = m.stopband_db();
         best = best.max(got);
         let needed = if m_phases == up {

@@ -459,6 +459,19 @@ fn cos_sin_sums(h: &[f64], w: f64, start: usize) -> (f64, f64) {
     (re.iter().sum(), im.iter().sum())
 }
 
+/// The passband ripple (dB peak to peak) allowed a filter with `stopband_db` of stopband
+/// attenuation: `20 log10((1 + 2 d) / (1 - 2 d))`, `d = 10^(-A / 20)` (the allowance
+/// `measure::ripple_limit_db` documents, which reads it here; a minimum-phase design keeps
+/// its derived prototype's ripple within it).
+pub fn ripple_allowance_db(stopband_db: f64) -> f64 {
+    let d = 2.0 * 10f64.powf(-stopband_db / 20.0);
+    if d >= 1.0 {
+        f64::INFINITY
+    } else {
+        20.0 * ((1.0 + d) / (1.0 - d)).log10()
+    }
+}
+
 /// Group delay of `taps` (at sample rate 1) at frequency `f` (fraction of the rate), in
 /// samples: `Re(D(f) / H(f))` with `H(f) = sum_n h[n] e^{-j 2 pi f n}` and
 /// `D(f) = sum_n n h[n] e^{-j 2 pi f n}` (the derivative of the phase, common practice, no
