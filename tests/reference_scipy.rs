@@ -1,9 +1,10 @@
 //! External checks of resample-core against scipy (vectors in `fixtures/reference/`, made by
-//! `fixtures/make_reference.py`, numpy/scipy versions recorded in its manifest).
+//! `fixtures/make_reference.py`; minimum-phase figures in `fixtures/minphase/`, made by
+//! `fixtures/make_minphase.py`; numpy/scipy versions recorded in their manifests).
 
 use std::path::PathBuf;
 
-use resample_core::{offline, FilterSpec, Kernel};
+use resample_core::{offline, FilterSpec, Kernel, Phase};
 use serde_json::Value;
 
 fn fixtures() -> PathBuf {
@@ -14,6 +15,22 @@ fn manifest() -> Value {
     let text = std::fs::read_to_string(fixtures().join("manifest.json"))
         .expect("fixtures/reference/manifest.json (run fixtures/make_reference.py)");
     serde_json::from_str(&text).expect("manifest is JSON")
+}
+
+/// Sum of `h[n] (n + 1)`, compensated (Neumaier), so rounding cannot hide a design change.
+fn fingerprint(h: &[f64]) -> f64 {
+    let (mut fp, mut comp) = (0.0_f64, 0.0_f64);
+    for (n, h) in h.iter().enumerate() {
+        let v = h * (n + 1) as f64;
+        let t = fp + v;
+        comp += if fp.abs() >= v.abs() {
+            (fp - t) + v
+        } else {
+            (v - t) + fp
+        };
+        fp = t;
+    }
+    fp + comp
 }
 
 fn read_f64(name: &str) -> Vec<f64> {
@@ -52,19 +69,7 @@ fn offline_matches_scipy_resample_poly() {
             num(pair, "taps_len"),
             "{a}->{b}"
         );
-        // Compensated (Neumaier) sum, so rounding cannot hide a design change.
-        let (mut fp, mut comp) = (0.0_f64, 0.0_f64);
-        for (n, h) in design.taps().iter().enumerate() {
-            let v = h * (n + 1) as f64;
-            let t = fp + v;
-            comp += if fp.abs() >= v.abs() {
-                (fp - t) + v
-            } else {
-                (v - t) + fp
-            };
-            fp = t;
-        }
-        let fp = fp + comp;
+        let fp = fingerprint(design.taps());
         let want = num(pair, "taps_fingerprint");
         assert!(
             ((fp - want) / want).abs() < 1e-13,
@@ -144,6 +149,69 @@ fn measured_stopband_meets_request_per_scipy() {
             (r.passband_ripple_db - ripple).abs() <= 0.005 * ripple + 1e-12,
             "{a}->{b} {req} dB: ripple {} vs scipy {ripple}",
             r.passband_ripple_db
+        );
+    }
+}
+
+/// Minimum-phase designs against scipy (fixtures/minphase/manifest.json, made by
+/// fixtures/make_minphase.py from `rerate design --phase minimum --export`):
+/// * scipy.signal.freqz on our taps (dense grid plus the exact stopband edge) meets the
+///   request, and agrees with the report's own measurement;
+/// * their magnitude matches scipy.signal.minimum_phase(h, method='homomorphic', half=False)
+///   of the same Kaiser prototype (rebuilt by scipy.signal.firwin from the report's length,
+///   beta and cutoff): within 1e-3 dB over the passband, and the two differ in the stopband
+///   by at least 10 dB less than the stopband itself (relative to the DC gain);
+/// * scipy.signal.group_delay at 1 kHz equals the report's figure.
+#[test]
+fn minimum_phase_taps_meet_the_request_per_scipy() {
+    let text = std::fs::read_to_string(fixtures().join("../minphase/manifest.json"))
+        .expect("fixtures/minphase/manifest.json (run fixtures/make_minphase.py)");
+    let m: Value = serde_json::from_str(&text).expect("manifest is JSON");
+    let cases = m["cases"].as_array().expect("cases");
+    assert!(cases.len() >= 5);
+    for c in cases {
+        let (a, b) = (num(c, "in_rate") as u32, num(c, "out_rate") as u32);
+        let req = num(c, "requested_db");
+        let d = FilterSpec::new(a, b)
+            .stopband_db(req)
+            .phase(Phase::Minimum)
+            .design()
+            .expect("design");
+        let r = d.report();
+        // The figures were measured on exactly these taps.
+        assert_eq!(d.taps().len() as f64, num(c, "taps_len"), "{a}->{b}");
+        let want = num(c, "taps_fingerprint");
+        assert!(
+            ((fingerprint(d.taps()) - want) / want).abs() < 1e-12,
+            "{a}->{b}: design drifted from the fixtures (regenerate them)"
+        );
+        let scipy_db = num(c, "scipy_stopband_db");
+        assert!(
+            scipy_db >= req,
+            "{a}->{b} {req} dB: scipy measures {scipy_db}"
+        );
+        assert!(r.measured_stopband_db >= req);
+        assert!(
+            r.measured_stopband_db <= scipy_db + 0.05
+                && (r.measured_stopband_db - scipy_db).abs() < 1.0,
+            "{a}->{b} {req} dB: ours {} vs scipy {scipy_db}",
+            r.measured_stopband_db
+        );
+        let pass_diff = num(c, "passband_magnitude_diff_db");
+        assert!(
+            pass_diff <= 1e-3,
+            "{a}->{b}: passband differs by {pass_diff} dB"
+        );
+        let stop_diff = num(c, "stopband_magnitude_diff_db");
+        assert!(
+            stop_diff <= -(req + 10.0),
+            "{a}->{b}: stopband differs by {stop_diff} dB re DC"
+        );
+        let gd = num(c, "scipy_group_delay_1khz_ms");
+        assert!(
+            (r.group_delay_1khz_ms - gd).abs() < 1e-6,
+            "{a}->{b}: group delay {} ms vs scipy {gd} ms",
+            r.group_delay_1khz_ms
         );
     }
 }

@@ -59,6 +59,18 @@ pub enum Error {
         /// The best measured stopband attenuation, in dB.
         best_db: f64,
     },
+    /// A minimum-phase design would need a prototype longer than can be made minimum
+    /// phase and measured in full.
+    #[error(
+        "a minimum-phase filter of {taps} taps is longer than the {max_taps} taps that can be \
+         derived and measured; ask for less attenuation or a wider transition band"
+    )]
+    MinimumPhaseTooLong {
+        /// Prototype length the request needs.
+        taps: usize,
+        /// Longest minimum-phase prototype.
+        max_taps: usize,
+    },
     /// A converter was asked for zero channels, or more than [`crate::MAX_CHANNELS`].
     #[error("channel count {channels} is out of range (1 to {max})", max = crate::MAX_CHANNELS)]
     ChannelsOutOfRange {

@@ -2,6 +2,7 @@
 //! the kernels' tap layout and entry points, the peak-rate probe, and the response
 //! measurement of the design search. Not a stable API; applications never need it.
 
+pub use crate::filter::minphase;
 pub use crate::filter::response;
 pub use crate::filter::window;
 pub use crate::kernel::{peak, scalar, DotFn, GroupSpan, KernelFns};

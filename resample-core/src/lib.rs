@@ -6,7 +6,8 @@
 //!
 //! * [`RatePair`]: two rates reduced to up/down factors L/M.
 //! * [`FilterSpec`] → [`Design`]: the prototype, its delay ([`Design::delay`]) and its
-//!   [`DesignReport`]; [`FilterSpec::with_taps`] checks and measures a prototype of your own.
+//!   [`DesignReport`]; [`FilterSpec::with_taps`] checks and measures a prototype of your own;
+//!   [`FilterSpec::phase`] asks for linear phase (the default) or minimum phase ([`Phase`]).
 //! * [`StreamConverter`]: chunked, allocation-free, multichannel (planar or interleaved).
 //! * [`offline`]: whole-signal conversion, delay compensated, exact length; [`segments`]:
 //!   one long conversion cut into pieces for several cores, with the same result.
@@ -165,7 +166,7 @@ pub mod internals;
 
 pub use engine::{offline, segments, Progress, StreamConverter};
 pub use error::{Error, Result};
-pub use filter::{Design, DesignReport, FilterSpec};
+pub use filter::{Design, DesignReport, FilterSpec, Phase, GROUP_DELAY_REF_HZ};
 pub use kernel::{Kernel, Sample};
 pub use limits::{MAX_CHANNELS, MAX_RATE};
 pub use ratio::RatePair;

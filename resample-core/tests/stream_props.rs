@@ -72,10 +72,12 @@ proptest! {
     #![proptest_config(ProptestConfig { cases: 48, ..ProptestConfig::default() })]
 
     /// Any chunking of input and output gives output bit-identical to the offline result
-    /// (f64 and f32, interleaved), including chunks of 0 and 1 frames.
+    /// (f64 and f32, interleaved), including chunks of 0 and 1 frames, for linear-phase and
+    /// minimum-phase designs.
     #[test]
     fn chunking_never_changes_a_bit(
         pair in 0usize..common::PAIRS.len(),
+        phase in 0usize..2,
         ch in 1usize..4,
         len in 0usize..3000,
         chunks in proptest::collection::vec(0usize..700, 1..6),
@@ -83,7 +85,7 @@ proptest! {
         seed in any::<u64>(),
     ) {
         let (a, b) = common::PAIRS[pair];
-        let d = common::design(a, b, 80.0);
+        let d = common::design_phase(a, b, 80.0, common::PHASES[phase]);
         let x = noise(len * ch, seed);
         let want = offline::convert_interleaved_with(&d, ch, &x, Kernel::Scalar).unwrap();
         let mut conv = StreamConverter::<f64>::with_kernel(&d, ch, Kernel::Scalar).unwrap();
@@ -167,15 +169,17 @@ proptest! {
         }
     }
 
-    /// Output length is exactly ceil(n L / M), and the queries predict what the stream does.
+    /// Output length is exactly ceil(n L / M), and the queries predict what the stream does
+    /// (both phase responses: the queries read the design's delay).
     #[test]
     fn lengths_and_queries_are_exact(
         pair in 0usize..common::PAIRS.len(),
+        phase in 0usize..2,
         len in 0usize..5000,
         first in 0usize..2000,
     ) {
         let (a, b) = common::PAIRS[pair];
-        let d = common::design(a, b, 60.0);
+        let d = common::design_phase(a, b, 60.0, common::PHASES[phase]);
         let r = RatePair::new(a, b).unwrap();
         let want = (len as u128 * u128::from(r.up())).div_ceil(u128::from(r.down())) as usize;
         prop_assert_eq!(offline::convert(&d, &vec![0.1_f32; len]).len(), want);

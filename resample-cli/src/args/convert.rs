@@ -5,7 +5,7 @@ use std::path::PathBuf;
 use clap::Args;
 
 use super::rate::parse_rate;
-use super::{parse_bits, DitherArg};
+use super::{parse_bits, DitherArg, PhaseArg};
 use crate::batch::Shard;
 
 /// Options of `rerate convert`.
@@ -41,6 +41,10 @@ pub struct ConvertArgs {
     /// [default: tpdf]. Float and 32-bit output are not requantized, so not dithered.
     #[arg(long, value_enum)]
     pub dither: Option<DitherArg>,
+    /// Filter phase: linear (every frequency delayed alike) or minimum (a fraction of the
+    /// delay, varying with frequency; same measured rejection).
+    #[arg(long, value_enum, default_value_t = PhaseArg::Linear)]
+    pub phase: PhaseArg,
     /// Gain in dB applied before conversion (e.g. -1.5 to make room for inter-sample peaks).
     #[arg(
         long,

@@ -5,6 +5,7 @@ use std::path::PathBuf;
 use clap::Args;
 
 use super::rate::parse_rate;
+use super::PhaseArg;
 
 /// Options of `rerate design`.
 #[derive(Debug, Args)]
@@ -21,6 +22,10 @@ pub struct DesignArgs {
     /// Passband edge as a fraction of the lower Nyquist frequency (0.5 to 0.995).
     #[arg(long, default_value_t = resample_core::limits::DEFAULT_PASSBAND)]
     pub passband: f64,
+    /// Filter phase: linear (every frequency delayed alike) or minimum (a fraction of the
+    /// delay, varying with frequency; same measured rejection).
+    #[arg(long, value_enum, default_value_t = PhaseArg::Linear)]
+    pub phase: PhaseArg,
     /// Print the report as one JSON object.
     #[arg(long)]
     pub json: bool,

@@ -51,6 +51,26 @@ pub enum Command {
     Tradeoff(tradeoff::TradeoffArgs),
 }
 
+/// `--phase`: the filter's phase response.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum PhaseArg {
+    /// Linear phase: every frequency delayed alike, by half the filter (the default).
+    Linear,
+    /// Minimum phase: the same magnitude response with a fraction of the delay, which then
+    /// varies with frequency.
+    Minimum,
+}
+
+impl PhaseArg {
+    /// The core's phase for this choice.
+    pub fn phase(self) -> resample_core::Phase {
+        match self {
+            Self::Linear => resample_core::Phase::Linear,
+            Self::Minimum => resample_core::Phase::Minimum,
+        }
+    }
+}
+
 /// Dither choices.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
 pub enum DitherArg {

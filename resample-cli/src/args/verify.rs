@@ -4,7 +4,7 @@ use clap::Args;
 use resample_core::measure;
 
 use super::rate::parse_rate;
-use super::{parse_bits, ReportArgs};
+use super::{parse_bits, PhaseArg, ReportArgs};
 
 /// Options of `rerate verify`.
 #[derive(Debug, Args)]
@@ -29,6 +29,10 @@ pub struct VerifyArgs {
     /// Passband edge as a fraction of the lower Nyquist frequency (0.5 to 0.995).
     #[arg(long, default_value_t = resample_core::limits::DEFAULT_PASSBAND)]
     pub passband: f64,
+    /// Filter phase: linear (every frequency delayed alike) or minimum (a fraction of the
+    /// delay, varying with frequency; same measured rejection).
+    #[arg(long, value_enum, default_value_t = PhaseArg::Linear)]
+    pub phase: PhaseArg,
     /// Sweep duration in seconds (longer sweeps resolve the stopband edge more finely).
     #[arg(long, default_value_t = measure::DEFAULT_SECONDS)]
     pub seconds: f64,

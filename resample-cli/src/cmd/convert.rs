@@ -82,6 +82,7 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
         out_rate: args.out_rate,
         stopband_db: args.stopband_db,
         passband: args.passband,
+        phase: args.phase.phase(),
         encoding,
         dither: args.dither.unwrap_or(DitherArg::Tpdf).dither(),
         gain_db: args.gain,

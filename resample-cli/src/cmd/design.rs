@@ -19,6 +19,7 @@ pub fn run(args: &DesignArgs) -> Result<Status> {
     let design = FilterSpec::new(args.in_rate, args.out_rate)
         .stopband_db(args.stopband_db)
         .passband(args.passband)
+        .phase(args.phase.phase())
         .design()
         .context("cannot design the filter")?;
     if let Some(path) = &args.export {
@@ -32,9 +33,9 @@ pub fn run(args: &DesignArgs) -> Result<Status> {
     let r = design.report();
     let mut out = std::io::stdout().lock();
     if args.json {
-        writeln!(out, "{}", report_json(r))?;
+        writeln!(out, "{}", report_json(r, design.spec().phase_response()))?;
     } else {
-        write!(out, "{}", report_text(r))?;
+        write!(out, "{}", report_text(r, design.spec().phase_response()))?;
         if let Some(path) = &args.export {
             writeln!(out, "taps written to {}", path.display())?;
         }

@@ -13,6 +13,7 @@ use crate::quality::{self, Precision};
 
 use crate::args::check_filter;
 use crate::args::verify::VerifyArgs;
+use crate::args::PhaseArg;
 use crate::convert::run_engine;
 use crate::exit::Status;
 use crate::report::format::{num, small_db};
@@ -34,7 +35,8 @@ pub fn run(args: &VerifyArgs) -> Result<Status> {
         .unwrap_or_else(|| quality::default_stopband_db(encoding));
     let spec = FilterSpec::new(args.in_rate, args.out_rate)
         .stopband_db(requested)
-        .passband(args.passband);
+        .passband(args.passband)
+        .phase(args.phase.phase());
     let design = spec.design().context("cannot design the filter")?;
     // The same rule `convert` follows (resample_cli::quality).
     let precision = quality::precision_for(requested);
@@ -83,6 +85,17 @@ pub fn run(args: &VerifyArgs) -> Result<Status> {
             "design_latency_samples".into(),
             num(r.latency_output_frames),
         );
+        if args.phase == PhaseArg::Minimum {
+            o.insert("phase".into(), json!("minimum"));
+            o.insert(
+                "design_group_delay_1khz_ms".into(),
+                num(r.group_delay_1khz_ms),
+            );
+            o.insert(
+                "design_group_delay_variation_ms".into(),
+                num(r.group_delay_variation_ms),
+            );
+        }
         o.insert("precision".into(), json!(precision.to_string()));
         o.insert("sweep_seconds".into(), json!(args.seconds));
         o.insert("pass".into(), json!(pass));
@@ -106,6 +119,14 @@ pub fn run(args: &VerifyArgs) -> Result<Status> {
             "{:<22}{:.2} output samples ({:.3} ms) of filter delay in a live stream (design)",
             "", r.latency_output_frames, r.latency_ms
         )?;
+        if args.phase == PhaseArg::Minimum {
+            writeln!(
+                out,
+                "{:<22}minimum phase: group delay {:.3} ms at 1 kHz, varies by {:.3} ms over \
+                 the passband (design)",
+                "", r.group_delay_1khz_ms, r.group_delay_variation_ms
+            )?;
+        }
         let mark = |ok: bool| if ok { "ok" } else { "FAILED" };
         writeln!(
             out,

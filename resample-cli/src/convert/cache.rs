@@ -1,12 +1,12 @@
-//! Filter designs shared by the files of a batch: each distinct (rates, stopband, passband)
-//! is designed once.
+//! Filter designs shared by the files of a batch: each distinct (rates, stopband, passband,
+//! phase) is designed once.
 
 use std::collections::HashMap;
 use std::sync::{Arc, Mutex};
 
-use resample_core::{Design, FilterSpec};
+use resample_core::{Design, FilterSpec, Phase};
 
-type Key = (u32, u32, u64, u64);
+type Key = (u32, u32, u64, u64, Phase);
 
 /// A thread-safe cache of designs.
 #[derive(Debug, Default)]
@@ -27,8 +27,15 @@ impl DesignCache {
         out_rate: u32,
         stopband_db: f64,
         passband: f64,
+        phase: Phase,
     ) -> Result<Arc<Design>, resample_core::Error> {
-        let key = (in_rate, out_rate, stopband_db.to_bits(), passband.to_bits());
+        let key = (
+            in_rate,
+            out_rate,
+            stopband_db.to_bits(),
+            passband.to_bits(),
+            phase,
+        );
         // Designing under the lock keeps two threads from designing the same filter; designs
         // take well under a second.
         let mut map = match self.map.lock() {
@@ -42,6 +49,7 @@ impl DesignCache {
             FilterSpec::new(in_rate, out_rate)
                 .stopband_db(stopband_db)
                 .passband(passband)
+                .phase(phase)
                 .design()?,
         );
         map.insert(key, Arc::clone(&d));

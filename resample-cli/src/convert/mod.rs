@@ -11,7 +11,7 @@ use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::Arc;
 use std::time::Instant;
 
-use resample_core::{Design, Sample, StreamConverter};
+use resample_core::{Design, Phase, Sample, StreamConverter};
 
 pub use crate::report::file::{FileReport, Overs};
 pub use cache::DesignCache;
@@ -34,6 +34,8 @@ pub struct Settings {
     pub stopband_db: Option<f64>,
     /// Passband edge, fraction of the lower Nyquist frequency.
     pub passband: f64,
+    /// The filter's phase response.
+    pub phase: Phase,
     /// Output encoding; `None` keeps the input's.
     pub encoding: Option<Encoding>,
     /// Dither for integer output.
@@ -55,13 +57,14 @@ pub struct Settings {
 }
 
 impl Settings {
-    /// Defaults for `out_rate`: stopband by format, passband 0.91, keep the encoding, TPDF
-    /// dither, no gain, refuse non-finite samples, never overwrite, pipelined.
+    /// Defaults for `out_rate`: stopband by format, passband 0.91, linear phase, keep the
+    /// encoding, TPDF dither, no gain, refuse non-finite samples, never overwrite, pipelined.
     pub fn new(out_rate: u32) -> Self {
         Self {
             out_rate,
             stopband_db: None,
             passband: resample_core::limits::DEFAULT_PASSBAND,
+            phase: Phase::Linear,
             encoding: None,
             dither: Dither::Tpdf,
             gain_db: 0.0,
@@ -193,6 +196,7 @@ fn convert_input(
             settings.out_rate,
             stopband,
             settings.passband,
+            settings.phase,
         )?;
         let opts = WriterOptions {
             sample_rate: settings.out_rate,

@@ -1,14 +1,16 @@
-//! The design report (`rerate design`): aligned text, or one JSON object.
+//! The design report (`rerate design`): aligned text, or one JSON object. A minimum-phase
+//! design adds its phase, its group delay at 1 kHz and the passband group-delay variation
+//! (a linear-phase report is unchanged: its group delay is the latency, flat).
 
-use resample_core::DesignReport;
+use resample_core::{DesignReport, Phase};
 use serde_json::json;
 
 use super::format::{fmt_db, fmt_ripple};
 
 /// The report as a JSON value (non-finite numbers become null).
-pub fn report_json(r: &DesignReport) -> serde_json::Value {
+pub fn report_json(r: &DesignReport, phase: Phase) -> serde_json::Value {
     let finite = |v: f64| if v.is_finite() { json!(v) } else { json!(null) };
-    json!({
+    let mut v = json!({
         "in_rate": r.in_rate,
         "out_rate": r.out_rate,
         "up": r.up,
@@ -31,11 +33,22 @@ pub fn report_json(r: &DesignReport) -> serde_json::Value {
         "latency_ms": r.latency_ms,
         "table_bytes_f32": r.table_bytes_f32,
         "table_bytes_f64": r.table_bytes_f64,
-    })
+    });
+    if phase == Phase::Minimum {
+        if let Some(o) = v.as_object_mut() {
+            o.insert("phase".into(), json!("minimum"));
+            o.insert("group_delay_1khz_ms".into(), finite(r.group_delay_1khz_ms));
+            o.insert(
+                "group_delay_variation_ms".into(),
+                finite(r.group_delay_variation_ms),
+            );
+        }
+    }
+    v
 }
 
 /// The report as aligned text.
-pub fn report_text(r: &DesignReport) -> String {
+pub fn report_text(r: &DesignReport, phase: Phase) -> String {
     let mut s = String::new();
     let mut line = |k: &str, v: String| s.push_str(&format!("{k:<22}{v}\n"));
     line("rates", format!("{} Hz -> {} Hz", r.in_rate, r.out_rate));
@@ -76,6 +89,16 @@ pub fn report_text(r: &DesignReport) -> String {
             r.latency_input_frames, r.latency_output_frames, r.latency_ms
         ),
     );
+    if phase == Phase::Minimum {
+        line(
+            "phase",
+            format!(
+                "minimum: group delay {:.3} ms at 1 kHz (the latency above, rounded to a \
+                 tap), varies by {:.3} ms over the passband",
+                r.group_delay_1khz_ms, r.group_delay_variation_ms
+            ),
+        );
+    }
     line(
         "table memory",
         format!(

@@ -170,7 +170,7 @@ pub fn convert_segment<T: Sample>(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::FilterSpec;
+    use crate::{FilterSpec, Phase};
 
     /// One converter over everything, in blocks, then flushed.
     fn straight<T: Sample>(design: &Design, x: &[T], ch: usize) -> Vec<T> {
@@ -221,8 +221,20 @@ mod tests {
     }
 
     fn check<T: Sample>(in_rate: u32, out_rate: u32, db: f64, ch: usize, frames: usize) {
+        check_phase::<T>(in_rate, out_rate, db, ch, frames, Phase::Linear);
+    }
+
+    fn check_phase<T: Sample>(
+        in_rate: u32,
+        out_rate: u32,
+        db: f64,
+        ch: usize,
+        frames: usize,
+        phase: Phase,
+    ) {
         let design = FilterSpec::new(in_rate, out_rate)
             .stopband_db(db)
+            .phase(phase)
             .design()
             .unwrap();
         let x: Vec<T> = (0..frames * ch)
@@ -263,5 +275,15 @@ mod tests {
         // Shorter than one segment, and exactly one segment long.
         check::<f64>(44_100, 48_000, 100.0, 2, 5_000);
         check::<f64>(44_100, 48_000, 100.0, 2, 32_781);
+    }
+
+    #[test]
+    fn minimum_phase_segments_give_the_straight_result_bit_for_bit() {
+        let min = Phase::Minimum;
+        check_phase::<f64>(44_100, 48_000, 140.0, 2, 200_000, min);
+        check_phase::<f32>(48_000, 44_100, 120.0, 1, 150_001, min);
+        check_phase::<f32>(44_100, 16_000, 110.0, 2, 100_000, min);
+        check_phase::<f64>(96_000, 48_000, 120.0, 2, 100_003, min);
+        check_phase::<f64>(44_100, 48_000, 100.0, 2, 5_000, min);
     }
 }

@@ -1,11 +1,16 @@
 //! From a filter spec to an odd-length, symmetric Kaiser-windowed-sinc prototype whose
-//! stopband is *measured* to meet the request (the lengthening search), the report that states
-//! what was built, and the design's delay, stated explicitly for every consumer.
+//! stopband is *measured* to meet the request (the lengthening search), or to the
+//! minimum-phase filter derived from it (measured and lengthened the same way), the report
+//! that states what was built, and the design's delay, stated explicitly for every consumer.
 
 use rayon::prelude::*;
 
-use super::response::{Measurer, MAX_MEASURE_FFT, OVERSAMPLE};
-use super::spec::FilterSpec;
+use super::minphase::{fft_len, minimum_phase_on};
+use super::minphase::{CEPSTRUM_OVERSAMPLE, MAX_CEPSTRUM_FFT};
+use super::response::{
+    group_delay, group_delay_range, ripple_allowance_db, Measurer, MAX_MEASURE_FFT, OVERSAMPLE,
+};
+use super::spec::{FilterSpec, Phase};
 use super::window::{bessel_i0, kaiser_at, kaiser_length};
 use crate::limits::{
     MAX_PASSBAND, MAX_STOPBAND_DB, MIN_PASSBAND, MIN_STOPBAND_DB, PHASE_ALIGN, SURROGATE_MARGIN_DB,
@@ -15,6 +20,42 @@ use crate::{Error, RatePair, Result};
 /// Most attempts the design loop makes before giving up with [`Error::DesignNotMet`].
 const MAX_ATTEMPTS: usize = 40;
 
+/// Frequency at which the report states the group delay, and at which a minimum-phase
+/// design's delay is taken (Hz; half the passband edge when that is lower).
+pub const GROUP_DELAY_REF_HZ: f64 = 1000.0;
+
+/// Frequencies at which the passband group delay is evaluated for its variation (plus one).
+const GROUP_DELAY_POINTS: usize = 1024;
+
+/// Longest prototype made minimum phase: both its cepstrum's DFT and its full measurement
+/// must fit.
+const MAX_MINIMUM_PHASE_TAPS: usize = {
+    let a = MAX_CEPSTRUM_FFT / CEPSTRUM_OVERSAMPLE;
+    let b = MAX_MEASURE_FFT / OVERSAMPLE;
+    if a < b {
+        a
+    } else {
+        b
+    }
+};
+
+/// The reference frequency of the group delay for a passband edge `f_pass` (Hz).
+fn group_delay_ref(f_pass: f64) -> f64 {
+    GROUP_DELAY_REF_HZ.min(0.5 * f_pass)
+}
+
+/// Group delay at the reference frequency and its passband variation, in prototype taps,
+/// of `taps` at rate `proto_rate`. A symmetric odd-length prototype delays every frequency
+/// by its centre tap exactly.
+fn group_delays(taps: &[f64], proto_rate: f64, f_pass: f64) -> (f64, f64) {
+    let n = taps.len();
+    if n % 2 == 1 && (0..n / 2).all(|i| taps[i] == taps[n - 1 - i]) {
+        return ((n / 2) as f64, 0.0);
+    }
+    let at_ref = group_delay(taps, group_delay_ref(f_pass) / proto_rate);
+    let (lo, hi) = group_delay_range(taps, f_pass / proto_rate, GROUP_DELAY_POINTS);
+    (at_ref, hi - lo)
+}
 impl FilterSpec {
     /// Check the spec and design the filter.
     pub fn design(&self) -> Result<Design> {
@@ -106,6 +147,7 @@ impl FilterSpec {
         let m = super::response::measure(&taps, f_pass / proto_rate, nyq / proto_rate);
         let tpp = (len as u64).div_ceil(up) as usize;
         let latency_in = delay as f64 / up as f64;
+        let (gd_ref, gd_var) = group_delays(&taps, proto_rate, f_pass);
         let report = DesignReport {
             in_rate: pair.in_rate(),
             out_rate: pair.out_rate(),
@@ -127,6 +169,8 @@ impl FilterSpec {
             latency_input_frames: latency_in,
             latency_output_frames: delay as f64 / down as f64,
             latency_ms: 1000.0 * latency_in / in_rate,
+            group_delay_1khz_ms: 1000.0 * gd_ref / proto_rate,
+            group_delay_variation_ms: 1000.0 * gd_var / proto_rate,
             table_bytes_f32: table_bytes(len, up, down, delay as usize, 4),
             table_bytes_f64: bytes_f64,
         };
@@ -188,6 +232,13 @@ pub struct DesignReport {
     pub latency_output_frames: f64,
     /// Delay in milliseconds.
     pub latency_ms: f64,
+    /// Group delay of the prototype at 1 kHz ([`GROUP_DELAY_REF_HZ`]; at half the passband
+    /// edge when that is lower), milliseconds. For a linear-phase prototype it is the delay
+    /// itself at every frequency.
+    pub group_delay_1khz_ms: f64,
+    /// Largest minus smallest group delay of the prototype over the passband (0 Hz to the
+    /// passband edge, 1025 evenly spaced frequencies), milliseconds: 0 for linear phase.
+    pub group_delay_variation_ms: f64,
     /// Bytes of the converter's tap table in `f32`, arranged for 512-bit vectors (16
     /// outputs per group).
     pub table_bytes_f32: u64,
@@ -217,16 +268,22 @@ impl Design {
         self.spec
     }
 
-    /// The prototype taps (odd length, symmetric, unity DC gain, at rate `L * in_rate`).
-    /// The engine uses exactly these values times L.
+    /// The prototype taps (unity DC gain, at rate `L * in_rate`): odd length and symmetric
+    /// for [`Phase::Linear`], the minimum-phase filter of the same length and magnitude for
+    /// [`Phase::Minimum`]. The engine uses exactly these values times L.
     pub fn taps(&self) -> &[f64] {
         &self.taps
     }
 
     /// The filter's delay, in taps of the prototype (at rate `L * in_rate`): output 0 is
     /// aligned with input 0 through this tap. Every engine and every delay compensation reads
-    /// the delay from here; for the linear-phase prototypes designed here it is the centre
-    /// tap, `(taps - 1) / 2`.
+    /// the delay from here. For the linear-phase prototypes designed here it is the centre
+    /// tap, `(taps - 1) / 2`, the delay of every frequency. A minimum-phase filter delays
+    /// each frequency differently; its delay is its group delay at 1 kHz
+    /// ([`GROUP_DELAY_REF_HZ`], or half the passband edge when that is lower) rounded to a
+    /// whole tap, so that offline conversion keeps tones near there aligned with the input
+    /// to within half a prototype tap (higher tones come later by the group delay's
+    /// variation, [`DesignReport::group_delay_variation_ms`]).
     pub fn delay(&self) -> u64 {
         self.delay
     }
@@ -259,6 +316,8 @@ impl Design {
             latency_input_frames: 0.0,
             latency_output_frames: 0.0,
             latency_ms: 0.0,
+            group_delay_1khz_ms: 0.0,
+            group_delay_variation_ms: 0.0,
             table_bytes_f32: table_bytes(1, 1, 1, 0, 4),
             table_bytes_f64: table_bytes(1, 1, 1, 0, 8),
         };
@@ -333,6 +392,7 @@ pub(super) fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> 
     let (formula_taps, _) = kaiser_length(requested, width);
     let formula_taps_per_phase = (formula_taps as u64).div_ceil(up) as usize;
 
+    let minimum = spec.phase == Phase::Minimum;
     let mut target = requested;
     let mut best = f64::NEG_INFINITY;
     // One set of FFT plans and buffers for every attempt.
@@ -355,6 +415,12 @@ pub(super) fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> 
         // per input sample; its response over the band that matters is the same.
         let (m_phases, m_half) = if len * OVERSAMPLE <= MAX_MEASURE_FFT {
             (up, half)
+        } else if minimum {
+            // A minimum-phase filter is measured as it is, never on a resampled copy.
+            return Err(Error::MinimumPhaseTooLong {
+                taps: len,
+                max_taps: MAX_MINIMUM_PHASE_TAPS,
+            });
         } else {
             let phases = ((MAX_MEASURE_FFT / OVERSAMPLE) as u64 / (2 * tpp as u64 + 2)).max(64);
             let h = (half as f64 * phases as f64 / up as f64).round() as usize;
@@ -365,11 +431,36 @@ pub(super) fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> 
             || measurer.prepare(2 * m_half + 1),
             || windowed_sinc(m_phases, m_half, cutoff, beta),
         );
-        let m = measurer.measure(
-            &probe,
+        if minimum && len > MAX_MINIMUM_PHASE_TAPS {
+            return Err(Error::MinimumPhaseTooLong {
+                taps: len,
+                max_taps: MAX_MINIMUM_PHASE_TAPS,
+            });
+        }
+        // The minimum-phase filter is derived from the whole Kaiser prototype and measured
+        // itself (m_phases == up here).
+        let (pass, stop) = (
             f_pass / (in_rate * m_phases as f64),
             f_stop / (in_rate * m_phases as f64),
         );
+        let (probe, m) = if minimum {
+            // The cepstrum's DFT doubles (up to its limit) until the derived filter's
+            // measured passband ripple is within the allowance for the request (the
+            // aliased cepstrum shows first as passband ripple).
+            let allowed = ripple_allowance_db(requested);
+            let mut n = fft_len(len);
+            loop {
+                let g = minimum_phase_on(&probe, n);
+                let m = measurer.measure(&g, pass, stop);
+                if m.ripple_db() <= allowed || 2 * n > MAX_CEPSTRUM_FFT {
+                    break (g, m);
+                }
+                n *= 2;
+            }
+        } else {
+            let m = measurer.measure(&probe, pass, stop);
+            (probe, m)
+        };
         let got = m.stopband_db();
         best = best.max(got);
         let needed = if m_phases == up {
@@ -383,7 +474,27 @@ pub(super) fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> 
             } else {
                 windowed_sinc(up, half, cutoff, beta)
             };
-            let latency_in = half as f64 / up as f64;
+            let (gd_ref, gd_var) = if minimum {
+                group_delays(&taps, proto_rate, f_pass)
+            } else {
+                (half as f64, 0.0)
+            };
+            let delay = if minimum {
+                // Group delay at 1 kHz, rounded to a whole tap (inside the prototype).
+                gd_ref.round().clamp(0.0, (len - 1) as f64) as usize
+            } else {
+                half
+            };
+            let bytes_f64 = table_bytes(len, up, pair.down().into(), delay, 8);
+            if bytes_f64 > spec.table_budget {
+                return Err(Error::TableTooLarge {
+                    up,
+                    down: pair.down().into(),
+                    needed_bytes: bytes_f64,
+                    budget_bytes: spec.table_budget,
+                });
+            }
+            let latency_in = delay as f64 / up as f64;
             let report = DesignReport {
                 in_rate: pair.in_rate(),
                 out_rate: pair.out_rate(),
@@ -403,16 +514,18 @@ pub(super) fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> 
                 measured_on_phases: m_phases,
                 attempts: attempt,
                 latency_input_frames: latency_in,
-                latency_output_frames: half as f64 / f64::from(pair.down()),
+                latency_output_frames: delay as f64 / f64::from(pair.down()),
                 latency_ms: 1000.0 * latency_in / in_rate,
-                table_bytes_f32: table_bytes(len, up, pair.down().into(), half, 4),
+                group_delay_1khz_ms: 1000.0 * gd_ref / proto_rate,
+                group_delay_variation_ms: 1000.0 * gd_var / proto_rate,
+                table_bytes_f32: table_bytes(len, up, pair.down().into(), delay, 4),
                 table_bytes_f64: bytes_f64,
             };
             return Ok(Design {
                 pair,
                 spec,
                 taps,
-                delay: half as u64,
+                delay: delay as u64,
                 report,
             });
         }

@@ -1,11 +1,13 @@
-//! The conversion filter: what is asked ([`FilterSpec`]), the Kaiser window and the
-//! windowed-sinc prototype, the measured lengthening search, the response measurement, and
+//! The conversion filter: what is asked ([`FilterSpec`], [`Phase`]), the Kaiser window and
+//! the windowed-sinc prototype, its minimum-phase form (`minphase`), the measured
+//! lengthening search, the response and group-delay measurement, and
 //! what was built ([`Design`], [`DesignReport`]), including the delay every engine reads.
 
 mod design;
+pub mod minphase;
 pub mod response;
 mod spec;
 pub mod window;
 
-pub use design::{Design, DesignReport};
-pub use spec::FilterSpec;
+pub use design::{Design, DesignReport, GROUP_DELAY_REF_HZ};
+pub use spec::{FilterSpec, Phase};

@@ -1,5 +1,7 @@
-//! Measuring a symmetric FIR prototype's magnitude response on a dense grid (zero-padded FFT
-//! with peak refinement), so that a design's stopband and ripple are measured, not assumed.
+//! Measuring an FIR prototype's magnitude response on a dense grid (zero-padded FFT with peak
+//! refinement), so that a design's stopband and ripple are measured, not assumed, and its
+//! group delay. Symmetric (linear-phase) prototypes take a faster exact evaluation; any other
+//! prototype (minimum phase) is evaluated in full.
 
 use std::sync::Arc;
 
@@ -457,6 +459,71 @@ fn cos_sin_sums(h: &[f64], w: f64, start: usize) -> (f64, f64) {
     (re.iter().sum(), im.iter().sum())
 }
 
+/// The passband ripple (dB peak to peak) allowed a filter with `stopband_db` of stopband
+/// attenuation: `20 log10((1 + 2 d) / (1 - 2 d))`, `d = 10^(-A / 20)` (the allowance
+/// `measure::ripple_limit_db` documents, which reads it here; a minimum-phase design keeps
+/// its derived prototype's ripple within it).
+pub fn ripple_allowance_db(stopband_db: f64) -> f64 {
+    let d = 2.0 * 10f64.powf(-stopband_db / 20.0);
+    if d >= 1.0 {
+        f64::INFINITY
+    } else {
+        20.0 * ((1.0 + d) / (1.0 - d)).log10()
+    }
+}
+
+/// Group delay of `taps` (at sample rate 1) at frequency `f` (fraction of the rate), in
+/// samples: `Re(D(f) / H(f))` with `H(f) = sum_n h[n] e^{-j 2 pi f n}` and
+/// `D(f) = sum_n n h[n] e^{-j 2 pi f n}` (the derivative of the phase, common practice, no
+/// source). NaN where `H(f) = 0`.
+pub fn group_delay(taps: &[f64], f: f64) -> f64 {
+    GroupDelay::new(taps).at(f)
+}
+
+/// Smallest and largest group delay of `taps` (samples) over `[0, pass]` (fraction of the
+/// rate), evaluated at `points + 1` evenly spaced frequencies including both ends, in
+/// parallel.
+pub fn group_delay_range(taps: &[f64], pass: f64, points: usize) -> (f64, f64) {
+    let gd = GroupDelay::new(taps);
+    let points = points.max(1);
+    (0..=points)
+        .into_par_iter()
+        .map(|i| gd.at(pass * i as f64 / points as f64))
+        .fold(
+            || (f64::INFINITY, f64::NEG_INFINITY),
+            |(lo, hi), v| (lo.min(v), hi.max(v)),
+        )
+        .reduce(
+            || (f64::INFINITY, f64::NEG_INFINITY),
+            |a, b| (a.0.min(b.0), a.1.max(b.1)),
+        )
+}
+
+/// The sums a group delay needs, with `n h[n]` computed once.
+struct GroupDelay<'a> {
+    taps: &'a [f64],
+    weighted: Vec<f64>,
+}
+
+impl<'a> GroupDelay<'a> {
+    fn new(taps: &'a [f64]) -> Self {
+        let weighted = taps
+            .iter()
+            .enumerate()
+            .map(|(n, &h)| n as f64 * h)
+            .collect();
+        Self { taps, weighted }
+    }
+
+    fn at(&self, f: f64) -> f64 {
+        let w = 2.0 * core::f64::consts::PI * f;
+        // e^{-j w n} = cos - j sin: H = (c, -s), D = (dc, -ds).
+        let (c, s) = cos_sin_sums(self.taps, w, 0);
+        let (dc, ds) = cos_sin_sums(&self.weighted, w, 0);
+        (dc * c + ds * s) / (c * c + s * s)
+    }
+}
+
 /// A filter's exact magnitude response, with its symmetry found once for many frequencies.
 struct Response<'a> {
     taps: &'a [f64],
@@ -560,6 +627,56 @@ mod tests {
                 );
             }
         }
+    }
+
+    #[test]
+    fn asymmetric_taps_are_measured_in_full() {
+        // A causal, asymmetric filter: the exact response against the plain DFT at the bins
+        // of a 4096-point grid, and the measured stopband against the grid's largest value
+        // (the refined peak may only be higher, by at most the grid's loss).
+        let taps: Vec<f64> = (0..300)
+            .map(|n| (-(n as f64) / 40.0).exp() * (0.3 * n as f64).cos())
+            .collect();
+        let resp = Response::new(&taps);
+        assert!(!resp.symmetric);
+        let want = direct(&taps, 4096);
+        for k in (0..=2048).step_by(37) {
+            let got = resp.at(k as f64 / 4096.0);
+            assert!(
+                (got - want[k]).abs() < 1e-12,
+                "bin {k}: {got} vs {}",
+                want[k]
+            );
+        }
+        let m = measure(&taps, 0.01, 0.2);
+        let grid_peak = want[(0.2_f64 * 4096.0).ceil() as usize..]
+            .iter()
+            .cloned()
+            .fold(0.0, f64::max);
+        assert!(m.stopband_peak >= grid_peak && m.stopband_peak < grid_peak * 1.2);
+        assert!((m.dc - want[0]).abs() < 1e-12);
+    }
+
+    #[test]
+    fn group_delay_of_known_filters() {
+        // A symmetric filter of length N delays every frequency by (N - 1) / 2 samples; a
+        // one-pole-like decaying filter h[n] = a^n (n < N, large N) has group delay
+        // a (cos w - a) / (1 - 2 a cos w + a^2) (differentiate the phase of 1 / (1 - a
+        // e^{-jw}); standard result, any DSP text).
+        let sym = [0.1, 0.2, 0.4, 0.2, 0.1];
+        for f in [0.0, 0.05, 0.2] {
+            assert!((group_delay(&sym, f) - 2.0).abs() < 1e-12);
+        }
+        let a: f64 = 0.7;
+        let h: Vec<f64> = (0..200).map(|n| a.powi(n)).collect();
+        for f in [0.0, 0.1, 0.3] {
+            let w = 2.0 * core::f64::consts::PI * f;
+            let want = a * (w.cos() - a) / (1.0 - 2.0 * a * w.cos() + a * a);
+            assert!((group_delay(&h, f) - want).abs() < 1e-9, "{f}");
+        }
+        let (lo, hi) = group_delay_range(&h, 0.3, 64);
+        let at = |f: f64| group_delay(&h, f);
+        assert!(lo <= at(0.3) && hi >= at(0.0) && lo < hi);
     }
 
     #[test]

@@ -1,7 +1,25 @@
 //! What a caller asks of a conversion filter: the rate pair, the stopband attenuation, the
-//! passband edge and the memory budget, checked only when a design is asked for.
+//! passband edge, the phase response and the memory budget, checked only when a design is
+//! asked for.
 
 use crate::limits::{DEFAULT_PASSBAND, DEFAULT_STOPBAND_DB, DEFAULT_TABLE_BUDGET};
+
+/// The phase response of a designed filter.
+///
+/// Both have the same magnitude response (the minimum-phase prototype is derived from the
+/// linear-phase one and measured on its own); they differ in when the output responds.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Default)]
+pub enum Phase {
+    /// Symmetric taps: every frequency is delayed by the same time, half the prototype's
+    /// length (the default).
+    #[default]
+    Linear,
+    /// The minimum-phase filter with the same magnitude response: most of its energy comes
+    /// first, so the delay is a fraction of the linear-phase one, but it varies with
+    /// frequency (largest near the passband edge). See [`crate::Design::delay`] for the
+    /// delay conversions compensate.
+    Minimum,
+}
 
 /// What the user asks of a conversion filter.
 ///
@@ -18,6 +36,7 @@ pub struct FilterSpec {
     pub(crate) stopband_db: f64,
     pub(crate) passband: f64,
     pub(crate) table_budget: u64,
+    pub(crate) phase: Phase,
 }
 
 impl FilterSpec {
@@ -31,6 +50,7 @@ impl FilterSpec {
             stopband_db: DEFAULT_STOPBAND_DB,
             passband: DEFAULT_PASSBAND,
             table_budget: DEFAULT_TABLE_BUDGET,
+            phase: Phase::Linear,
         }
     }
 
@@ -50,6 +70,28 @@ impl FilterSpec {
     pub fn table_budget_bytes(mut self, bytes: u64) -> Self {
         self.table_budget = bytes;
         self
+    }
+
+    /// Phase response of the designed filter ([`Phase::Linear`] unless asked). Applies to
+    /// [`FilterSpec::design`]; a prototype given to [`FilterSpec::with_taps`] keeps its own.
+    ///
+    /// ```
+    /// use resample_core::{FilterSpec, Phase};
+    /// let spec = FilterSpec::new(44_100, 48_000).stopband_db(100.0);
+    /// let lin = spec.design()?;
+    /// let min = spec.phase(Phase::Minimum).design()?;
+    /// assert!(min.report().measured_stopband_db >= 100.0);
+    /// assert!(min.report().group_delay_1khz_ms < 0.25 * lin.report().group_delay_1khz_ms);
+    /// # Ok::<(), resample_core::Error>(())
+    /// ```
+    pub fn phase(mut self, phase: Phase) -> Self {
+        self.phase = phase;
+        self
+    }
+
+    /// The phase response asked for.
+    pub fn phase_response(&self) -> Phase {
+        self.phase
     }
 
     /// Input rate in Hz.

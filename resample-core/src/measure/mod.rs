@@ -75,12 +75,7 @@ pub const FLOOR_DBFS: f64 = -400.0;
 /// the factor 2 covers the approximation in Kaiser's formulas. A converter whose passband
 /// deviates more than this from flat has a fault that its stopband figure does not show.
 pub fn ripple_limit_db(stopband_db: f64) -> f64 {
-    let d = 2.0 * 10f64.powf(-stopband_db / 20.0);
-    if d >= 1.0 {
-        f64::INFINITY
-    } else {
-        20.0 * ((1.0 + d) / (1.0 - d)).log10()
-    }
+    crate::filter::response::ripple_allowance_db(stopband_db)
 }
 
 /// What to measure beyond the defaults.

@@ -3,22 +3,36 @@
 use std::collections::HashMap;
 use std::sync::{Mutex, OnceLock};
 
-use resample_core::{Design, FilterSpec};
+use resample_core::{Design, FilterSpec, Phase};
 
-type Cache = Mutex<HashMap<(u32, u32, u64), Design>>;
+type Cache = Mutex<HashMap<(u32, u32, u64, Phase), Design>>;
 
-/// A design for (in, out, dB), made once per test binary.
+/// A linear-phase design for (in, out, dB), made once per test binary.
+#[allow(dead_code)] // not every test binary uses every helper
 pub fn design(a: u32, b: u32, db: f64) -> Design {
+    design_phase(a, b, db, Phase::Linear)
+}
+
+/// A design for (in, out, dB, phase), made once per test binary.
+pub fn design_phase(a: u32, b: u32, db: f64, phase: Phase) -> Design {
     static CACHE: OnceLock<Cache> = OnceLock::new();
     let cache = CACHE.get_or_init(|| Mutex::new(HashMap::new()));
-    let key = (a, b, db.to_bits());
+    let key = (a, b, db.to_bits(), phase);
     if let Some(d) = cache.lock().unwrap().get(&key) {
         return d.clone();
     }
-    let d = FilterSpec::new(a, b).stopband_db(db).design().unwrap();
+    let d = FilterSpec::new(a, b)
+        .stopband_db(db)
+        .phase(phase)
+        .design()
+        .unwrap();
     cache.lock().unwrap().insert(key, d.clone());
     d
 }
+
+#[allow(dead_code)] // not every test binary uses every helper
+/// Both phase responses, for tests that run over either.
+pub const PHASES: [Phase; 2] = [Phase::Linear, Phase::Minimum];
 
 #[allow(dead_code)] // not every test binary uses every helper
 /// Rate pairs used across the tests: up, down, equal, large and small factors.

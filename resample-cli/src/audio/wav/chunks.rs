@@ -381,7 +381,9 @@ mod tests {
             .to_string();
         assert!(e.contains("declares 2147483647 bytes"), "{e}");
         // A stream finds out by reading (bounded by the bytes there are).
-        let e = scan(&mut stream_12(&v), None, false).unwrap_err().to_string();
+        let e = scan(&mut stream_12(&v), None, false)
+            .unwrap_err()
+            .to_string();
         assert!(
             e.contains("declares 2147483647 bytes but only 4 follow"),
             "{e}"
