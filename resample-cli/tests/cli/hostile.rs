@@ -303,7 +303,7 @@ fn skip_existing_counts_an_output_another_run_finished_as_skipped() {
     let b = command()
         .current_dir(d)
         .args(["convert", "a.fifo", "--out-rate", "16k", "-o", "out.wav"])
-        .arg("--skip-existing")
+        .args(["--skip-existing", "--json"])
         .stdout(Stdio::piped())
         .stderr(Stdio::piped())
         .spawn()
@@ -324,7 +324,13 @@ fn skip_existing_counts_an_output_another_run_finished_as_skipped() {
         .unwrap();
     let o = b.wait_with_output().unwrap();
     assert_eq!(o.status.code(), Some(0), "{}{}", out(&o), err(&o));
-    assert!(out(&o).contains("skipped (output exists)"), "{}", out(&o));
+    // Text output has one summary line for all skipped files; JSON a record each.
+    assert!(
+        out(&o).contains(r#""reason":"output exists""#)
+            && out(&o).contains(r#""status":"skipped""#),
+        "{}",
+        out(&o)
+    );
     assert_eq!(fs::read(d.join("out.wav")).unwrap(), done);
     assert!(temporaries(d).is_empty());
 }
