@@ -17,7 +17,9 @@
 //! * `measure` (feature `measure`): the sweep-through test and its analysis, and the
 //!   baseline methods (sample hold, linear interpolation, ...) it is validated on.
 //!
-//! Designs and whole-signal conversions use rayon's current thread pool.
+//! Designs and whole-signal conversions use rayon's current thread pool (feature `rayon`,
+//! on by default). Built with `default-features = false` the crate does not depend on
+//! rayon and runs the same loops in sequence, with bit-identical results.
 //!
 //! ## Adding it to a project
 //!
@@ -157,6 +159,7 @@ pub mod limits;
 #[cfg(feature = "measure")]
 #[cfg_attr(docsrs, doc(cfg(feature = "measure")))]
 pub mod measure;
+mod par;
 mod ratio;
 mod table;
 

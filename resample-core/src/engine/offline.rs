@@ -1,7 +1,7 @@
 //! Whole-signal conversion: delay compensated, exact length `ceil(n L / M)`, output sample
 //! `m` at input time `m M / L`, zero outside the input.
 
-use rayon::prelude::*;
+use crate::par::*;
 
 use super::render::{reach, render, History};
 use crate::kernel::{Kernel, KernelFns, Sample};
@@ -51,7 +51,7 @@ pub fn convert_planar<T: Sample, I: AsRef<[T]> + Sync>(
 ///
 /// The output is cut into segments of [`SEGMENT_FRAMES`] frames and channels into pairs;
 /// the pieces are computed in parallel on rayon's current thread pool (install a pool to
-/// limit the threads). Each piece reads the input it needs (its segment's span plus the
+/// limit the threads; in sequence without the feature `rayon`). Each piece reads the input it needs (its segment's span plus the
 /// filter's history, zero outside the signal), so the result is bit-identical to one
 /// [`StreamConverter`] run over the whole signal with the same kernel, whatever the
 /// number of threads.
@@ -292,6 +292,7 @@ mod tests {
         parallel_matches_sequential::<f64>();
     }
 
+    #[cfg(feature = "rayon")]
     #[test]
     fn thread_count_does_not_change_a_bit() {
         let design = FilterSpec::new(48_000, 44_100)

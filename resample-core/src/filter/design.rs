@@ -3,7 +3,7 @@
 //! minimum-phase filter derived from it (measured and lengthened the same way), the report
 //! that states what was built, and the design's delay, stated explicitly for every consumer.
 
-use rayon::prelude::*;
+use crate::par::*;
 
 use super::minphase::{fft_len, minimum_phase_on};
 use super::minphase::{CEPSTRUM_OVERSAMPLE, MAX_CEPSTRUM_FFT};
@@ -427,7 +427,7 @@ pub(super) fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> 
             (phases, h)
         };
         // The FFT is planned while the taps are computed.
-        let ((), probe) = rayon::join(
+        let ((), probe) = join(
             || measurer.prepare(2 * m_half + 1),
             || windowed_sinc(m_phases, m_half, cutoff, beta),
         );

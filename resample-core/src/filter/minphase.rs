@@ -21,7 +21,7 @@
 //! the allowance for the request (`response::ripple_allowance_db`): the aliased cepstrum
 //! shows first there, a few 1e-6 dB at 140 dB.
 
-use rayon::prelude::*;
+use crate::par::*;
 use rustfft::num_complex::Complex;
 use rustfft::FftPlanner;
 

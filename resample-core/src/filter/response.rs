@@ -5,7 +5,7 @@
 
 use std::sync::Arc;
 
-use rayon::prelude::*;
+use crate::par::*;
 use rustfft::num_complex::Complex;
 use rustfft::{Fft, FftPlanner};
 
@@ -300,9 +300,9 @@ impl Measurer {
         } else {
             Vec::new()
         };
-        let ((refined, ripple), (at_stop, at_pass)) = rayon::join(
+        let ((refined, ripple), (at_stop, at_pass)) = join(
             || {
-                rayon::join(
+                join(
                     || -> Vec<f64> {
                         peaks
                             .par_iter()
@@ -329,7 +329,7 @@ impl Measurer {
             },
             // The band edges rarely fall on a grid point, and the response changes fastest
             // there: evaluate them exactly.
-            || rayon::join(|| resp.at(stop), || resp.at(pass)),
+            || join(|| resp.at(stop), || resp.at(pass)),
         );
         for (&(m, _), &r) in peaks.iter().zip(&refined) {
             if m < speak * GRID_LOSS {
@@ -368,7 +368,7 @@ fn bin(grids: &[Vec<f64>], sub: usize, k: usize) -> f64 {
 
 /// Sub-grids each worker computes: the grids spread over rayon's threads.
 fn grids_per_worker() -> usize {
-    GRIDS.div_ceil(rayon::current_num_threads().clamp(1, GRIDS))
+    GRIDS.div_ceil(current_num_threads().clamp(1, GRIDS))
 }
 
 /// Sub-grid length `M` [`measure`] uses for a filter of `taps_len` taps: the FFT grid has

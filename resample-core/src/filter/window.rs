@@ -55,7 +55,8 @@ pub fn kaiser_at(n: f64, len: usize, beta: f64, i0_beta: f64) -> f64 {
     bessel_i0(beta * arg.sqrt()) / i0_beta
 }
 
-/// The whole Kaiser window of `len` points.
+/// The whole Kaiser window of `len` points (the analysis window of `measure`).
+#[cfg(any(feature = "measure", test))]
 pub fn kaiser_window(len: usize, beta: f64) -> Vec<f64> {
     let i0b = bessel_i0(beta);
     (0..len)
