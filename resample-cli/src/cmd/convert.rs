@@ -11,13 +11,12 @@ use crate::convert::{convert_file, Control, DesignCache, Settings};
 use anyhow::{Context, Result};
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use rayon::prelude::*;
-use serde_json::json;
 
 use crate::args::convert::ConvertArgs;
 use crate::args::{check_filter, DitherArg};
 use crate::exit::{Status, UsageError};
 use crate::io::signals::{self, CANCEL};
-use crate::report::print;
+use crate::report::{json, print};
 
 /// How one task ended.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -172,7 +171,7 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
             .map(|task| {
                 if CANCEL.load(Ordering::Relaxed) {
                     if args.json {
-                        emit(record(task, Outcome::NotStarted, None));
+                        emit(json::line(&record(task, Outcome::NotStarted)));
                     }
                     return Outcome::NotStarted;
                 }
@@ -184,7 +183,7 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
                             bar.bar.suspend(|| eprintln!("rerate: warning: {w}"));
                         }
                         emit(if args.json {
-                            report.json().to_string()
+                            report.json()
                         } else {
                             report.line()
                         });
@@ -194,17 +193,16 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
                         // Text: one summary line for all of them (a resume can skip
                         // thousands); JSON: a record each.
                         if args.json {
-                            emit(record(
-                                task,
-                                Outcome::Skipped,
-                                Some(("reason", "output exists")),
-                            ));
+                            emit(json::line(&json::NotConverted {
+                                reason: Some("output exists"),
+                                ..record(task, Outcome::Skipped)
+                            }));
                         }
                         Outcome::Skipped
                     }
                     Err(e) if is_interruption(&e) => {
                         if args.json {
-                            emit(record(task, Outcome::Interrupted, None));
+                            emit(json::line(&record(task, Outcome::Interrupted)));
                         }
                         Outcome::Interrupted
                     }
@@ -213,11 +211,10 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
                         bar.bar
                             .suspend(|| print::err_line(&format!("rerate: {msg}")));
                         if args.json {
-                            emit(record(
-                                task,
-                                Outcome::Failed,
-                                Some(("error", &e.to_string())),
-                            ));
+                            emit(json::line(&json::NotConverted {
+                                error: Some(&e.to_string()),
+                                ..record(task, Outcome::Failed)
+                            }));
                         }
                         if is_clipping(&e) {
                             Outcome::Clipped
@@ -239,17 +236,20 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
     let not_started = count(Outcome::NotStarted);
     let interrupted = CANCEL.load(Ordering::SeqCst);
     if args.json {
-        emit(
-            json!({"summary": {
-                "converted": converted, "skipped": skipped, "failed": n_failed,
-                "interrupted": n_interrupted, "not_started": not_started,
-                "selected": tasks.len(), "found": total_found,
-                "excluded_own_outputs": excluded,
-                "shard": args.shard.map(|s| format!("{}/{}", s.index, s.count)),
-                "stopped_by_signal": interrupted,
-            }})
-            .to_string(),
-        );
+        emit(json::line(&json::SummaryRecord {
+            summary: json::Summary {
+                converted,
+                skipped,
+                failed: n_failed,
+                interrupted: n_interrupted,
+                not_started,
+                selected: tasks.len(),
+                found: total_found,
+                excluded_own_outputs: excluded,
+                shard: args.shard.map(|s| format!("{}/{}", s.index, s.count)),
+                stopped_by_signal: interrupted,
+            },
+        }));
     } else if is_batch || tasks.len() != 1 {
         let shard = args
             .shard
@@ -282,15 +282,15 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
     })
 }
 
-/// The JSON record of a task that was not converted, with one more field.
-fn record(task: &Task, outcome: Outcome, extra: Option<(&str, &str)>) -> String {
-    let mut v = json!({"status": outcome.status(),
-                       "input": task.input.display().to_string(),
-                       "output": task.output.display().to_string()});
-    if let (Some((k, x)), Some(map)) = (extra, v.as_object_mut()) {
-        map.insert(k.to_string(), json!(x));
+/// The JSON record of a task that was not converted (reason and error to be filled in).
+fn record<'a>(task: &Task, outcome: Outcome) -> json::NotConverted<'a> {
+    json::NotConverted {
+        status: outcome.status(),
+        input: task.input.display().to_string(),
+        output: task.output.display().to_string(),
+        reason: None,
+        error: None,
     }
-    v.to_string()
 }
 
 /// Convert one task; `Ok(None)` when skipped.

@@ -58,7 +58,7 @@ pub fn run(args: &DemoArgs) -> Result<Status> {
         let report = convert_file(&source, &out, &s, &designs, ctl)
             .with_context(|| format!("{}", source.display()))?;
         if args.json {
-            out_line(&report.json().to_string());
+            out_line(&report.json());
         } else {
             out_line(&report.line());
         }

@@ -7,10 +7,10 @@ use std::path::Path;
 
 use anyhow::{bail, Context, Result};
 use resample_core::measure::{self, Settings};
-use serde_json::{json, Value};
 
 use crate::audio::{Input, NonFinite};
-use crate::report::measured::{metrics_json, metrics_text};
+use crate::report::json;
+use crate::report::measured::metrics_text;
 
 use crate::args::check_filter;
 use crate::args::grade::GradeArgs;
@@ -95,16 +95,14 @@ pub fn run(args: &GradeArgs) -> Result<Status> {
     }
     let mut out = std::io::stdout().lock();
     if args.report.json {
-        let mut o = metrics_json(&m);
-        o.insert("channel".into(), json!(channel + 1));
-        o.insert("channels".into(), json!(wav.channels.len()));
-        if let Some(e) = args.expect_db {
-            o.insert("expected_db".into(), json!(e));
-        }
-        if let Some(p) = pass {
-            o.insert("pass".into(), json!(p));
-        }
-        writeln!(out, "{}", Value::Object(o))?;
+        let record = json::Grade {
+            metrics: json::Metrics::new(&m),
+            channel: channel + 1,
+            channels: wav.channels.len(),
+            expected_db: args.expect_db,
+            pass,
+        };
+        writeln!(out, "{}", json::line(&record))?;
     } else {
         writeln!(
             out,

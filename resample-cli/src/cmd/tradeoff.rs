@@ -10,13 +10,12 @@ use anyhow::{bail, Context, Result};
 use resample_core::measure::Baseline;
 use resample_core::measure::{self, Settings, Sweep};
 use resample_core::{Design, FilterSpec, Sample, StreamConverter};
-use serde_json::{json, Value};
 
 use crate::args::check_filter;
 use crate::args::tradeoff::TradeoffArgs;
 use crate::convert::run_engine;
 use crate::exit::Status;
-use crate::report::format::num;
+use crate::report::json;
 use crate::report::tradeoff::Row;
 
 /// A number for CSV that keeps its significance: scientific below 0.001 (not `0.000000`).
@@ -231,15 +230,14 @@ pub fn run(args: &TradeoffArgs) -> Result<Status> {
     }
     let mut out = std::io::stdout().lock();
     if args.json {
-        let list: Vec<Value> = rows.iter().map(row_json).collect();
-        let v = json!({
-            "in_rate": args.in_rate,
-            "out_rate": args.out_rate,
-            "sweep_seconds": args.seconds,
-            "speed": "one thread (CPU time where the system reports it), mono, f32, multiple of real time",
-            "rows": list,
-        });
-        writeln!(out, "{v}")?;
+        let record = json::Tradeoff {
+            in_rate: args.in_rate,
+            out_rate: args.out_rate,
+            sweep_seconds: args.seconds,
+            speed: "one thread (CPU time where the system reports it), mono, f32, multiple of real time",
+            rows: rows.iter().map(row_json).collect(),
+        };
+        writeln!(out, "{}", json::line(&record))?;
     } else if args.csv {
         writeln!(
             out,
@@ -270,19 +268,19 @@ pub fn run(args: &TradeoffArgs) -> Result<Status> {
     Ok(Status::Success)
 }
 
-fn row_json(r: &Row) -> Value {
-    json!({
-        "method": r.method,
-        "requested_db": r.requested_db,
-        "taps_per_phase": r.taps_per_phase,
-        "rejection_db": num(r.rejection_db),
-        "passband_ripple_db": num(r.ripple_db),
-        "latency_ms": num(r.latency_ms),
-        "measured_delay_ms": num(r.measured_delay_ms),
-        "speed_x_realtime": num(r.speed_x_realtime),
-        "table_bytes_f32": r.table_bytes,
-        "note": r.note,
-    })
+fn row_json(r: &Row) -> json::TradeoffRow<'_> {
+    json::TradeoffRow {
+        method: &r.method,
+        requested_db: r.requested_db,
+        taps_per_phase: r.taps_per_phase,
+        rejection_db: r.rejection_db,
+        passband_ripple_db: r.ripple_db,
+        latency_ms: r.latency_ms,
+        measured_delay_ms: r.measured_delay_ms,
+        speed_x_realtime: r.speed_x_realtime,
+        table_bytes_f32: r.table_bytes,
+        note: r.note.as_deref(),
+    }
 }
 
 fn table_text(rows: &[Row], args: &TradeoffArgs) -> String {

@@ -6,7 +6,6 @@ use std::io::Write;
 use anyhow::{Context, Result};
 use resample_core::measure::{self, Settings, Sweep};
 use resample_core::FilterSpec;
-use serde_json::{json, Value};
 
 use crate::audio::wav::Encoding;
 use crate::quality::{self, Precision};
@@ -16,8 +15,9 @@ use crate::args::verify::VerifyArgs;
 use crate::args::PhaseArg;
 use crate::convert::run_engine;
 use crate::exit::Status;
-use crate::report::format::{num, small_db};
-use crate::report::measured::{metrics_json, metrics_text};
+use crate::report::format::small_db;
+use crate::report::json;
+use crate::report::measured::metrics_text;
 
 /// The output format whose rules `verify` applies: `--bits N`, `--float`, or 32-bit float.
 fn encoding_of(args: &VerifyArgs) -> Encoding {
@@ -77,29 +77,22 @@ pub fn run(args: &VerifyArgs) -> Result<Status> {
     let r = design.report();
     let mut out = std::io::stdout().lock();
     if args.report.json {
-        let mut o = metrics_json(&m);
-        o.insert("requested_stopband_db".into(), json!(requested));
-        o.insert("ripple_limit_db".into(), num(ripple_limit));
-        o.insert("design_stopband_db".into(), num(r.measured_stopband_db));
-        o.insert(
-            "design_latency_samples".into(),
-            num(r.latency_output_frames),
-        );
-        if args.phase == PhaseArg::Minimum {
-            o.insert("phase".into(), json!("minimum"));
-            o.insert(
-                "design_group_delay_1khz_ms".into(),
-                num(r.group_delay_1khz_ms),
-            );
-            o.insert(
-                "design_group_delay_variation_ms".into(),
-                num(r.group_delay_variation_ms),
-            );
-        }
-        o.insert("precision".into(), json!(precision.to_string()));
-        o.insert("sweep_seconds".into(), json!(args.seconds));
-        o.insert("pass".into(), json!(pass));
-        writeln!(out, "{}", Value::Object(o))?;
+        let record = json::Verify {
+            metrics: json::Metrics::new(&m),
+            requested_stopband_db: requested,
+            ripple_limit_db: ripple_limit,
+            design_stopband_db: r.measured_stopband_db,
+            design_latency_samples: r.latency_output_frames,
+            minimum: (args.phase == PhaseArg::Minimum).then_some(json::VerifyMinimumPhase {
+                phase: "minimum",
+                design_group_delay_1khz_ms: r.group_delay_1khz_ms,
+                design_group_delay_variation_ms: r.group_delay_variation_ms,
+            }),
+            precision: precision.to_string(),
+            sweep_seconds: args.seconds,
+            pass,
+        };
+        writeln!(out, "{}", json::line(&record))?;
     } else {
         writeln!(
             out,

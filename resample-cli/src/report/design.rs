@@ -3,48 +3,12 @@
 //! (a linear-phase report is unchanged: its group delay is the latency, flat).
 
 use resample_core::{DesignReport, Phase};
-use serde_json::json;
 
 use super::format::{fmt_db, fmt_ripple};
 
-/// The report as a JSON value (non-finite numbers become null).
-pub fn report_json(r: &DesignReport, phase: Phase) -> serde_json::Value {
-    let finite = |v: f64| if v.is_finite() { json!(v) } else { json!(null) };
-    let mut v = json!({
-        "in_rate": r.in_rate,
-        "out_rate": r.out_rate,
-        "up": r.up,
-        "down": r.down,
-        "total_taps": r.total_taps,
-        "taps_per_phase": r.taps_per_phase,
-        "padded_taps_per_phase": r.padded_taps_per_phase,
-        "formula_taps_per_phase": r.formula_taps_per_phase,
-        "beta": r.beta,
-        "passband_edge_hz": r.passband_edge_hz,
-        "stopband_edge_hz": r.stopband_edge_hz,
-        "cutoff_hz": r.cutoff_hz,
-        "requested_stopband_db": r.requested_stopband_db,
-        "measured_stopband_db": finite(r.measured_stopband_db),
-        "passband_ripple_db": r.passband_ripple_db,
-        "measured_on_phases": r.measured_on_phases,
-        "attempts": r.attempts,
-        "latency_input_samples": r.latency_input_frames,
-        "latency_output_samples": r.latency_output_frames,
-        "latency_ms": r.latency_ms,
-        "table_bytes_f32": r.table_bytes_f32,
-        "table_bytes_f64": r.table_bytes_f64,
-    });
-    if phase == Phase::Minimum {
-        if let Some(o) = v.as_object_mut() {
-            o.insert("phase".into(), json!("minimum"));
-            o.insert("group_delay_1khz_ms".into(), finite(r.group_delay_1khz_ms));
-            o.insert(
-                "group_delay_variation_ms".into(),
-                finite(r.group_delay_variation_ms),
-            );
-        }
-    }
-    v
+/// The report as one line of JSON (non-finite numbers become null).
+pub fn report_json(r: &DesignReport, phase: Phase) -> String {
+    super::json::line(&super::json::Design::new(r, phase == Phase::Minimum))
 }
 
 /// The report as aligned text.

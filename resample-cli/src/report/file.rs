@@ -173,43 +173,36 @@ impl FileReport {
         ))
     }
 
-    /// The report as a JSON object (non-finite numbers become null).
-    pub fn json(&self) -> serde_json::Value {
-        let num = |v: f64| {
-            if v.is_finite() {
-                serde_json::json!(v)
-            } else {
-                serde_json::Value::Null
-            }
-        };
-        serde_json::json!({
-            "status": "converted",
-            "input": self.input.display().to_string(),
-            "output": self.output.display().to_string(),
-            "in_rate": self.in_rate,
-            "out_rate": self.out_rate,
-            "channels": self.channels,
-            "in_format": self.in_encoding.to_string(),
-            "out_format": self.out_encoding.to_string(),
-            "frames_in": self.frames_in,
-            "frames_out": self.frames_out,
-            "duration_s": self.seconds,
-            "elapsed_s": self.elapsed_s,
-            "speed_x_real_time": num(self.speed()),
-            "peak_dbfs": num(self.levels.peak_dbfs()),
-            "over_full_scale": self.levels.over,
-            "clipped": self.levels.clipped,
-            "suggested_gain_db": self.levels.suggested_gain_db().map(|g| g + self.gain_db),
-            "gain_db": self.gain_db,
-            "sanitized": self.sanitized,
-            "requested_stopband_db": self.requested_stopband_db,
-            "measured_stopband_db": num(self.measured_stopband_db),
-            "passband": self.passband,
-            "taps_per_phase": self.taps_per_phase,
-            "precision": self.precision.to_string(),
-            "dither": if self.dithered { "tpdf" } else { "none" },
-            "dithered_samples": self.levels.dithered,
-            "peak_measured": "before limiting",
+    /// The report as one line of JSON (non-finite numbers become null).
+    pub fn json(&self) -> String {
+        super::json::line(&super::json::Converted {
+            status: "converted",
+            input: self.input.display().to_string(),
+            output: self.output.display().to_string(),
+            in_rate: self.in_rate,
+            out_rate: self.out_rate,
+            channels: self.channels,
+            in_format: self.in_encoding.to_string(),
+            out_format: self.out_encoding.to_string(),
+            frames_in: self.frames_in,
+            frames_out: self.frames_out,
+            duration_s: self.seconds,
+            elapsed_s: self.elapsed_s,
+            speed_x_real_time: self.speed(),
+            peak_dbfs: self.levels.peak_dbfs(),
+            over_full_scale: self.levels.over,
+            clipped: self.levels.clipped,
+            suggested_gain_db: self.levels.suggested_gain_db().map(|g| g + self.gain_db),
+            gain_db: self.gain_db,
+            sanitized: self.sanitized,
+            requested_stopband_db: self.requested_stopband_db,
+            measured_stopband_db: self.measured_stopband_db,
+            passband: self.passband,
+            taps_per_phase: self.taps_per_phase,
+            precision: self.precision.to_string(),
+            dither: if self.dithered { "tpdf" } else { "none" },
+            dithered_samples: self.levels.dithered,
+            peak_measured: "before limiting",
         })
     }
 }

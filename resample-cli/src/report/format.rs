@@ -1,7 +1,5 @@
 //! Numbers for people: one home for how dB figures and measured values are printed, in
-//! text and in JSON.
-
-use serde_json::{json, Value};
+//! text (JSON records carry the full numbers: `report::json`).
 
 /// `v` with `decimals` decimals, never "-0.00": a value that rounds to zero prints as zero.
 pub fn fixed(v: f64, decimals: usize) -> String {
@@ -49,15 +47,6 @@ pub fn hz(v: Option<f64>) -> String {
         || "not reached in the swept band".into(),
         |f| format!("{f:.0} Hz"),
     )
-}
-
-/// A number for JSON: finite values as numbers, anything else as null.
-pub fn num(v: f64) -> Value {
-    if v.is_finite() {
-        json!(v)
-    } else {
-        Value::Null
-    }
 }
 
 #[cfg(test)]

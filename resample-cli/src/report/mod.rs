@@ -2,11 +2,13 @@
 //! report ([`file`](mod@file)), the measured
 //! figures of `verify` and `grade` ([`measured`]), the pictures ([`plot`],
 //! [`tradeoff_plot`]), number formatting shared by all of them ([`format`](mod@format)),
+//! every JSON record's keys ([`json`]),
 //! and printing lines that never panics on a closed pipe ([`print`](mod@print)).
 
 pub mod design;
 pub mod file;
 pub mod format;
+pub mod json;
 pub mod measured;
 pub mod plot;
 pub mod print;
