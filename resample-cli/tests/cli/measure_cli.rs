@@ -102,6 +102,45 @@ fn verify_passes_with_json_keys_and_plots() {
     assert_eq!(again.status.code(), Some(3));
 }
 
+// Issue 17: the arithmetic follows the request, so every output format passes `verify` at
+// its default stopband and at 200 dB (the design's own measured stopband is the bar).
+#[test]
+fn verify_of_every_output_format_passes_at_its_default_and_at_200_db() {
+    let dir = tempfile::tempdir().unwrap();
+    let formats: [&[&str]; 5] = [
+        &["--bits", "8"],
+        &["--bits", "16"],
+        &["--bits", "24"],
+        &["--bits", "32"],
+        &["--float"],
+    ];
+    for format in formats {
+        for stopband in [None, Some("200")] {
+            let mut args = vec![
+                "verify",
+                "--in-rate",
+                "44.1k",
+                "--out-rate",
+                "48k",
+                "--json",
+            ];
+            args.extend_from_slice(format);
+            if let Some(db) = stopband {
+                args.extend_from_slice(&["--stopband-db", db]);
+            }
+            let out = rerate(dir.path(), &args);
+            let v = json(&out);
+            assert_eq!(out.status.code(), Some(0), "{args:?}: {v}");
+            assert_eq!(v["pass"], true, "{args:?}: {v}");
+            let requested = v["requested_stopband_db"].as_f64().unwrap();
+            assert!(
+                v["rejection_db"].as_f64().unwrap() >= requested,
+                "{args:?}: {v}"
+            );
+        }
+    }
+}
+
 #[test]
 fn verify_text_names_the_verdict() {
     let dir = tempfile::tempdir().unwrap();
