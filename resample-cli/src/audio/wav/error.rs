@@ -73,6 +73,19 @@ pub enum WavError {
     /// The header declares a rate or channel count outside what the converter accepts.
     #[error("{0}")]
     OutOfRange(String),
+    /// A metadata chunk (or all of them together) larger than rerate reads.
+    #[error(
+        "the '{id}' metadata declares {len} bytes, more than the {limit} rerate reads \
+         (a corrupt header?)"
+    )]
+    MetadataTooLarge {
+        /// The chunk's id ("all metadata" for the total).
+        id: String,
+        /// Bytes declared.
+        len: u64,
+        /// The limit, bytes.
+        limit: u64,
+    },
     /// A float sample is NaN or infinite.
     #[error(
         "{kind} sample at frame {frame}, channel {channel} (use --sanitize to replace \
