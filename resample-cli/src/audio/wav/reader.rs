@@ -227,7 +227,8 @@ impl WavReader {
             || riff_size == u32::MAX
             || u64::from(riff_size) + 8 <= layout.data_offset;
         let unset = !rf64
-            && ((declared == u64::from(STREAMING_MARKER) && declared > available)
+            && ((declared == u64::from(STREAMING_MARKER)
+                && (size.is_none() || declared > available))
                 || (declared == 0 && available > 0 && riff_unset));
         let mut open_ended = false;
         let mut warning = None;
