@@ -21,17 +21,6 @@ pub enum WavError {
     /// Not something rerate reads audio from (a folder, a block device, a socket).
     #[error("{0}; rerate reads regular files, pipes and standard input (-)")]
     NotReadable(String),
-    /// The data chunk's size is the marker of a WAV streamed without its length.
-    #[error(
-        "the data chunk's size is 0xFFFFFFFF, the marker a writer leaves when it streams WAV \
-         audio without knowing its length (to a pipe){}; rerate needs the real length: \
-         write the file to disk with its header completed",
-        match available { Some(n) => format!(", and only {n} bytes of audio follow"), None => String::new() }
-    )]
-    StreamingMarker {
-        /// Bytes after the data chunk header (`None` for a stream).
-        available: Option<u64>,
-    },
     /// The file does not start like a RIFF/WAVE file.
     #[error("not a WAV file ({0})")]
     NotWav(String),

@@ -102,7 +102,10 @@ mod tests {
         // Chunks after the audio count in the RIFF size: two bytes of them promote it too.
         let p = size_fields(header, edge, edge, 2);
         assert_eq!(p.len(), 3);
-        assert_eq!(parse_ds64(&p[1].1[8..]).unwrap().riff_size, header + edge + 2 - 8);
+        assert_eq!(
+            parse_ds64(&p[1].1[8..]).unwrap().riff_size,
+            header + edge + 2 - 8
+        );
         let p = size_fields(header, edge + 2, edge + 2, 0);
         assert_eq!(p.len(), 3);
         assert_eq!(&p[0].1, b"RF64\xFF\xFF\xFF\xFF");

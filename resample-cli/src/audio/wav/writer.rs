@@ -61,8 +61,12 @@ const ENCODE_CHUNK: usize = 16 << 10;
 
 /// A WAV file being written.
 ///
-/// The header is the one `hound` writes for the spec (made in memory); the sample bytes are
-/// encoded here in chunks, exactly as hound encodes them one at a time. [`WavWriter::finish`]
+/// The header is the one `hound` writes for the spec (made in memory), with the 'JUNK'
+/// reservation for RF64 after "WAVE", the metadata chunks of [`WriterOptions::chunks`]
+/// before the data chunk, and a WAVE_FORMAT_EXTENSIBLE format chunk of our own when
+/// [`WriterOptions::channel_mask`] is given; the sample bytes are encoded here in chunks,
+/// exactly as hound encodes them one at a time. Chunks set by
+/// [`WavWriter::set_chunks_after_data`] follow the audio. [`WavWriter::finish`]
 /// completes the two size fields and, unlike hound, ends an odd-sized data chunk with the pad
 /// byte RIFF requires (counted in the RIFF size, not in the data chunk's).
 pub struct WavWriter {
@@ -495,6 +499,38 @@ mod tests {
         }
         // 8- and 24-bit mono of an odd length, each with and without dither.
         assert_eq!(padded, 4);
+    }
+
+    #[test]
+    fn our_extensible_format_chunk_is_hounds_with_the_mask_we_give() {
+        // Where hound writes WAVE_FORMAT_EXTENSIBLE (more than two channels or more than 16
+        // bits), it sets the first N speaker bits; given that same mask, our own format
+        // chunk must be byte for byte the one hound writes.
+        for enc in [Encoding::Int(24), Encoding::Int(32), Encoding::Float32] {
+            for channels in [1u16, 2, 3, 4, 6, 8] {
+                let spec = enc.spec(48_000, channels);
+                let first_bits = (1u32 << channels) - 1;
+                assert_eq!(
+                    header(spec, Some(first_bits), &[]).unwrap(),
+                    header(spec, None, &[]).unwrap(),
+                    "{enc} x{channels}"
+                );
+            }
+        }
+        // Metadata goes between the format chunk and the data chunk header, padded.
+        let spec = Encoding::Int(16).spec(8000, 2);
+        let c = Chunk {
+            id: *b"abcd",
+            body: vec![1, 2, 3],
+        };
+        let plain = header(spec, None, &[]).unwrap();
+        let with = header(spec, None, &[c]).unwrap();
+        assert_eq!(with.len(), plain.len() + 12);
+        assert_eq!(
+            &with[with.len() - 20..with.len() - 8],
+            b"abcd\x03\0\0\0\x01\x02\x03\0"
+        );
+        assert_eq!(&with[with.len() - 8..with.len() - 4], b"data");
     }
 
     #[test]
