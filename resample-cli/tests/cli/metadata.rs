@@ -368,3 +368,34 @@ fn absurd_metadata_sizes_are_refused_without_allocating() {
         "{r}"
     );
 }
+
+#[test]
+fn metadata_read_from_a_pipe_is_carried_the_same() {
+    // Standard input is read front to back: the chunks after the audio are read after it.
+    // The output is the same file, byte for byte, as from the seekable input.
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    let input = meta("bwf_stereo_48k.wav");
+    convert(d, &input, "44.1k", "file.wav", &[]);
+    let mut child = command()
+        .current_dir(d)
+        .args(["convert", "-", "--out-rate", "44.1k", "-o", "pipe.wav"])
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    let bytes = std::fs::read(&input).unwrap();
+    child.stdin.take().unwrap().write_all(&bytes).unwrap();
+    let o = child.wait_with_output().unwrap();
+    assert_eq!(o.status.code(), Some(0), "{}", err(&o));
+    assert!(
+        out(&o).contains("metadata carried: bext; iXML; cue; LIST-adtl; smpl; LIST-INFO; axml"),
+        "{}",
+        out(&o)
+    );
+    assert_eq!(
+        std::fs::read(d.join("pipe.wav")).unwrap(),
+        std::fs::read(d.join("file.wav")).unwrap()
+    );
+}
