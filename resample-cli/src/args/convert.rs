@@ -72,6 +72,13 @@ pub struct ConvertArgs {
     /// Overwrite existing outputs (never an input).
     #[arg(long)]
     pub force: bool,
+    /// Copy chunks rerate does not know into the output verbatim (default: dropped and named
+    /// in the report, since they may hold sample positions that cannot be rescaled).
+    #[arg(long, conflicts_with = "strip_metadata")]
+    pub keep_unknown_chunks: bool,
+    /// Write the format and the audio only: no metadata chunks.
+    #[arg(long)]
+    pub strip_metadata: bool,
     /// One JSON object per file and a summary object, one per line, on stdout.
     #[arg(long)]
     pub json: bool,

@@ -12,6 +12,7 @@ use std::path::Path;
 
 use resample_core::Sample;
 
+use wav::metadata::Found;
 pub use wav::{Encoding, NonFinite, WavInfo};
 use wav::{WavError, WavReader};
 
@@ -40,6 +41,43 @@ impl Input {
     pub fn info(&self) -> &WavInfo {
         match self {
             Self::Wav(r) => r.info(),
+        }
+    }
+
+    /// What was wrong with the header and what was done about it.
+    pub fn header_warning(&self) -> Option<&str> {
+        match self {
+            Self::Wav(r) => r.header_warning(),
+        }
+    }
+
+    /// Whether the frame count is known before reading (not for a stream whose header
+    /// never got its sizes: it is read to its end).
+    pub fn length_known(&self) -> bool {
+        match self {
+            Self::Wav(r) => r.length_known(),
+        }
+    }
+
+    /// The input's channel mask (speaker positions), if its format gives one.
+    pub fn channel_mask(&self) -> Option<u32> {
+        match self {
+            Self::Wav(r) => r.channel_mask(),
+        }
+    }
+
+    /// The metadata chunks before the audio.
+    pub fn chunks_before_data(&self) -> &[Found] {
+        match self {
+            Self::Wav(r) => r.chunks_before_data(),
+        }
+    }
+
+    /// Once the audio is read: the metadata chunks after it, and notes on what could not
+    /// be read there.
+    pub fn chunks_after_data(&mut self) -> Result<(Vec<Found>, Vec<String>), WavError> {
+        match self {
+            Self::Wav(r) => r.chunks_after_data(),
         }
     }
 

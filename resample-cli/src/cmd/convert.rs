@@ -6,6 +6,7 @@ use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
 use std::time::{Duration, Instant};
 
 use crate::audio::wav::Encoding;
+use crate::audio::wav::MetadataPolicy;
 use crate::batch::{self, file_id, Plan, Task};
 use crate::convert::{convert_file, Control, DesignCache, Settings};
 use anyhow::{Context, Result};
@@ -89,6 +90,11 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
         force: args.force,
         refuse_clipping: args.refuse_clipping,
         pipeline: false,
+        metadata: match (args.strip_metadata, args.keep_unknown_chunks) {
+            (true, _) => MetadataPolicy::Strip,
+            (false, true) => MetadataPolicy::KeepUnknown,
+            (false, false) => MetadataPolicy::Carry,
+        },
     };
     if !args.gain.is_finite() {
         return Err(UsageError("--gain must be a finite number of dB".into()).into());
@@ -181,6 +187,10 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
                     Ok(Some(report)) => {
                         if let Some(w) = report.limit_warning() {
                             bar.bar.suspend(|| eprintln!("rerate: warning: {w}"));
+                        }
+                        for w in &report.warnings {
+                            let w = format!("rerate: warning: {}: {w}", report.input.display());
+                            bar.bar.suspend(|| print::err_line(&w));
                         }
                         emit(if args.json {
                             report.json()

@@ -17,7 +17,10 @@ pub use crate::report::file::{FileReport, Overs};
 pub use cache::DesignCache;
 pub use memory::run_engine;
 
-use crate::audio::wav::{Dither, Encoding, NonFinite, WavError, WavWriter, WriterOptions};
+use crate::audio::wav::metadata::carry;
+use crate::audio::wav::{
+    Dither, Encoding, MetadataPolicy, NonFinite, Retiming, WavError, WavWriter, WriterOptions,
+};
 use crate::audio::Input;
 use crate::quality::{default_stopband_db, precision_for, Precision};
 
@@ -54,6 +57,8 @@ pub struct Settings {
     /// segments of the file side by side on rayon's pool (for a file converted while cores
     /// are free). The output is the same either way.
     pub pipeline: bool,
+    /// What to do with the input's metadata chunks.
+    pub metadata: MetadataPolicy,
 }
 
 impl Settings {
@@ -72,6 +77,7 @@ impl Settings {
             force: false,
             refuse_clipping: false,
             pipeline: true,
+            metadata: MetadataPolicy::Carry,
         }
     }
 }
@@ -188,6 +194,23 @@ fn convert_input(
         .stopband_db
         .unwrap_or_else(|| default_stopband_db(encoding));
     let precision = precision_for(stopband);
+    // The metadata before the audio, rescaled for the output rate.
+    let retiming = Retiming {
+        in_rate: info.sample_rate,
+        out_rate: settings.out_rate,
+        in_block_align: info.channels.saturating_mul(info.container_bits / 8),
+        out_block_align: info.channels.saturating_mul(encoding.bytes()),
+        out_bits: encoding.bits(),
+        coding_history: coding_history_line(&info, settings.out_rate, encoding, stopband),
+    };
+    let mut cues = std::collections::HashMap::new();
+    let (before, mut metadata) = carry(
+        reader.chunks_before_data(),
+        settings.metadata,
+        &retiming,
+        &mut cues,
+    );
+    let channel_mask = reader.channel_mask();
     // Designing the filter and creating the output: done by the engine once the input is
     // being read (the pipelined engine reads ahead meanwhile).
     let setup = || -> Result<(Arc<Design>, WavWriter), ConvertError> {
@@ -204,6 +227,8 @@ fn convert_input(
             encoding,
             dither: settings.dither,
             force: settings.force,
+            channel_mask,
+            chunks: before,
         };
         let writer = match output {
             Some(path) => WavWriter::create(path, &opts)?,
@@ -222,13 +247,22 @@ fn convert_input(
         bytes_per_frame: u64::from(info.channels) * u64::from(info.encoding.bytes()),
         ctl,
     };
-    let (design, writer) = match (precision, settings.pipeline) {
+    let (design, mut writer) = match (precision, settings.pipeline) {
         (Precision::F32, false) => run.sequential::<f32>(&mut reader, setup)?,
         (Precision::F64, false) => run.sequential::<f64>(&mut reader, setup)?,
         (Precision::F32, true) => run.pipelined::<f32>(&mut reader, setup)?,
         (Precision::F64, true) => run.pipelined::<f64>(&mut reader, setup)?,
     };
-    let frames_out = design.pair().output_len(info.frames);
+    // The metadata after the audio goes after the output's audio.
+    let (found, notes) = reader.chunks_after_data()?;
+    let (after, more) = carry(&found, settings.metadata, &retiming, &mut cues);
+    metadata.extend(more);
+    metadata.dropped.extend(notes);
+    writer.set_chunks_after_data(after);
+    // A stream read to its end knows its length (and a partial last frame) only now.
+    let header_warning = reader.header_warning().map(str::to_owned);
+    let frames_in = reader.info().frames;
+    let frames_out = design.pair().output_len(frames_in);
     if writer.frames() != frames_out {
         return Err(ConvertError::Length {
             written: writer.frames(),
@@ -259,9 +293,9 @@ fn convert_input(
         channels: info.channels,
         in_encoding: info.encoding,
         out_encoding: encoding,
-        frames_in: info.frames,
+        frames_in,
         frames_out,
-        seconds: info.seconds(),
+        seconds: frames_in as f64 / f64::from(info.sample_rate),
         elapsed_s: start.elapsed().as_secs_f64(),
         requested_stopband_db: stopband,
         measured_stopband_db: r.measured_stopband_db,
@@ -273,8 +307,40 @@ fn convert_input(
         gain_db: settings.gain_db,
         sanitized: reader.sanitized(),
         levels,
+        metadata,
+        warnings: header_warning.into_iter().collect(),
     };
     Ok((report, bytes))
+}
+
+/// The CodingHistory line that states this conversion, in EBU R 98 syntax (from memory):
+/// `A=PCM,F=<rate>,W=<bits>,M=<mode>,T=<text>`; the mode is `mono` or `stereo` (R 98 names
+/// no mode for more channels, so `M=` is left out then and the text gives the count); the
+/// text has no commas (they separate the fields).
+pub fn coding_history_line(
+    info: &crate::audio::WavInfo,
+    out_rate: u32,
+    out: Encoding,
+    stopband_db: f64,
+) -> String {
+    let mode = match info.channels {
+        1 => ",M=mono".to_owned(),
+        2 => ",M=stereo".to_owned(),
+        _ => String::new(),
+    };
+    let mut text = format!(
+        "rerate {}; {} Hz to {out_rate} Hz; stopband {} dB",
+        env!("CARGO_PKG_VERSION"),
+        info.sample_rate,
+        stopband_db
+    );
+    if info.channels > 2 {
+        text.push_str(&format!("; {} channels", info.channels));
+    }
+    if out.is_float() {
+        text.push_str("; 32-bit float");
+    }
+    format!("A=PCM,F={out_rate},W={}{mode},T={text}", out.bits())
 }
 
 /// What the engines need besides the design.

@@ -37,6 +37,8 @@ impl Run<'_> {
     ) -> Result<(Arc<Design>, WavWriter), ConvertError> {
         let ch = usize::from(reader.info().channels);
         let frames_in = reader.info().frames;
+        // A stream of unknown length is converted in one piece.
+        let length_known = reader.length_known();
         let block_bytes = BLOCK_FRAMES * ch * std::mem::size_of::<T>();
         let depth = (READ_AHEAD_BYTES / block_bytes).clamp(1, 64);
         std::thread::scope(|s| {
@@ -75,7 +77,7 @@ impl Run<'_> {
             });
 
             let workers = rayon::current_num_threads().min(MAX_WORKERS);
-            let cuts = if workers >= 2 {
+            let cuts = if workers >= 2 && length_known {
                 SegmentPlan::new(&design, frames_in, ch)
             } else {
                 None

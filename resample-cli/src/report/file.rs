@@ -3,7 +3,7 @@
 use std::path::PathBuf;
 
 use super::format::{fixed, fmt_db};
-use crate::audio::wav::{Encoding, LevelStats};
+use crate::audio::wav::{Encoding, LevelStats, MetadataSummary};
 use crate::quality::Precision;
 
 /// The facts of one converted file.
@@ -52,6 +52,11 @@ pub struct FileReport {
     pub sanitized: u64,
     /// Output level figures.
     pub levels: LevelStats,
+    /// What became of the input's metadata chunks.
+    pub metadata: MetadataSummary,
+    /// Problems with the input that were worked around (a header whose sizes were never
+    /// completed), for stderr and the JSON.
+    pub warnings: Vec<String>,
 }
 
 impl FileReport {
@@ -134,11 +139,22 @@ impl FileReport {
         if self.sanitized > 0 {
             second.push_str(&format!(", {} non-finite zeroed", self.sanitized));
         }
-        format!(
+        let mut text = format!(
             "{} -> {}\n{first}\n{second}",
             self.input.display(),
             self.output.display()
-        )
+        );
+        let m = &self.metadata;
+        for (what, list) in [
+            ("metadata carried", &m.carried),
+            ("rescaled", &m.rescaled),
+            ("dropped", &m.dropped),
+        ] {
+            if !list.is_empty() {
+                text.push_str(&format!("\n  {what}: {}", list.join("; ")));
+            }
+        }
+        text
     }
 
     /// The dither actually used, in words.
@@ -203,6 +219,12 @@ impl FileReport {
             dither: if self.dithered { "tpdf" } else { "none" },
             dithered_samples: self.levels.dithered,
             peak_measured: "before limiting",
+            metadata: super::json::MetadataRecord {
+                carried: self.metadata.carried.clone(),
+                rescaled: self.metadata.rescaled.clone(),
+                dropped: self.metadata.dropped.clone(),
+            },
+            warnings: self.warnings.clone(),
         })
     }
 }

@@ -75,6 +75,21 @@ pub struct Converted {
     pub dithered_samples: u64,
     /// Always "before limiting".
     pub peak_measured: &'static str,
+    /// What became of the input's metadata chunks.
+    pub metadata: MetadataRecord,
+    /// Problems with the input that were worked around (a header never completed).
+    pub warnings: Vec<String>,
+}
+
+/// What became of a converted file's metadata chunks.
+#[derive(Debug, Serialize)]
+pub struct MetadataRecord {
+    /// Chunks written to the output ("bext", "LIST-INFO", ...).
+    pub carried: Vec<String>,
+    /// Positions and fields changed for the new rate, in words.
+    pub rescaled: Vec<String>,
+    /// Chunks not written, each with the reason.
+    pub dropped: Vec<String>,
 }
 
 /// A file that was not converted: skipped, failed, interrupted or not started.

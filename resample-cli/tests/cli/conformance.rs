@@ -25,7 +25,7 @@ fn walker() -> PathBuf {
 
 /// Run the walker once over every case in `cases` (written to a manifest in `dir`) and
 /// return its per-file results; fail loudly if python3 or scipy is missing.
-fn walk_all(dir: &Path, cases: &[Value]) -> Vec<Value> {
+pub(crate) fn walk_all(dir: &Path, cases: &[Value]) -> Vec<Value> {
     let manifest = dir.join("manifest.json");
     std::fs::write(&manifest, serde_json::to_vec(cases).unwrap()).unwrap();
     let o = Command::new("python3")

@@ -11,6 +11,7 @@ mod grade_convert;
 mod hostile;
 mod levels;
 mod measure_cli;
+mod metadata;
 mod safety;
 mod tradeoff;
 mod util;

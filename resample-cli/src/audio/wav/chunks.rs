@@ -1,11 +1,13 @@
 //! Walking a RIFF/WAVE file's chunk list (bounded; nothing is allocated by a declared size)
-//! to find the format chunk and where the audio data lies. RIFF pads odd-length chunks to an
+//! to find the format chunk, where the audio data lies, and the metadata chunks on the way
+//! (and, after the audio, those that follow it). RIFF pads odd-length chunks to an
 //! even length; the walk honours that. The format chunk is parsed here too, so that every
 //! layout the specifications allow is decoded by their rules (left-justified valid bits).
 
 use std::io::{self, Read};
 
 use super::error::WavError;
+use super::metadata::{id_text, is_known, Chunk, Found, MAX_CHUNK_BYTES, MAX_TOTAL_BYTES};
 use super::rf64::{parse_ds64, Ds64, DS64_BODY};
 use super::source::Source;
 
@@ -25,9 +27,22 @@ pub(crate) struct Layout {
     pub data_offset: u64,
     /// Bytes of audio the data chunk declares (from 'ds64' for an RF64/BW64 file).
     pub data_len: u64,
+    /// The chunks before the data chunk other than 'fmt ' (and 'ds64'), in their order.
+    pub chunks: Vec<Found>,
+    /// Bytes of metadata read so far (bounded by [`MAX_TOTAL_BYTES`]).
+    pub metadata_bytes: u64,
 }
 
 impl Layout {
+    /// The channel mask of a WAVE_FORMAT_EXTENSIBLE format chunk (u32 at 20; Microsoft,
+    /// "Multiple channel audio data and WAVE files").
+    pub fn channel_mask(&self) -> Option<u32> {
+        let f = &self.fmt;
+        let tag = u16::from_le_bytes([*f.first()?, *f.get(1)?]);
+        (tag == WAVE_FORMAT_EXTENSIBLE && f.len() >= 24)
+            .then(|| u32::from_le_bytes([f[20], f[21], f[22], f[23]]))
+    }
+
     /// A description of the encoding in the format chunk, for an "unsupported" message:
     /// "format tag 0x0007 (mu-law), 8 bits per sample", or for WAVE_FORMAT_EXTENSIBLE
     /// "... 20 valid bits in 24-bit containers".
@@ -210,6 +225,8 @@ pub(crate) fn scan(
         Some(_) => WavError::Malformed("no data chunk".into()),
     };
     let mut rf64: Option<Ds64> = None;
+    let mut chunks = Vec::new();
+    let mut metadata_bytes = 0u64;
     if rf64_container {
         let mut head = [0u8; 8];
         read_exact_or(r, &mut head, WavError::HeaderTruncated)?;
@@ -258,6 +275,8 @@ pub(crate) fn scan(
                     fmt,
                     data_offset: pos,
                     data_len,
+                    chunks,
+                    metadata_bytes,
                 });
             }
             b"fmt " => {
@@ -278,7 +297,6 @@ pub(crate) fn scan(
                 }
             }
             _ => {
-                let skip = u64::from(len) + u64::from(len % 2);
                 let too_long = |avail: u64| {
                     WavError::Malformed(format!(
                         "the '{}' chunk declares {len} bytes but only {avail} follow",
@@ -288,18 +306,72 @@ pub(crate) fn scan(
                 if u64::from(len) > avail {
                     return Err(too_long(avail));
                 }
-                let skip = skip.min(avail);
-                let skipped = r.skip(skip).map_err(|e| WavError::io("cannot read", e))?;
-                if skipped < u64::from(len) {
-                    return Err(too_long(skipped));
+                match read_metadata(r, tag, len, &mut metadata_bytes)? {
+                    Ok(found) => {
+                        pos += u64::from(len);
+                        chunks.extend(found);
+                    }
+                    Err(got) => return Err(too_long(got)),
                 }
-                pos += skipped;
+                if len % 2 == 1 && avail > u64::from(len) {
+                    pos += r.skip(1).map_err(|e| WavError::io("cannot read", e))?;
+                }
             }
         }
     }
     Err(WavError::Malformed(format!(
         "more than {MAX_CHUNKS} chunks before the data chunk"
     )))
+}
+
+/// Read (or skip) the body of a chunk of `len` bytes that is neither 'fmt ' nor 'data'
+/// (the source is at its first byte; the pad byte is left to the caller): what was found
+/// (nothing for padding), or `Err(bytes)` when the source ended after only that many
+/// bytes. A known chunk over [`MAX_CHUNK_BYTES`], or metadata past [`MAX_TOTAL_BYTES`] in
+/// all, is refused; an unknown chunk over the limit is skipped unread.
+pub(crate) fn read_metadata(
+    r: &mut Source,
+    tag: [u8; 4],
+    len: u32,
+    total: &mut u64,
+) -> Result<Result<Option<Found>, u64>, WavError> {
+    let padding = matches!(&tag, b"JUNK" | b"junk" | b"PAD " | b"FLLR");
+    if padding || len > MAX_CHUNK_BYTES {
+        if len > MAX_CHUNK_BYTES && is_known(&tag) && !padding {
+            return Err(WavError::MetadataTooLarge {
+                id: id_text(&tag),
+                len: u64::from(len),
+                limit: u64::from(MAX_CHUNK_BYTES),
+            });
+        }
+        let skipped = r
+            .skip(u64::from(len))
+            .map_err(|e| WavError::io("cannot read", e))?;
+        if skipped < u64::from(len) {
+            return Ok(Err(skipped));
+        }
+        return Ok(Ok((!padding).then_some(Found::TooLarge {
+            id: tag,
+            len: u64::from(len),
+        })));
+    }
+    *total += u64::from(len);
+    if *total > MAX_TOTAL_BYTES {
+        return Err(WavError::MetadataTooLarge {
+            id: "all metadata".into(),
+            len: *total,
+            limit: MAX_TOTAL_BYTES,
+        });
+    }
+    let mut body = Vec::new();
+    let got = Read::by_ref(r)
+        .take(u64::from(len))
+        .read_to_end(&mut body)
+        .map_err(|e| WavError::io("cannot read", e))?;
+    if got < len as usize {
+        return Ok(Err(got as u64));
+    }
+    Ok(Ok(Some(Found::Read(Chunk { id: tag, body }))))
 }
 
 /// Common format tags (Microsoft mmreg.h; common practice, no further source).

@@ -21,17 +21,6 @@ pub enum WavError {
     /// Not something rerate reads audio from (a folder, a block device, a socket).
     #[error("{0}; rerate reads regular files, pipes and standard input (-)")]
     NotReadable(String),
-    /// The data chunk's size is the marker of a WAV streamed without its length.
-    #[error(
-        "the data chunk's size is 0xFFFFFFFF, the marker a writer leaves when it streams WAV \
-         audio without knowing its length (to a pipe){}; rerate needs the real length: \
-         write the file to disk with its header completed",
-        match available { Some(n) => format!(", and only {n} bytes of audio follow"), None => String::new() }
-    )]
-    StreamingMarker {
-        /// Bytes after the data chunk header (`None` for a stream).
-        available: Option<u64>,
-    },
     /// The file does not start like a RIFF/WAVE file.
     #[error("not a WAV file ({0})")]
     NotWav(String),
@@ -73,6 +62,19 @@ pub enum WavError {
     /// The header declares a rate or channel count outside what the converter accepts.
     #[error("{0}")]
     OutOfRange(String),
+    /// A metadata chunk (or all of them together) larger than rerate reads.
+    #[error(
+        "the '{id}' metadata declares {len} bytes, more than the {limit} rerate reads \
+         (a corrupt header?)"
+    )]
+    MetadataTooLarge {
+        /// The chunk's id ("all metadata" for the total).
+        id: String,
+        /// Bytes declared.
+        len: u64,
+        /// The limit, bytes.
+        limit: u64,
+    },
     /// A float sample is NaN or infinite.
     #[error(
         "{kind} sample at frame {frame}, channel {channel} (use --sanitize to replace \

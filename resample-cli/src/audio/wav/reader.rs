@@ -7,9 +7,10 @@ use std::path::Path;
 
 use resample_core::Sample;
 
-use super::chunks::{scan, SampleLayout};
+use super::chunks::{read_metadata, scan, SampleLayout};
 use super::encoding::Encoding;
 use super::error::WavError;
+use super::metadata::{id_text, Found};
 use super::source::Source;
 
 /// What to do with NaN or infinite float samples.
@@ -38,7 +39,9 @@ pub struct WavInfo {
     pub valid_bits: u16,
     /// Bits per sample as stored (the container: 8, 16, 24 or 32).
     pub container_bits: u16,
-    /// Frames of audio (the file holds at least this many bytes of them).
+    /// Frames of audio (the file holds at least this many bytes of them). For a stream
+    /// whose header does not give its length ([`WavReader::header_warning`]), 0 until the
+    /// end is read, then the frames read.
     pub frames: u64,
 }
 
@@ -122,6 +125,20 @@ pub struct WavReader {
     frames_read: u64,
     sanitized: u64,
     bytes: Vec<u8>,
+    /// The stream's length is not known: read to its end.
+    open_ended: bool,
+    /// What is wrong with the header and what was done about it.
+    warning: Option<String>,
+    /// The metadata chunks before the audio.
+    before: Vec<Found>,
+    /// The channel mask of WAVE_FORMAT_EXTENSIBLE.
+    channel_mask: Option<u32>,
+    /// Where the audio starts and how many bytes the header says it has (the bytes found,
+    /// for a repaired header).
+    data_offset: u64,
+    data_len: u64,
+    /// Metadata bytes read so far.
+    metadata_bytes: u64,
 }
 
 impl std::fmt::Debug for WavReader {
@@ -199,13 +216,50 @@ impl WavReader {
                 resample_core::MAX_CHANNELS
             )));
         }
-        let declared = layout.data_len;
-        if !rf64 && declared == u64::from(STREAMING_MARKER) && declared > available {
-            return Err(WavError::StreamingMarker {
-                available: size.map(|_| available),
-            });
+        let riff_size = u32::from_le_bytes([magic[4], magic[5], magic[6], magic[7]]);
+        let mut declared = layout.data_len;
+        let align = u64::from(format.block_align);
+        // A header whose sizes were never completed (a recorder that stopped unexpectedly, a
+        // writer that streamed): a data size of 0xFFFFFFFF with fewer bytes following, or
+        // of 0 with audio following and a RIFF size that does not cover it (0, 0xFFFFFFFF,
+        // or the header alone). The audio runs to the end of the file.
+        let riff_unset = riff_size == 0
+            || riff_size == u32::MAX
+            || u64::from(riff_size) + 8 <= layout.data_offset;
+        let unset = !rf64
+            && ((declared == u64::from(STREAMING_MARKER)
+                && (size.is_none() || declared > available))
+                || (declared == 0 && available > 0 && riff_unset));
+        let mut open_ended = false;
+        let mut warning = None;
+        if unset {
+            match size {
+                Some(_) => {
+                    let whole = available / align * align;
+                    warning = Some(format!(
+                        "the header's data size is {declared} (RIFF size {riff_size}), not \
+                         completed by its writer: converted the {} whole frames that follow \
+                         (to the end of the file{})",
+                        whole / align,
+                        match available - whole {
+                            0 => String::new(),
+                            n => format!("; {n} bytes of a partial last frame ignored"),
+                        }
+                    ));
+                    declared = whole;
+                }
+                None => {
+                    open_ended = true;
+                    declared = 0;
+                    warning = Some(format!(
+                        "the header's data size is {} (RIFF size {riff_size}), not completed \
+                         by its writer: the stream is read to its end",
+                        layout.data_len
+                    ));
+                }
+            }
         }
-        if declared % u64::from(format.block_align) != 0 {
+        if declared % align != 0 {
             return Err(WavError::Malformed(format!(
                 "the data chunk's length ({declared} bytes) is not a multiple of sample size \
                  x channels ({} bytes per frame)",
@@ -267,7 +321,90 @@ impl WavReader {
             frames_read: 0,
             sanitized: 0,
             bytes: Vec::new(),
+            open_ended,
+            warning,
+            channel_mask: layout.channel_mask(),
+            before: layout.chunks,
+            data_offset: layout.data_offset,
+            data_len: declared,
+            metadata_bytes: layout.metadata_bytes,
         })
+    }
+
+    /// What was wrong with the header, and what was done about it (a data size its writer
+    /// never completed: the audio is read to the end of the file).
+    pub fn header_warning(&self) -> Option<&str> {
+        self.warning.as_deref()
+    }
+
+    /// Whether [`WavInfo::frames`] is known before the audio is read (not for a stream
+    /// whose header never got its sizes: it is read to its end).
+    pub fn length_known(&self) -> bool {
+        !self.open_ended
+    }
+
+    /// The channel mask of a WAVE_FORMAT_EXTENSIBLE file (`None` for a plain format chunk).
+    pub fn channel_mask(&self) -> Option<u32> {
+        self.channel_mask
+    }
+
+    /// The metadata chunks before the audio, in their order.
+    pub fn chunks_before_data(&self) -> &[Found] {
+        &self.before
+    }
+
+    /// Once every frame has been read: the chunks after the audio, in their order, and
+    /// notes on what could not be read there (a file that ends inside a chunk, stray
+    /// bytes). A file whose audio runs to its end has none. Bounded like the chunks before
+    /// the audio; a known chunk over the limit is an error.
+    pub fn chunks_after_data(&mut self) -> Result<(Vec<Found>, Vec<String>), WavError> {
+        let mut found = Vec::new();
+        let mut notes = Vec::new();
+        if self.open_ended || self.warning.is_some() || self.frames_read < self.info.frames {
+            return Ok((found, notes));
+        }
+        let io = |e| WavError::io("cannot read", e);
+        let end = self.data_offset + self.data_len + self.data_len % 2;
+        if matches!(self.file, Source::Seekable(_)) {
+            self.file.seek_to(end).map_err(io)?;
+        } else {
+            let here = self.data_offset + self.frames_read * self.bytes_per_frame();
+            let rest = end.saturating_sub(here);
+            if self.file.skip(rest).map_err(io)? < rest {
+                return Ok((found, notes));
+            }
+        }
+        for _ in 0..MAX_CHUNKS_AFTER {
+            let mut head = [0u8; 8];
+            let got = read_up_to(&mut self.file, &mut head)?;
+            if got == 0 {
+                break;
+            }
+            if got < 8 {
+                notes.push(format!("{got} stray bytes after the last chunk (ignored)"));
+                break;
+            }
+            let tag = [head[0], head[1], head[2], head[3]];
+            let len = u32::from_le_bytes([head[4], head[5], head[6], head[7]]);
+            match read_metadata(&mut self.file, tag, len, &mut self.metadata_bytes)? {
+                Ok(f) => found.extend(f),
+                Err(got) => {
+                    notes.push(format!(
+                        "{} (declares {len} bytes, only {got} follow: not copied)",
+                        id_text(&tag)
+                    ));
+                    break;
+                }
+            }
+            if len % 2 == 1 {
+                self.file.skip(1).map_err(io)?;
+            }
+        }
+        Ok((found, notes))
+    }
+
+    fn bytes_per_frame(&self) -> u64 {
+        (self.raw.bytes() * usize::from(self.info.channels)) as u64
     }
 
     /// What the header says.
@@ -293,6 +430,9 @@ impl WavReader {
         non_finite: NonFinite,
     ) -> Result<usize, WavError> {
         let ch = usize::from(self.info.channels);
+        if self.open_ended {
+            return self.read_open_ended(buf, non_finite);
+        }
         let want = ((buf.len() / ch) as u64).min(self.info.frames - self.frames_read) as usize;
         if want == 0 {
             return Ok(0);
@@ -334,6 +474,62 @@ impl WavReader {
         Ok(want)
     }
 }
+
+impl WavReader {
+    /// [`WavReader::read_frames`] for a stream of unknown length: whole frames up to its
+    /// end (a partial last frame is dropped, and said in the warning); at the end, the
+    /// frame count becomes the frames read.
+    fn read_open_ended<T: Sample>(
+        &mut self,
+        buf: &mut [T],
+        non_finite: NonFinite,
+    ) -> Result<usize, WavError> {
+        let ch = usize::from(self.info.channels);
+        let width = self.raw.bytes();
+        let frame_bytes = width * ch;
+        let want = (buf.len() / ch).min(RAW_CHUNK / frame_bytes).max(1);
+        if buf.len() < ch {
+            return Ok(0);
+        }
+        self.bytes.resize(want * frame_bytes, 0);
+        let (got, err) = read_fully(&mut self.file, &mut self.bytes);
+        if let Some(e) = err {
+            return Err(e);
+        }
+        let frames = got / frame_bytes;
+        let ctx = Context {
+            first_frame: self.frames_read,
+            frames: u64::MAX,
+            ch,
+            non_finite,
+        };
+        let n = frames * ch;
+        self.sanitized += decode(
+            self.raw,
+            &self.bytes[..n * width],
+            &self.int,
+            &mut buf[..n],
+            &ctx,
+            0,
+        )?;
+        self.frames_read += frames as u64;
+        if got < self.bytes.len() {
+            // The end of the stream.
+            self.open_ended = false;
+            self.info.frames = self.frames_read;
+            if let (Some(w), 1..) = (self.warning.as_mut(), got % frame_bytes) {
+                w.push_str(&format!(
+                    "; {} bytes of a partial last frame ignored",
+                    got % frame_bytes
+                ));
+            }
+        }
+        Ok(frames)
+    }
+}
+
+/// Most chunks read after the audio.
+const MAX_CHUNKS_AFTER: usize = 10_000;
 
 /// Where a block starts, for error messages, and what to do with non-finite samples.
 #[derive(Clone, Copy)]

@@ -29,10 +29,11 @@ pub(crate) type Patch = (u64, Vec<u8>);
 
 /// The size fields of a finished file whose header (everything before the first audio byte,
 /// the reserved 'JUNK' chunk at offset 12 included) is `header_len` bytes, with `data` bytes
-/// of audio (plus a pad byte when odd) holding `frames` frames. Plain RIFF when both 32-bit
-/// sizes fit, RF64 otherwise. The data chunk's size field is the header's last 4 bytes.
-pub(crate) fn size_fields(header_len: u64, data: u64, frames: u64) -> Vec<Patch> {
-    let riff = header_len + data + data % 2 - 8;
+/// of audio (plus a pad byte when odd) holding `frames` frames, followed by `trailer` bytes
+/// of chunks. Plain RIFF when both 32-bit sizes fit, RF64 otherwise. The data chunk's size
+/// field is the header's last 4 bytes.
+pub(crate) fn size_fields(header_len: u64, data: u64, frames: u64, trailer: u64) -> Vec<Patch> {
+    let riff = header_len + data + data % 2 + trailer - 8;
     let data_field = header_len - 4;
     match (u32::try_from(riff), u32::try_from(data)) {
         (Ok(riff), Ok(data)) => vec![
@@ -89,7 +90,7 @@ mod tests {
     fn small_files_stay_riff_and_large_ones_become_rf64() {
         let header = 12 + 36 + 8 + 16 + 8;
         // Fits: two 32-bit fields.
-        let p = size_fields(header, 1001, 1001);
+        let p = size_fields(header, 1001, 1001, 0);
         assert_eq!(p.len(), 2);
         assert_eq!(p[0], (4, (header as u32 + 1002 - 8).to_le_bytes().to_vec()));
         assert_eq!(p[1], (header - 4, 1001u32.to_le_bytes().to_vec()));
@@ -97,8 +98,15 @@ mod tests {
         // the first 8 bytes), then two bytes more.
         let edge = u64::from(u32::MAX) + 8 - header - 1;
         assert_eq!(edge % 2, 0);
-        assert_eq!(size_fields(header, edge, edge).len(), 2);
-        let p = size_fields(header, edge + 2, edge + 2);
+        assert_eq!(size_fields(header, edge, edge, 0).len(), 2);
+        // Chunks after the audio count in the RIFF size: two bytes of them promote it too.
+        let p = size_fields(header, edge, edge, 2);
+        assert_eq!(p.len(), 3);
+        assert_eq!(
+            parse_ds64(&p[1].1[8..]).unwrap().riff_size,
+            header + edge + 2 - 8
+        );
+        let p = size_fields(header, edge + 2, edge + 2, 0);
         assert_eq!(p.len(), 3);
         assert_eq!(&p[0].1, b"RF64\xFF\xFF\xFF\xFF");
         let ds = parse_ds64(&p[1].1[8..]).unwrap();

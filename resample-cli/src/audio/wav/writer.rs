@@ -11,6 +11,7 @@ use resample_core::Sample;
 use super::dither::Dither;
 use super::encoding::Encoding;
 use super::error::WavError;
+use super::metadata::Chunk;
 use super::quantize::{LevelStats, Quantizer};
 use super::rf64::{junk_chunk, size_fields};
 use super::writeback::WriteBack;
@@ -32,6 +33,12 @@ pub struct WriterOptions {
     pub dither: Dither,
     /// Replace an existing file.
     pub force: bool,
+    /// Write WAVE_FORMAT_EXTENSIBLE with this channel mask (the input's); `None` leaves
+    /// the format chunk as usual (extensible, with the first speaker bits, for more than
+    /// two channels or more than 16 bits).
+    pub channel_mask: Option<u32>,
+    /// Chunks written between the format chunk and the audio (metadata).
+    pub chunks: Vec<Chunk>,
 }
 
 impl WriterOptions {
@@ -43,6 +50,8 @@ impl WriterOptions {
             encoding,
             dither: Dither::Tpdf,
             force: false,
+            channel_mask: None,
+            chunks: Vec::new(),
         }
     }
 }
@@ -52,8 +61,12 @@ const ENCODE_CHUNK: usize = 16 << 10;
 
 /// A WAV file being written.
 ///
-/// The header is the one `hound` writes for the spec (made in memory); the sample bytes are
-/// encoded here in chunks, exactly as hound encodes them one at a time. [`WavWriter::finish`]
+/// The header is the one `hound` writes for the spec (made in memory), with the 'JUNK'
+/// reservation for RF64 after "WAVE", the metadata chunks of [`WriterOptions::chunks`]
+/// before the data chunk, and a WAVE_FORMAT_EXTENSIBLE format chunk of our own when
+/// [`WriterOptions::channel_mask`] is given; the sample bytes are encoded here in chunks,
+/// exactly as hound encodes them one at a time. Chunks set by
+/// [`WavWriter::set_chunks_after_data`] follow the audio. [`WavWriter::finish`]
 /// completes the two size fields and, unlike hound, ends an odd-sized data chunk with the pad
 /// byte RIFF requires (counted in the RIFF size, not in the data chunk's).
 pub struct WavWriter {
@@ -75,6 +88,8 @@ pub struct WavWriter {
     synced: u64,
     /// The thread doing the write-backs, when `sync_every` is set.
     writeback: Option<WriteBack>,
+    /// Chunks written after the audio.
+    after: Vec<Chunk>,
 }
 
 impl std::fmt::Debug for WavWriter {
@@ -130,19 +145,80 @@ fn pad_len(len: u64) -> u64 {
     len % 2
 }
 
+/// A chunk's bytes: id, size, body and the pad byte of an odd size (RIFF, IBM/Microsoft
+/// 1991).
+fn chunk_bytes(c: &Chunk, out: &mut Vec<u8>) {
+    out.extend_from_slice(&c.id);
+    out.extend_from_slice(&(c.body.len() as u32).to_le_bytes());
+    out.extend_from_slice(&c.body);
+    if c.body.len() % 2 == 1 {
+        out.push(0);
+    }
+}
+
+/// A WAVE_FORMAT_EXTENSIBLE format chunk body for `spec` with the channel mask `mask`:
+/// WAVEFORMATEX (tag 0xFFFE, channels, rate, bytes per second, block align, container
+/// bits), cbSize 22, valid bits (all of the container's), the mask, and the SubFormat GUID
+/// of PCM or IEEE float ({0000000X-0000-0010-8000-00AA00389B71}) (Microsoft, "Multiple
+/// channel audio data and WAVE files").
+fn extensible_fmt(spec: hound::WavSpec, mask: u32) -> Vec<u8> {
+    let align = spec.channels * (spec.bits_per_sample / 8);
+    let code: u16 = match spec.sample_format {
+        hound::SampleFormat::Float => 3,
+        hound::SampleFormat::Int => 1,
+    };
+    let mut f = Vec::with_capacity(40);
+    f.extend_from_slice(&0xFFFEu16.to_le_bytes());
+    f.extend_from_slice(&spec.channels.to_le_bytes());
+    f.extend_from_slice(&spec.sample_rate.to_le_bytes());
+    f.extend_from_slice(&(spec.sample_rate.wrapping_mul(u32::from(align))).to_le_bytes());
+    f.extend_from_slice(&align.to_le_bytes());
+    f.extend_from_slice(&spec.bits_per_sample.to_le_bytes());
+    f.extend_from_slice(&22u16.to_le_bytes());
+    f.extend_from_slice(&spec.bits_per_sample.to_le_bytes());
+    f.extend_from_slice(&mask.to_le_bytes());
+    f.extend_from_slice(&code.to_le_bytes());
+    f.extend_from_slice(&[
+        0x00, 0x00, 0x00, 0x00, 0x10, 0x00, 0x80, 0x00, 0x00, 0xAA, 0x00, 0x38, 0x9B, 0x71,
+    ]);
+    f
+}
+
 /// The header hound writes for `spec` (RIFF, format chunk, data chunk header), sizes 0,
 /// with a 'JUNK' chunk reserved after "WAVE" for the 'ds64' chunk of a file that will pass
-/// 4 GiB (see [`super::rf64`]).
-fn header(spec: hound::WavSpec) -> Result<Vec<u8>, WavError> {
+/// 4 GiB (see [`super::rf64`]); with `mask`, the format chunk is WAVE_FORMAT_EXTENSIBLE with
+/// that channel mask; `chunks` go between the format chunk and the data chunk.
+fn header(spec: hound::WavSpec, mask: Option<u32>, chunks: &[Chunk]) -> Result<Vec<u8>, WavError> {
     let mut buf = io::Cursor::new(Vec::new());
     hound::WavWriter::new(&mut buf, spec)
         .and_then(|w| w.finalize())
         .map_err(map_write)?;
     let plain = buf.into_inner();
+    let data_head = plain.len() - 8;
     let mut h = Vec::with_capacity(plain.len() + 36);
     h.extend_from_slice(&plain[..12]);
     h.extend_from_slice(&junk_chunk());
-    h.extend_from_slice(&plain[12..]);
+    match mask {
+        Some(mask) => chunk_bytes(
+            &Chunk {
+                id: *b"fmt ",
+                body: extensible_fmt(spec, mask),
+            },
+            &mut h,
+        ),
+        None => h.extend_from_slice(&plain[12..data_head]),
+    }
+    for c in chunks {
+        chunk_bytes(c, &mut h);
+    }
+    h.extend_from_slice(&plain[data_head..]);
+    if u32::try_from(h.len()).is_err() {
+        return Err(WavError::MetadataTooLarge {
+            id: "all metadata".into(),
+            len: h.len() as u64,
+            limit: u64::from(u32::MAX),
+        });
+    }
     Ok(h)
 }
 
@@ -189,7 +265,7 @@ impl WavWriter {
             return Err(WavError::Malformed("0 channels".into()));
         }
         let spec = opts.encoding.spec(opts.sample_rate, opts.channels);
-        let header = header(spec)?;
+        let header = header(spec, opts.channel_mask, &opts.chunks)?;
         let (staged, target) = match path {
             Some(path) => {
                 let (staged, file) = StagedFile::create(path, opts.force)?;
@@ -212,7 +288,13 @@ impl WavWriter {
             sync_every: 0,
             synced: 0,
             writeback: None,
+            after: Vec::new(),
         })
+    }
+
+    /// Chunks to write after the audio (metadata that came after the input's audio).
+    pub fn set_chunks_after_data(&mut self, chunks: Vec<Chunk>) {
+        self.after = chunks;
     }
 
     /// Whether dither is being added.
@@ -312,10 +394,20 @@ impl WavWriter {
             // 1.0", 1991); the RIFF chunk's size (everything after its first 8 bytes) counts
             // it. Sizes past 32 bits make the file RF64 (EBU Tech 3306).
             let pad = pad_len(self.data_bytes) as usize;
-            let patches = size_fields(u64::from(self.header_len), self.data_bytes, self.frames);
+            let mut trailer = Vec::new();
+            for c in &self.after {
+                chunk_bytes(c, &mut trailer);
+            }
+            let patches = size_fields(
+                u64::from(self.header_len),
+                self.data_bytes,
+                self.frames,
+                trailer.len() as u64,
+            );
             let fill = |out: &mut BufWriter<Target>| -> io::Result<()> {
                 // The writer stands just after the last audio byte.
                 out.write_all(&[0u8][..pad])?;
+                out.write_all(&trailer)?;
                 for (at, bytes) in &patches {
                     out.seek(SeekFrom::Start(*at))?;
                     out.write_all(bytes)?;
@@ -407,6 +499,38 @@ mod tests {
         }
         // 8- and 24-bit mono of an odd length, each with and without dither.
         assert_eq!(padded, 4);
+    }
+
+    #[test]
+    fn our_extensible_format_chunk_is_hounds_with_the_mask_we_give() {
+        // Where hound writes WAVE_FORMAT_EXTENSIBLE (more than two channels or more than 16
+        // bits), it sets the first N speaker bits; given that same mask, our own format
+        // chunk must be byte for byte the one hound writes.
+        for enc in [Encoding::Int(24), Encoding::Int(32), Encoding::Float32] {
+            for channels in [1u16, 2, 3, 4, 6, 8] {
+                let spec = enc.spec(48_000, channels);
+                let first_bits = (1u32 << channels) - 1;
+                assert_eq!(
+                    header(spec, Some(first_bits), &[]).unwrap(),
+                    header(spec, None, &[]).unwrap(),
+                    "{enc} x{channels}"
+                );
+            }
+        }
+        // Metadata goes between the format chunk and the data chunk header, padded.
+        let spec = Encoding::Int(16).spec(8000, 2);
+        let c = Chunk {
+            id: *b"abcd",
+            body: vec![1, 2, 3],
+        };
+        let plain = header(spec, None, &[]).unwrap();
+        let with = header(spec, None, &[c]).unwrap();
+        assert_eq!(with.len(), plain.len() + 12);
+        assert_eq!(
+            &with[with.len() - 20..with.len() - 8],
+            b"abcd\x03\0\0\0\x01\x02\x03\0"
+        );
+        assert_eq!(&with[with.len() - 8..with.len() - 4], b"data");
     }
 
     #[test]
