@@ -141,6 +141,28 @@ fn verify_of_every_output_format_passes_at_its_default_and_at_200_db() {
     }
 }
 
+// Minimum phase at the default stopband of float output (160 dB): the design's passband
+// ripple must stay within the allowance `verify` applies (it did not before the cepstrum's
+// floor followed the request).
+#[test]
+fn verify_of_a_minimum_phase_conversion_passes_at_the_default() {
+    let dir = tempfile::tempdir().unwrap();
+    let args = [
+        "verify",
+        "--in-rate",
+        "44.1k",
+        "--out-rate",
+        "48k",
+        "--phase",
+        "minimum",
+        "--json",
+    ];
+    let out = rerate(dir.path(), &args);
+    let v = json(&out);
+    assert_eq!(out.status.code(), Some(0), "{v}");
+    assert_eq!(v["pass"], true, "{v}");
+}
+
 #[test]
 fn verify_text_names_the_verdict() {
     let dir = tempfile::tempdir().unwrap();
