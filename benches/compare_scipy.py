@@ -15,6 +15,9 @@ With `--files N`, each run converts N copies of the signal: rerate in one `conve
 with all N files (a batch, which designs the filter once), scipy N calls; the ratio is then
 that of a batch, as when converting a corpus.
 
+Beside each ratio the floor is printed: the wall time of copying the same input files to
+fresh files (`shutil.copyfile`), which no file-to-file converter can beat.
+
 Usage: python3 benches/compare_scipy.py [--rerate target/release/rerate] [--rounds 5]
        [--seconds 60] [--files 1] [--json]
 Versions are pinned (fixtures/requirements.txt): numpy 2.4.6, scipy 1.17.1.
@@ -105,7 +108,7 @@ def main():
             first_out = dst if args.files == 1 else os.path.join(dst, os.path.basename(srcs[0]))
             cmd = [rerate, "convert", *srcs, "--out-rate", str(out_rate), "-o", dst, "--float",
                    "--stopband-db", str(db), "--force"]
-            ours, theirs, ours_cpu, theirs_cpu = [], [], [], []
+            ours, theirs, ours_cpu, theirs_cpu, floor = [], [], [], [], []
             y_ref = None
             for _ in range(args.rounds):
                 # A fresh output path each run, as when converting a file for the first time
@@ -118,6 +121,15 @@ def main():
                 run(cmd)
                 ours.append(time.perf_counter() - t0)
                 ours_cpu.append(child_cpu() - c0)
+                # The floor: the same bytes copied file to file, to fresh names.
+                copies = [os.path.join(tmp, f"copy_{i}.wav") for i in range(args.files)]
+                for c in copies:
+                    if os.path.exists(c):
+                        os.remove(c)
+                t0 = time.perf_counter()
+                for src, c in zip(srcs, copies):
+                    shutil.copyfile(src, c)
+                floor.append(time.perf_counter() - t0)
                 x_mem = x.astype(np.float64)
                 t0, c0 = time.perf_counter(), time.process_time()
                 for _ in range(args.files):
@@ -132,6 +144,7 @@ def main():
                 "rerate_s": statistics.median(ours), "scipy_s": statistics.median(theirs),
                 "rerate_cpu_s": statistics.median(ours_cpu), "scipy_cpu_s": statistics.median(theirs_cpu),
                 "max_abs_difference": diff,
+                "copy_floor_s": statistics.median(floor),
             }
             row["ratio"] = row["scipy_s"] / row["rerate_s"]
             row["cpu_ratio"] = row["scipy_cpu_s"] / row["rerate_cpu_s"]
@@ -141,7 +154,8 @@ def main():
                       f"rerate {row['rerate_s']:.3f} s (file to file), scipy {row['scipy_s']:.3f} s "
                       f"(in memory): {row['ratio']:.1f}x faster in wall time; CPU time rerate "
                       f"{row['rerate_cpu_s']:.3f} s, scipy {row['scipy_cpu_s']:.3f} s: {row['cpu_ratio']:.1f}x; "
-                      f"max |difference| {diff:.2e}",
+                      f"max |difference| {diff:.2e}; floor (copying the input file to file) "
+                      f"{row['copy_floor_s']:.3f} s",
                       flush=True)
     if args.json:
         print(json.dumps({"versions": versions, "rounds": args.rounds, "seconds": args.seconds,
