@@ -102,6 +102,12 @@ pub struct Frame {
     pub unwanted_dbfs: f64,
     /// Its frequency, Hz.
     pub unwanted_hz: f64,
+    /// The sweep's frequency at the input at the frame's centre, Hz (`None` outside the
+    /// sweep and for the probes' frame): the input frequency that caused what the frame holds.
+    pub tone_hz: Option<f64>,
+    /// True when the frame's stopband was left to the edge probes (its strongest unwanted
+    /// component is not counted, and `unwanted_dbfs` is the floor).
+    pub left_to_probes: bool,
 }
 
 /// Every frame's bin levels in dBFS, for pictures.
@@ -158,6 +164,63 @@ pub struct Measurement {
 }
 
 impl Measurement {
+    /// The strongest unwanted component against the input frequency that caused it:
+    /// `(input Hz, dB relative to the wanted tone at the reference frequency)`, sorted by
+    /// frequency. One point per analysis frame that holds the sweep ([`Frame::tone_hz`];
+    /// frames left to the edge probes are skipped), then, when the sweep carried edge
+    /// probes, one per probe tone: the level of its image (upsampling) or alias
+    /// (downsampling) next to the band edge ([`EdgeReport::stopband`]). The worst of these
+    /// points is [`Measurement::rejection_db`] below 0 dB (the edge's interpolated level,
+    /// which can count too, is not a point of its own).
+    pub fn unwanted_by_tone(&self) -> Vec<(f64, f64)> {
+        let mut pts: Vec<(f64, f64)> = self
+            .frames
+            .iter()
+            .filter(|f| !f.left_to_probes)
+            .filter_map(|f| {
+                f.tone_hz
+                    .map(|hz| (hz, f.unwanted_dbfs - self.reference_dbfs))
+            })
+            .collect();
+        if let Some(e) = &self.edge {
+            let up = self.out_rate > self.in_rate;
+            for &(d, db) in &e.stopband {
+                let tone = if up { e.edge_hz - d } else { e.edge_hz + d };
+                pts.push((tone, db - self.reference_gain_db));
+            }
+        }
+        pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+        pts
+    }
+
+    /// Where a linear converter's low-pass filter (at the up-sampled rate) let an unwanted
+    /// component of the input tone `tone_hz` through, Hz, when that component is the first
+    /// image or alias (usually the strongest): the tone itself above the lower Nyquist
+    /// frequency (its alias), else its first image at `in_rate - tone_hz`.
+    pub fn filter_hz_of(&self, tone_hz: f64) -> f64 {
+        let lower_nyq = f64::from(self.in_rate.min(self.out_rate)) / 2.0;
+        if tone_hz > lower_nyq {
+            tone_hz
+        } else {
+            f64::from(self.in_rate) - tone_hz
+        }
+    }
+
+    /// The stopband as measured: [`Measurement::unwanted_by_tone`] with each point moved to
+    /// the frequency where the converter's low-pass filter let it through
+    /// ([`Measurement::filter_hz_of`]), sorted by that frequency. Together with
+    /// [`Measurement::response_curve`] (the passband and transition band) it is the
+    /// converter's magnitude response down to its stopband floor, read from its output.
+    pub fn stopband_points(&self) -> Vec<(f64, f64)> {
+        let mut pts: Vec<(f64, f64)> = self
+            .unwanted_by_tone()
+            .into_iter()
+            .map(|(hz, db)| (self.filter_hz_of(hz), db))
+            .collect();
+        pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+        pts
+    }
+
     /// The measured response on `points` log-spaced frequencies over the swept band:
     /// `(Hz, dB relative to the reference frequency)`.
     pub fn response_curve(&self, points: usize) -> Vec<(f64, f64)> {
@@ -360,6 +423,8 @@ fn analyse_with_input(
         let p = an.powers(y, start, &mut planner)?;
         let (mut wanted, mut guard, mut span_hz) = (None, None, 0.0);
         let mut left_to_probes = false;
+        let mid = 0.5 * (s0 + s1);
+        let tone_hz = (mid >= ts && mid <= te).then(|| law.tone_at(mid)).flatten();
         if s1 >= ts && s0 <= te {
             let fa = law.tone_at(s0.max(ts)).unwrap_or(sweep.f1());
             let fb = law.tone_at(s1.min(te)).unwrap_or(sweep.f2());
@@ -409,6 +474,8 @@ fn analyse_with_input(
             wanted_dbfs: db(wanted_p),
             unwanted_dbfs: db(best.0),
             unwanted_hz: best.1 as f64 * bin,
+            tone_hz,
+            left_to_probes,
         });
         if settings.keep_spectrogram {
             levels.push(p.iter().map(|&v| db(v) as f32).collect());
@@ -441,6 +508,8 @@ fn analyse_with_input(
                     wanted_dbfs: FLOOR_DBFS,
                     unwanted_dbfs: dbfs,
                     unwanted_hz: hz,
+                    tone_hz: None,
+                    left_to_probes: false,
                 };
             }
             Some(r)
