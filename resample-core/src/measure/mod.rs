@@ -122,6 +122,27 @@ pub struct Spectrogram {
     pub levels_dbfs: Vec<Vec<f32>>,
 }
 
+/// One point of [`Measurement::unwanted_by_tone`]: the strongest unwanted component an
+/// input tone caused.
+///
+/// With [`Measurement::response_curve`] (passband and transition band), the points at
+/// [`Unwanted::filter_hz`] are the converter's magnitude response down to its stopband
+/// floor, read from its output alone.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[non_exhaustive]
+pub struct Unwanted {
+    /// The input tone, Hz.
+    pub tone_hz: f64,
+    /// The strongest unwanted component while it played, dB relative to the wanted tone at
+    /// the reference frequency.
+    pub level_db: f64,
+    /// Where the converter's low-pass filter let it through, Hz
+    /// ([`Measurement::filter_hz_of`]; exact for the probes).
+    pub filter_hz: f64,
+    /// True for a point of the edge probes, false for a frame of the sweep.
+    pub from_probe: bool,
+}
+
 /// The result of a measurement.
 #[derive(Debug, Clone)]
 #[non_exhaustive]
@@ -164,32 +185,41 @@ pub struct Measurement {
 }
 
 impl Measurement {
-    /// The strongest unwanted component against the input frequency that caused it:
-    /// `(input Hz, dB relative to the wanted tone at the reference frequency)`, sorted by
-    /// frequency. One point per analysis frame that holds the sweep ([`Frame::tone_hz`];
-    /// frames left to the edge probes are skipped), then, when the sweep carried edge
-    /// probes, one per probe tone: the level of its image (upsampling) or alias
-    /// (downsampling) next to the band edge ([`EdgeReport::stopband`]). The worst of these
-    /// points is [`Measurement::rejection_db`] below 0 dB (the edge's interpolated level,
-    /// which can count too, is not a point of its own).
-    pub fn unwanted_by_tone(&self) -> Vec<(f64, f64)> {
-        let mut pts: Vec<(f64, f64)> = self
+    /// The strongest unwanted component against the input frequency that caused it, sorted
+    /// by that frequency: one point per analysis frame that holds the sweep
+    /// ([`Frame::tone_hz`]; frames left to the edge probes are skipped), then, when the
+    /// sweep carried edge probes, one per probe tone: the level of its image (upsampling)
+    /// or alias (downsampling) next to the band edge ([`EdgeReport::stopband`]). The worst
+    /// point is [`Measurement::rejection_db`] below 0 dB, unless the level interpolated at
+    /// the edge itself counted ([`EdgeReport::at_edge_db`]), which lies between points.
+    pub fn unwanted_by_tone(&self) -> Vec<Unwanted> {
+        let mut pts: Vec<Unwanted> = self
             .frames
             .iter()
             .filter(|f| !f.left_to_probes)
             .filter_map(|f| {
-                f.tone_hz
-                    .map(|hz| (hz, f.unwanted_dbfs - self.reference_dbfs))
+                f.tone_hz.map(|hz| Unwanted {
+                    tone_hz: hz,
+                    level_db: f.unwanted_dbfs - self.reference_dbfs,
+                    filter_hz: self.filter_hz_of(hz),
+                    from_probe: false,
+                })
             })
             .collect();
         if let Some(e) = &self.edge {
             let up = self.out_rate > self.in_rate;
             for &(d, db) in &e.stopband {
                 let tone = if up { e.edge_hz - d } else { e.edge_hz + d };
-                pts.push((tone, db - self.reference_gain_db));
+                pts.push(Unwanted {
+                    tone_hz: tone,
+                    // Probe levels are relative to one probe tone at the sweep's level.
+                    level_db: db - self.reference_gain_db,
+                    filter_hz: e.edge_hz + d,
+                    from_probe: true,
+                });
             }
         }
-        pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+        pts.sort_by(|a, b| a.tone_hz.total_cmp(&b.tone_hz));
         pts
     }
 
@@ -204,21 +234,6 @@ impl Measurement {
         } else {
             f64::from(self.in_rate) - tone_hz
         }
-    }
-
-    /// The stopband as measured: [`Measurement::unwanted_by_tone`] with each point moved to
-    /// the frequency where the converter's low-pass filter let it through
-    /// ([`Measurement::filter_hz_of`]), sorted by that frequency. Together with
-    /// [`Measurement::response_curve`] (the passband and transition band) it is the
-    /// converter's magnitude response down to its stopband floor, read from its output.
-    pub fn stopband_points(&self) -> Vec<(f64, f64)> {
-        let mut pts: Vec<(f64, f64)> = self
-            .unwanted_by_tone()
-            .into_iter()
-            .map(|(hz, db)| (self.filter_hz_of(hz), db))
-            .collect();
-        pts.sort_by(|a, b| a.0.total_cmp(&b.0));
-        pts
     }
 
     /// The measured response on `points` log-spaced frequencies over the swept band:
