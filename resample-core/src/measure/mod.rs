@@ -102,8 +102,9 @@ pub struct Frame {
     pub unwanted_dbfs: f64,
     /// Its frequency, Hz.
     pub unwanted_hz: f64,
-    /// The sweep's frequency at the input at the frame's centre, Hz (`None` outside the
-    /// sweep and for the probes' frame): the input frequency that caused what the frame holds.
+    /// The sweep's frequency at the input at the frame's centre, Hz: the input frequency
+    /// that caused what the frame holds (`None` for frames outside the sweep's steady part:
+    /// silence and the fades, where the tone is fading in or out, and for the probes' frame).
     pub tone_hz: Option<f64>,
     /// True when the frame's stopband was left to the edge probes (its strongest unwanted
     /// component is not counted, and `unwanted_dbfs` is the floor).
@@ -439,7 +440,9 @@ fn analyse_with_input(
         let (mut wanted, mut guard, mut span_hz) = (None, None, 0.0);
         let mut left_to_probes = false;
         let mid = 0.5 * (s0 + s1);
-        let tone_hz = (mid >= ts && mid <= te).then(|| law.tone_at(mid)).flatten();
+        // Frames touching a fade hold a tone that is fading in or out: no steady cause.
+        let steady = s0 >= ts + FADE_SECONDS && s1 <= te - FADE_SECONDS;
+        let tone_hz = steady.then(|| law.tone_at(mid)).flatten();
         if s1 >= ts && s0 <= te {
             let fa = law.tone_at(s0.max(ts)).unwrap_or(sweep.f1());
             let fb = law.tone_at(s1.min(te)).unwrap_or(sweep.f2());
