@@ -134,6 +134,9 @@ where
     Ok(())
 }
 
+/// Height of one row of a legend strip, pixels.
+pub const LEGEND_ROW_PX: u32 = 22;
+
 /// What a legend entry shows.
 #[derive(Debug, Clone, Copy)]
 pub enum Swatch {
@@ -147,8 +150,9 @@ pub enum Swatch {
     Dot(RGBColor),
 }
 
-/// One row of legend entries across `area` (a strip above or below a chart, so that the
-/// legend never covers data), left to right.
+/// Legend entries across `area` (a strip above or below a chart, so that the legend never
+/// covers data), left to right, wrapping onto further rows of [`LEGEND_ROW_PX`] when the
+/// strip is too narrow.
 pub fn legend_strip<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
     items: &[(String, Swatch)],
@@ -158,10 +162,26 @@ where
 {
     let err = |e: DrawingAreaErrorKind<DB::ErrorType>| anyhow!("{e}");
     let (w, h) = area.dim_in_pixel();
-    let y = (h / 2) as i32;
-    let mut x = 90_i32;
-    let char_w = (LABEL_PX as f64 * 0.62).ceil() as i32;
+    let rows_fit = (h / LEGEND_ROW_PX).max(1) as i32;
+    let row_px = LEGEND_ROW_PX as i32;
+    let top = (h as i32 - rows_fit * row_px) / 2;
+    let (left, right) = (90_i32, w as i32 - 20);
+    let mut row = 0;
+    let mut x = left;
     for (label, swatch) in items {
+        let text_w = area
+            .estimate_text_size(label, &font(LABEL_PX))
+            .map_err(err)?
+            .0 as i32;
+        let need = 34 + text_w;
+        if x + need > right && x > left {
+            row += 1;
+            x = left;
+        }
+        if row >= rows_fit {
+            break;
+        }
+        let y = top + row * row_px + row_px / 2;
         match *swatch {
             Swatch::Line(c, width) => area
                 .draw(&PathElement::new(
@@ -195,10 +215,7 @@ where
             font(LABEL_PX),
         ))
         .map_err(err)?;
-        x += 34 + char_w * label.chars().count() as i32 + 28;
-        if x > w as i32 {
-            break;
-        }
+        x += need + 30;
     }
     Ok(())
 }
