@@ -124,6 +124,19 @@ impl PlotViewArg {
     }
 }
 
+/// `--plot FILE`: a path ending in `.png` or `.svg` (either case), so that a picture of
+/// an unknown kind is a usage error before any work.
+pub fn parse_plot_path(text: &str) -> Result<PathBuf, String> {
+    let path = PathBuf::from(text);
+    let ext = path
+        .extension()
+        .map(|e| e.to_string_lossy().to_ascii_lowercase());
+    match ext.as_deref() {
+        Some("png" | "svg") => Ok(path),
+        _ => Err(format!("'{text}': the plot file must end in .png or .svg")),
+    }
+}
+
 /// Report options shared by `verify` and `grade`.
 #[derive(Debug, Args)]
 pub struct ReportArgs {
@@ -131,7 +144,7 @@ pub struct ReportArgs {
     #[arg(long)]
     pub json: bool,
     /// Draw a picture of the measurement to FILE (.png or .svg); see --plot-view.
-    #[arg(long, value_name = "FILE")]
+    #[arg(long, value_name = "FILE", value_parser = parse_plot_path)]
     pub plot: Option<PathBuf>,
     /// Which picture --plot draws: margin (unwanted level per input frequency against the
     /// request, and the response down to the stopband floor) or spectrogram (the output in

@@ -79,8 +79,8 @@ pub struct TradeoffArgs {
     /// Print the rows as CSV.
     #[arg(long)]
     pub csv: bool,
-    /// Draw rejection and speed against taps per phase to FILE (.png or .svg).
-    #[arg(long, value_name = "FILE")]
+    /// Draw rejection, speed and latency against taps per phase to FILE (.png or .svg).
+    #[arg(long, value_name = "FILE", value_parser = super::parse_plot_path)]
     pub plot: Option<PathBuf>,
     /// Overwrite FILE given to --plot if it exists.
     #[arg(long)]
