@@ -195,11 +195,12 @@ where
 {
     let err = |e: DrawingAreaErrorKind<DB::ErrorType>| anyhow!("{e}");
     let pts = visible(m.unwanted_by_tone());
-    let sweep: Vec<(f64, f64)> = pts
-        .iter()
-        .filter(|p| !p.from_probe && p.tone_hz > 0.0)
-        .map(|p| (p.tone_hz, shown(p.level_db)))
-        .collect();
+    let sweep = strongest_per_column(
+        pts.iter()
+            .filter(|p| !p.from_probe && p.tone_hz > 0.0)
+            .map(|p| (p.tone_hz, shown(p.level_db))),
+        COLUMNS,
+    );
     let probes: Vec<&Unwanted> = pts.iter().filter(|p| p.from_probe).collect();
     let (x0, x1) = pts
         .iter()
@@ -256,7 +257,7 @@ where
     chart
         .configure_mesh()
         .bold_line_style(theme::GRID)
-        .light_line_style(theme::GRID_FAINT)
+        .light_line_style(TRANSPARENT)
         .axis_style(INK)
         .label_style(theme::font(theme::LABEL_PX))
         .axis_desc_style(theme::font(theme::LABEL_PX))
@@ -319,34 +320,81 @@ where
     Ok(())
 }
 
+/// Columns the unwanted-level curve is drawn with (about one per two pixels).
+const COLUMNS: usize = 600;
+
+/// The strongest level in each of `columns` log-spaced columns of frequency (points sorted
+/// by frequency, all above 0 Hz): the worst case the picture is about, drawn without the
+/// frame-to-frame jitter finer than a column.
+fn strongest_per_column(pts: impl Iterator<Item = (f64, f64)>, columns: usize) -> Vec<(f64, f64)> {
+    let pts: Vec<(f64, f64)> = pts.collect();
+    let (Some(first), Some(last)) = (pts.first(), pts.last()) else {
+        return Vec::new();
+    };
+    let (lo, hi) = (first.0.ln(), last.0.ln());
+    let width = ((hi - lo) / columns as f64).max(f64::MIN_POSITIVE);
+    let mut out: Vec<(f64, f64)> = Vec::new();
+    let mut current: Option<(usize, f64, f64)> = None; // (column, Hz of the peak, level)
+    for &(f, v) in &pts {
+        let c = ((f.ln() - lo) / width) as usize;
+        match current {
+            Some((cc, _, best)) if cc == c => {
+                if v > best {
+                    current = Some((c, f, v));
+                }
+            }
+            _ => {
+                if let Some((_, pf, pv)) = current {
+                    out.push((pf, pv));
+                }
+                current = Some((c, f, v));
+            }
+        }
+    }
+    if let Some((_, pf, pv)) = current {
+        out.push((pf, pv));
+    }
+    out
+}
+
 /// `v` rounded to two decimals (for captions).
 fn round2(v: f64) -> f64 {
     (v * 100.0).round() / 100.0
 }
 
 /// The areas between the curve `pts` and the level `line`: the margin where the curve is
-/// under it, the shortfall where it is over, split where the curve crosses it.
+/// under it, the shortfall where it is over, one polygon per stretch on one side (split
+/// where the curve crosses the line), so that no seams show between pieces.
 fn shade(pts: &[(f64, f64)], line: f64) -> Vec<Polygon<(f64, f64)>> {
-    let mut out = Vec::new();
     let ok = theme::MARGIN.mix(0.45).filled();
     let over = theme::SHORTFALL.mix(0.6).filled();
-    for w in pts.windows(2) {
-        let ((xa, ya), (xb, yb)) = (w[0], w[1]);
-        let (da, dbv) = (ya - line, yb - line);
-        if (da <= 0.0) == (dbv <= 0.0) {
-            let style = if da <= 0.0 { ok } else { over };
-            out.push(Polygon::new(
-                vec![(xa, line), (xa, ya), (xb, yb), (xb, line)],
-                style,
-            ));
-        } else {
-            let t = da / (da - dbv);
-            let xc = xa + t * (xb - xa);
-            let (sa, sb) = if da <= 0.0 { (ok, over) } else { (over, ok) };
-            out.push(Polygon::new(vec![(xa, line), (xa, ya), (xc, line)], sa));
-            out.push(Polygon::new(vec![(xc, line), (xb, yb), (xb, line)], sb));
+    let mut out = Vec::new();
+    let close = |run: &mut Vec<(f64, f64)>, under: bool, out: &mut Vec<Polygon<(f64, f64)>>| {
+        if let (Some(&(x0, _)), Some(&(x1, _))) = (run.first(), run.last()) {
+            let mut poly = Vec::with_capacity(run.len() + 2);
+            poly.push((x0, line));
+            poly.append(run);
+            poly.push((x1, line));
+            out.push(Polygon::new(poly, if under { ok } else { over }));
         }
+    };
+    let mut run: Vec<(f64, f64)> = Vec::new();
+    let mut under = true;
+    for (i, &(x, y)) in pts.iter().enumerate() {
+        let here = y <= line;
+        if i > 0 && here != under {
+            // The crossing, on the straight line between the two points.
+            let (xa, ya) = pts[i - 1];
+            let t = (line - ya) / (y - ya);
+            let xc = xa + t * (x - xa);
+            run.push((xc, line));
+            close(&mut run, under, &mut out);
+            run.push((xc, line));
+        }
+        under = here;
+        run.push((x, y));
     }
+    close(&mut run, under, &mut out);
     out
 }
 
@@ -407,7 +455,7 @@ where
     chart
         .configure_mesh()
         .bold_line_style(theme::GRID)
-        .light_line_style(theme::GRID_FAINT)
+        .light_line_style(TRANSPARENT)
         .axis_style(INK)
         .label_style(theme::font(theme::LABEL_PX))
         .axis_desc_style(theme::font(theme::LABEL_PX))
@@ -504,7 +552,7 @@ where
     chart
         .configure_mesh()
         .bold_line_style(theme::GRID)
-        .light_line_style(theme::GRID_FAINT)
+        .light_line_style(TRANSPARENT)
         .axis_style(INK)
         .label_style(theme::font(theme::LABEL_PX))
         .axis_desc_style(theme::font(theme::LABEL_PX))
@@ -593,7 +641,7 @@ where
     chart
         .configure_mesh()
         .bold_line_style(theme::GRID)
-        .light_line_style(theme::GRID_FAINT)
+        .light_line_style(TRANSPARENT)
         .axis_style(INK)
         .label_style(theme::font(theme::LABEL_PX))
         .axis_desc_style(theme::font(theme::LABEL_PX))

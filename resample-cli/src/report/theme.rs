@@ -27,8 +27,6 @@ pub const PAPER: RGBColor = RGBColor(252, 251, 247);
 pub const INK: RGBColor = RGBColor(38, 42, 50);
 /// Grid lines.
 pub const GRID: RGBColor = RGBColor(222, 220, 212);
-/// Faint grid lines.
-pub const GRID_FAINT: RGBColor = RGBColor(238, 236, 230);
 /// A measured curve.
 pub const MEASURED: RGBColor = RGBColor(28, 86, 150);
 /// Measurements of the edge probes.

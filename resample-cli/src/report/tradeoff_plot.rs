@@ -180,7 +180,7 @@ where
             chart
                 .configure_mesh()
                 .bold_line_style(theme::GRID)
-                .light_line_style(theme::GRID_FAINT)
+                .light_line_style(TRANSPARENT)
                 .axis_style(INK)
                 .x_desc("taps per phase")
                 .y_desc(spec.y_desc)
