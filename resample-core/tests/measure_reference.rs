@@ -322,3 +322,85 @@ fn zero_stuffing_without_a_filter_fails() {
     .unwrap();
     assert!(m.rejection_db < 1.0, "{}", m.rejection_db);
 }
+
+#[test]
+fn unwanted_by_tone_follows_the_hold_formula_and_finds_the_worst() {
+    // Sample repetition by 4 from 12 kHz to 48 kHz: the hold's response is
+    // |sin(pi f L / fs) / (L sin(pi f / fs))| at fs = 48 kHz (Crochiere & Rabiner,
+    // Multirate Digital Signal Processing, 1983, from memory; ../shared/CHECKS.md), and
+    // the strongest unwanted component of a tone f0 is its first image at 12 kHz - f0.
+    let sweep = Sweep::new(12_000).seconds(2.0);
+    let m = measure_converter(&sweep, 48_000, &Settings::default(), |x| {
+        x.iter().flat_map(|&v| [v; 4]).collect()
+    })
+    .unwrap();
+    let hold_db = |f: f64| {
+        let s = |v: f64| (core::f64::consts::PI * v / 48_000.0).sin().abs();
+        20.0 * (s(4.0 * f) / (4.0 * s(f))).log10()
+    };
+    let pts = m.unwanted_by_tone();
+    assert!(pts.windows(2).all(|w| w[0].tone_hz <= w[1].tone_hz));
+    assert!(pts.iter().all(|p| !p.from_probe));
+    for f0 in [1_000.0, 2_000.0, 4_000.0] {
+        let p = pts
+            .iter()
+            .min_by(|a, b| (a.tone_hz - f0).abs().total_cmp(&(b.tone_hz - f0).abs()))
+            .unwrap();
+        let f = p.tone_hz;
+        assert!((f - f0).abs() < 50.0, "no point near {f0} Hz (nearest {f})");
+        let expect = hold_db(12_000.0 - f) - hold_db(m.reference_hz);
+        assert!(
+            (p.level_db - expect).abs() < 0.5,
+            "tone {f:.0} Hz: measured {:.3} dB, formula {expect:.3} dB",
+            p.level_db
+        );
+        assert!((p.filter_hz - (12_000.0 - f)).abs() < 1e-9);
+    }
+    // The worst point is the rejection (no probes here, so every point is a frame's).
+    let worst = pts
+        .iter()
+        .map(|p| p.level_db)
+        .fold(f64::NEG_INFINITY, f64::max);
+    assert!(
+        (worst + m.rejection_db).abs() < 1e-9,
+        "{worst} vs {}",
+        m.rejection_db
+    );
+}
+
+#[test]
+fn unwanted_by_tone_includes_the_edge_probes() {
+    // With probes, the worst of the points is the rejection unless the edge's interpolated
+    // level counted (then the points stay at or under it).
+    let d = FilterSpec::new(48_000, 44_100)
+        .stopband_db(90.0)
+        .design()
+        .unwrap();
+    let sweep = Sweep::new(48_000).seconds(2.0).edge_probes(44_100);
+    let m = measure_converter(&sweep, 44_100, &Settings::default(), |x| {
+        offline::convert(&d, x)
+    })
+    .unwrap();
+    let pts = m.unwanted_by_tone();
+    let e = m.edge.as_ref().unwrap();
+    let probes: Vec<_> = pts.iter().filter(|p| p.from_probe).collect();
+    assert_eq!(probes.len(), e.stopband.len());
+    // Downsampling: a probe above the edge is its own alias's cause and filter frequency.
+    assert!(probes
+        .iter()
+        .all(|p| p.tone_hz > e.edge_hz && (p.filter_hz - p.tone_hz).abs() < 1e-9));
+    let worst = pts
+        .iter()
+        .map(|p| p.level_db)
+        .fold(f64::NEG_INFINITY, f64::max);
+    assert!(
+        worst <= -m.rejection_db + 1e-9,
+        "{worst} vs {}",
+        m.rejection_db
+    );
+    assert!(
+        worst > -m.rejection_db - 3.0,
+        "{worst} vs {}",
+        m.rejection_db
+    );
+}

@@ -104,15 +104,53 @@ pub fn parse_bits(text: &str) -> Result<u16, String> {
     }
 }
 
+/// `--plot-view`: which picture `--plot` draws.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum PlotViewArg {
+    /// The strongest unwanted component per input frequency against the request (margin
+    /// shaded), and the measured response down to the stopband floor (the default).
+    Margin,
+    /// The output in time and frequency, levels on a colour scale, and the passband.
+    Spectrogram,
+}
+
+impl PlotViewArg {
+    /// The picture for this choice.
+    pub fn view(self) -> crate::report::plot::View {
+        match self {
+            Self::Margin => crate::report::plot::View::Margin,
+            Self::Spectrogram => crate::report::plot::View::Spectrogram,
+        }
+    }
+}
+
+/// `--plot FILE`: a path ending in `.png` or `.svg` (either case), so that a picture of
+/// an unknown kind is a usage error before any work.
+pub fn parse_plot_path(text: &str) -> Result<PathBuf, String> {
+    let path = PathBuf::from(text);
+    let ext = path
+        .extension()
+        .map(|e| e.to_string_lossy().to_ascii_lowercase());
+    match ext.as_deref() {
+        Some("png" | "svg") => Ok(path),
+        _ => Err(format!("'{text}': the plot file must end in .png or .svg")),
+    }
+}
+
 /// Report options shared by `verify` and `grade`.
 #[derive(Debug, Args)]
 pub struct ReportArgs {
     /// Print one JSON object instead of text.
     #[arg(long)]
     pub json: bool,
-    /// Draw the output's time-frequency picture and response to FILE (.png or .svg).
-    #[arg(long, value_name = "FILE")]
+    /// Draw a picture of the measurement to FILE (.png or .svg); see --plot-view.
+    #[arg(long, value_name = "FILE", value_parser = parse_plot_path)]
     pub plot: Option<PathBuf>,
+    /// Which picture --plot draws: margin (unwanted level per input frequency against the
+    /// request, and the response down to the stopband floor) or spectrogram (the output in
+    /// time and frequency).
+    #[arg(long, value_enum, default_value_t = PlotViewArg::Margin, requires = "plot")]
+    pub plot_view: PlotViewArg,
     /// Overwrite FILE given to --plot if it exists.
     #[arg(long)]
     pub force: bool,

@@ -5,6 +5,7 @@ use std::path::PathBuf;
 use clap::Args;
 
 use super::rate::parse_rate;
+use super::PhaseArg;
 
 /// A list of attenuations, dB.
 #[derive(Debug, Clone, PartialEq)]
@@ -56,6 +57,13 @@ pub struct TradeoffArgs {
     /// Passband edge as a fraction of the lower Nyquist frequency (0.5 to 0.995).
     #[arg(long, default_value_t = resample_core::limits::DEFAULT_PASSBAND)]
     pub passband: f64,
+    /// Filter phase of the designs: linear (every frequency delayed alike) or minimum (a
+    /// fraction of the delay, varying with frequency).
+    #[arg(long, value_enum, default_value_t = PhaseArg::Linear, conflicts_with = "both_phases")]
+    pub phase: PhaseArg,
+    /// Design and measure every attenuation in both phases, side by side.
+    #[arg(long)]
+    pub both_phases: bool,
     /// Sweep duration for the quality measurement, seconds.
     #[arg(long, default_value_t = 4.0)]
     pub seconds: f64,
@@ -71,12 +79,23 @@ pub struct TradeoffArgs {
     /// Print the rows as CSV.
     #[arg(long)]
     pub csv: bool,
-    /// Draw rejection and speed against taps per phase to FILE (.png or .svg).
-    #[arg(long, value_name = "FILE")]
+    /// Draw rejection, speed and latency against taps per phase to FILE (.png or .svg).
+    #[arg(long, value_name = "FILE", value_parser = super::parse_plot_path)]
     pub plot: Option<PathBuf>,
     /// Overwrite FILE given to --plot if it exists.
     #[arg(long)]
     pub force: bool,
+}
+
+impl TradeoffArgs {
+    /// The phases to design, in table order.
+    pub fn phases(&self) -> Vec<PhaseArg> {
+        if self.both_phases {
+            vec![PhaseArg::Linear, PhaseArg::Minimum]
+        } else {
+            vec![self.phase]
+        }
+    }
 }
 
 #[cfg(test)]

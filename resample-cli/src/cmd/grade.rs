@@ -61,7 +61,8 @@ pub fn run(args: &GradeArgs) -> Result<Status> {
     let lower_nyq = f64::from(wav.rate.min(args.source_rate)) / 2.0;
     let settings = Settings {
         passband_edge_hz: Some(args.passband * lower_nyq),
-        keep_spectrogram: args.report.plot.is_some(),
+        keep_spectrogram: args.report.plot.is_some()
+            && args.report.plot_view == crate::args::PlotViewArg::Spectrogram,
     };
     // Every channel is measured (a converter may treat channels differently); the worst one
     // is reported, with its number.
@@ -91,7 +92,14 @@ pub fn run(args: &GradeArgs) -> Result<Status> {
             args.source_rate,
             wav.rate
         );
-        crate::report::plot::draw(path, &m, &title, args.expect_db, args.report.force)?;
+        crate::report::plot::draw(
+            path,
+            &m,
+            &title,
+            args.expect_db,
+            args.report.plot_view.view(),
+            args.report.force,
+        )?;
     }
     let mut out = std::io::stdout().lock();
     if args.report.json {

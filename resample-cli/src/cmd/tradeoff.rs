@@ -13,6 +13,7 @@ use resample_core::{Design, FilterSpec, Sample, StreamConverter};
 
 use crate::args::check_filter;
 use crate::args::tradeoff::TradeoffArgs;
+use crate::args::PhaseArg;
 use crate::convert::run_engine;
 use crate::exit::Status;
 use crate::report::json;
@@ -128,10 +129,16 @@ pub fn rows(args: &TradeoffArgs) -> Result<Vec<Row>> {
     let x = noise(speed_n);
     let audio_s = speed_n as f64 / f64::from(args.in_rate);
     let mut rows = Vec::new();
-    for &db in &args.stopband_db.0 {
+    let designs = args
+        .stopband_db
+        .0
+        .iter()
+        .flat_map(|&db| args.phases().into_iter().map(move |phase| (db, phase)));
+    for (db, phase) in designs {
         let design = FilterSpec::new(args.in_rate, args.out_rate)
             .stopband_db(db)
             .passband(args.passband)
+            .phase(phase.phase())
             .design()
             .with_context(|| format!("cannot design for {db} dB"))?;
         let settings = Settings {
@@ -154,6 +161,10 @@ pub fn rows(args: &TradeoffArgs) -> Result<Vec<Row>> {
         let r = design.report();
         rows.push(Row {
             method: "windowed-sinc".into(),
+            phase: Some(match phase {
+                PhaseArg::Linear => "linear",
+                PhaseArg::Minimum => "minimum",
+            }),
             requested_db: Some(db),
             taps_per_phase: Some(r.taps_per_phase),
             rejection_db: m.rejection_db,
@@ -192,6 +203,7 @@ pub fn rows(args: &TradeoffArgs) -> Result<Vec<Row>> {
             })?;
             rows.push(Row {
                 method: b.name().into(),
+                phase: None,
                 requested_db: None,
                 taps_per_phase: None,
                 rejection_db: m.rejection_db,
@@ -241,19 +253,21 @@ pub fn run(args: &TradeoffArgs) -> Result<Status> {
     } else if args.csv {
         writeln!(
             out,
-            "method,requested_db,taps_per_phase,rejection_db,ripple_db,latency_ms,speed_x_realtime,table_bytes,note"
+            "method,phase,requested_db,taps_per_phase,rejection_db,ripple_db,latency_ms,measured_latency_ms,speed_x_realtime,table_bytes,note"
         )?;
         let opt = |v: Option<String>| v.unwrap_or_default();
         for r in &rows {
             writeln!(
                 out,
-                "{},{},{},{},{},{},{},{},{}",
+                "{},{},{},{},{},{},{},{},{},{},{}",
                 r.method,
+                r.phase.unwrap_or_default(),
                 opt(r.requested_db.map(|v| v.to_string())),
                 opt(r.taps_per_phase.map(|v| v.to_string())),
                 sig(r.rejection_db),
                 sig(r.ripple_db),
                 sig(r.latency_ms),
+                sig(r.measured_latency_ms()),
                 sig(r.speed_x_realtime),
                 opt(r.table_bytes.map(|v| v.to_string())),
                 opt(r
@@ -271,12 +285,14 @@ pub fn run(args: &TradeoffArgs) -> Result<Status> {
 fn row_json(r: &Row) -> json::TradeoffRow<'_> {
     json::TradeoffRow {
         method: &r.method,
+        phase: r.phase,
         requested_db: r.requested_db,
         taps_per_phase: r.taps_per_phase,
         rejection_db: r.rejection_db,
         passband_ripple_db: r.ripple_db,
         latency_ms: r.latency_ms,
         measured_delay_ms: r.measured_delay_ms,
+        measured_latency_ms: r.measured_latency_ms(),
         speed_x_realtime: r.speed_x_realtime,
         table_bytes_f32: r.table_bytes,
         note: r.note.as_deref(),
@@ -289,13 +305,15 @@ fn table_text(rows: &[Row], args: &TradeoffArgs) -> String {
         args.in_rate, args.out_rate, args.seconds, args.speed_seconds
     );
     s.push_str(&format!(
-        "{:<20} {:>9} {:>6} {:>10} {:>11} {:>11} {:>12} {:>10}\n",
+        "{:<20} {:>7} {:>9} {:>6} {:>10} {:>11} {:>11} {:>9} {:>12} {:>10}\n",
         "method",
+        "phase",
         "asked dB",
         "taps",
         "reject dB",
         "ripple dB",
         "latency ms",
+        "meas. ms",
         "x real time",
         "table KiB"
     ));
@@ -303,13 +321,15 @@ fn table_text(rows: &[Row], args: &TradeoffArgs) -> String {
     for r in rows {
         let mark = if r.note.is_some() { "*" } else { "" };
         s.push_str(&format!(
-            "{:<20} {:>9} {:>6} {:>10} {:>11} {:>11.3} {:>12.0} {:>10}\n",
+            "{:<20} {:>7} {:>9} {:>6} {:>10} {:>11} {:>11.3} {:>9.3} {:>12.0} {:>10}\n",
             r.method,
+            r.phase.unwrap_or("-"),
             r.requested_db.map_or_else(dash, |v| format!("{v}")),
             r.taps_per_phase.map_or_else(dash, |v| v.to_string()),
             format!("{:.1}{mark}", r.rejection_db),
             crate::report::format::small_db(r.ripple_db),
             r.latency_ms,
+            r.measured_latency_ms(),
             r.speed_x_realtime,
             r.table_bytes
                 .map_or_else(dash, |v| format!("{:.1}", v as f64 / 1024.0)),
@@ -317,11 +337,14 @@ fn table_text(rows: &[Row], args: &TradeoffArgs) -> String {
     }
     for r in rows {
         if let (Some(n), Some(db)) = (&r.note, r.requested_db) {
-            s.push_str(&format!("* {db} dB row below its request: {n}\n"));
+            let phase = r.phase.map_or(String::new(), |p| format!(" {p}-phase"));
+            s.push_str(&format!("* {db} dB{phase} row below its request: {n}\n"));
         }
     }
     s.push_str(
-        "taps: per phase; latency: how far ahead a live stream must read; table memory in f32;\n\
+        "taps: per phase; latency: how far ahead a live stream must read (stated by the design);\n\
+         meas.: that latency as measured (stated look-ahead + the offline output's delay, by correlation);\n\
+         table memory in f32;\n\
          speed: one thread, mono, f32 for every row; it varies with the machine and its load\n",
     );
     s

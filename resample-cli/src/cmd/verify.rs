@@ -46,7 +46,8 @@ pub fn run(args: &VerifyArgs) -> Result<Status> {
     sweep.check().context("cannot make the sweep")?;
     let settings = Settings {
         passband_edge_hz: Some(design.report().passband_edge_hz),
-        keep_spectrogram: args.report.plot.is_some(),
+        keep_spectrogram: args.report.plot.is_some()
+            && args.report.plot_view == crate::args::PlotViewArg::Spectrogram,
     };
     let mut engine_error = None;
     let m = measure::measure_converter(&sweep, args.out_rate, &settings, |x| {
@@ -72,7 +73,14 @@ pub fn run(args: &VerifyArgs) -> Result<Status> {
             "verify {} Hz -> {} Hz, {} dB requested",
             args.in_rate, args.out_rate, requested
         );
-        crate::report::plot::draw(path, &m, &title, Some(requested), args.report.force)?;
+        crate::report::plot::draw(
+            path,
+            &m,
+            &title,
+            Some(requested),
+            args.report.plot_view.view(),
+            args.report.force,
+        )?;
     }
     let r = design.report();
     let mut out = std::io::stdout().lock();

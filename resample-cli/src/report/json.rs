@@ -368,6 +368,8 @@ pub struct Tradeoff<'a> {
 pub struct TradeoffRow<'a> {
     /// Method.
     pub method: &'a str,
+    /// Filter phase, "linear" or "minimum" (sinc rows).
+    pub phase: Option<&'static str>,
     /// Stopband asked for, dB (sinc rows).
     pub requested_db: Option<f64>,
     /// Taps per phase (sinc rows).
@@ -380,6 +382,8 @@ pub struct TradeoffRow<'a> {
     pub latency_ms: f64,
     /// Delay measured by correlation, ms.
     pub measured_delay_ms: f64,
+    /// Latency of a live stream measured: `latency_ms + measured_delay_ms`.
+    pub measured_latency_ms: f64,
     /// Speed, multiple of real time.
     pub speed_x_realtime: f64,
     /// Table bytes in f32 (sinc rows).

@@ -1,8 +1,8 @@
 //! What rerate tells people: the design report ([`design`]), the per-file conversion
 //! report ([`file`](mod@file)), the measured
 //! figures of `verify` and `grade` ([`measured`]), the pictures ([`plot`],
-//! [`tradeoff_plot`]), number formatting shared by all of them ([`format`](mod@format)),
-//! every JSON record's keys ([`json`]),
+//! [`tradeoff_plot`]) in one look ([`theme`]), number formatting shared by all of them
+//! ([`format`](mod@format)), every JSON record's keys ([`json`]),
 //! and printing lines that never panics on a closed pipe ([`print`](mod@print)).
 
 pub mod design;
@@ -12,5 +12,6 @@ pub mod json;
 pub mod measured;
 pub mod plot;
 pub mod print;
+pub mod theme;
 pub mod tradeoff;
 pub mod tradeoff_plot;

@@ -12,6 +12,7 @@ mod hostile;
 mod levels;
 mod measure_cli;
 mod metadata;
+mod pictures;
 mod safety;
 mod tradeoff;
 mod util;

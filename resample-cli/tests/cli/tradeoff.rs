@@ -84,7 +84,7 @@ fn csv_text_and_plot() {
     let out = rerate(dir.path(), &args);
     assert!(out.status.success());
     let text = String::from_utf8(out.stdout).unwrap();
-    assert!(text.starts_with("method,requested_db,taps_per_phase,"));
+    assert!(text.starts_with("method,phase,requested_db,taps_per_phase,"));
     assert_eq!(text.lines().count(), 1 + 2 + 4);
     let mut args = common.to_vec();
     args.extend(["--no-baselines", "--plot", "t.svg"]);

@@ -102,6 +102,13 @@ pub struct Frame {
     pub unwanted_dbfs: f64,
     /// Its frequency, Hz.
     pub unwanted_hz: f64,
+    /// The sweep's frequency at the input at the frame's centre, Hz: the input frequency
+    /// that caused what the frame holds (`None` for frames outside the sweep's steady part:
+    /// silence and the fades, where the tone is fading in or out, and for the probes' frame).
+    pub tone_hz: Option<f64>,
+    /// True when the frame's stopband was left to the edge probes (its strongest unwanted
+    /// component is not counted, and `unwanted_dbfs` is the floor).
+    pub left_to_probes: bool,
 }
 
 /// Every frame's bin levels in dBFS, for pictures.
@@ -114,6 +121,27 @@ pub struct Spectrogram {
     pub hop_s: f64,
     /// Per frame, per bin (0 Hz to Nyquist), dBFS.
     pub levels_dbfs: Vec<Vec<f32>>,
+}
+
+/// One point of [`Measurement::unwanted_by_tone`]: the strongest unwanted component an
+/// input tone caused.
+///
+/// With [`Measurement::response_curve`] (passband and transition band), the points at
+/// [`Unwanted::filter_hz`] are the converter's magnitude response down to its stopband
+/// floor, read from its output alone.
+#[derive(Debug, Clone, Copy, PartialEq)]
+#[non_exhaustive]
+pub struct Unwanted {
+    /// The input tone, Hz.
+    pub tone_hz: f64,
+    /// The strongest unwanted component while it played, dB relative to the wanted tone at
+    /// the reference frequency.
+    pub level_db: f64,
+    /// Where the converter's low-pass filter let it through, Hz
+    /// ([`Measurement::filter_hz_of`]; exact for the probes).
+    pub filter_hz: f64,
+    /// True for a point of the edge probes, false for a frame of the sweep.
+    pub from_probe: bool,
 }
 
 /// The result of a measurement.
@@ -158,6 +186,57 @@ pub struct Measurement {
 }
 
 impl Measurement {
+    /// The strongest unwanted component against the input frequency that caused it, sorted
+    /// by that frequency: one point per analysis frame that holds the sweep
+    /// ([`Frame::tone_hz`]; frames left to the edge probes are skipped), then, when the
+    /// sweep carried edge probes, one per probe tone: the level of its image (upsampling)
+    /// or alias (downsampling) next to the band edge ([`EdgeReport::stopband`]). The worst
+    /// point is [`Measurement::rejection_db`] below 0 dB, unless the level interpolated at
+    /// the edge itself counted ([`EdgeReport::at_edge_db`]), which lies between points.
+    pub fn unwanted_by_tone(&self) -> Vec<Unwanted> {
+        let mut pts: Vec<Unwanted> = self
+            .frames
+            .iter()
+            .filter(|f| !f.left_to_probes)
+            .filter_map(|f| {
+                f.tone_hz.map(|hz| Unwanted {
+                    tone_hz: hz,
+                    level_db: f.unwanted_dbfs - self.reference_dbfs,
+                    filter_hz: self.filter_hz_of(hz),
+                    from_probe: false,
+                })
+            })
+            .collect();
+        if let Some(e) = &self.edge {
+            let up = self.out_rate > self.in_rate;
+            for &(d, db) in &e.stopband {
+                let tone = if up { e.edge_hz - d } else { e.edge_hz + d };
+                pts.push(Unwanted {
+                    tone_hz: tone,
+                    // Probe levels are relative to one probe tone at the sweep's level.
+                    level_db: db - self.reference_gain_db,
+                    filter_hz: e.edge_hz + d,
+                    from_probe: true,
+                });
+            }
+        }
+        pts.sort_by(|a, b| a.tone_hz.total_cmp(&b.tone_hz));
+        pts
+    }
+
+    /// Where a linear converter's low-pass filter (at the up-sampled rate) let an unwanted
+    /// component of the input tone `tone_hz` through, Hz, when that component is the first
+    /// image or alias (usually the strongest): the tone itself above the lower Nyquist
+    /// frequency (its alias), else its first image at `in_rate - tone_hz`.
+    pub fn filter_hz_of(&self, tone_hz: f64) -> f64 {
+        let lower_nyq = f64::from(self.in_rate.min(self.out_rate)) / 2.0;
+        if tone_hz > lower_nyq {
+            tone_hz
+        } else {
+            f64::from(self.in_rate) - tone_hz
+        }
+    }
+
     /// The measured response on `points` log-spaced frequencies over the swept band:
     /// `(Hz, dB relative to the reference frequency)`.
     pub fn response_curve(&self, points: usize) -> Vec<(f64, f64)> {
@@ -360,6 +439,10 @@ fn analyse_with_input(
         let p = an.powers(y, start, &mut planner)?;
         let (mut wanted, mut guard, mut span_hz) = (None, None, 0.0);
         let mut left_to_probes = false;
+        let mid = 0.5 * (s0 + s1);
+        // Frames touching a fade hold a tone that is fading in or out: no steady cause.
+        let steady = s0 >= ts + FADE_SECONDS && s1 <= te - FADE_SECONDS;
+        let tone_hz = steady.then(|| law.tone_at(mid)).flatten();
         if s1 >= ts && s0 <= te {
             let fa = law.tone_at(s0.max(ts)).unwrap_or(sweep.f1());
             let fb = law.tone_at(s1.min(te)).unwrap_or(sweep.f2());
@@ -409,6 +492,8 @@ fn analyse_with_input(
             wanted_dbfs: db(wanted_p),
             unwanted_dbfs: db(best.0),
             unwanted_hz: best.1 as f64 * bin,
+            tone_hz,
+            left_to_probes,
         });
         if settings.keep_spectrogram {
             levels.push(p.iter().map(|&v| db(v) as f32).collect());
@@ -441,6 +526,8 @@ fn analyse_with_input(
                     wanted_dbfs: FLOOR_DBFS,
                     unwanted_dbfs: dbfs,
                     unwanted_hz: hz,
+                    tone_hz: None,
+                    left_to_probes: false,
                 };
             }
             Some(r)
