@@ -166,7 +166,10 @@ pub mod internals;
 
 pub use engine::{offline, segments, Progress, StreamConverter};
 pub use error::{Error, Result};
-pub use filter::{Design, DesignReport, FilterSpec, Phase, GROUP_DELAY_REF_HZ};
+pub use filter::{
+    Design, DesignReport, FilterSpec, GlideDesign, GlideReport, Interpolation, Phase,
+    GROUP_DELAY_REF_HZ,
+};
 pub use kernel::{Kernel, Sample};
 pub use limits::{MAX_CHANNELS, MAX_RATE};
 pub use ratio::RatePair;
