@@ -319,9 +319,7 @@ impl GlideDesign {
                 return Ok(g);
             }
             phases *= 2;
-            if interp == Interpolation::Linear
-                && bytes(phases, g.cols, 8) > GLIDE_TABLE_LIMIT
-            {
+            if interp == Interpolation::Linear && bytes(phases, g.cols, 8) > GLIDE_TABLE_LIMIT {
                 interp = Interpolation::Cubic;
             }
         }
@@ -458,7 +456,10 @@ mod tests {
                 .design_glide()
                 .unwrap();
             let r = g.report();
-            assert!(r.interpolation_error_db <= -(a + GLIDE_ERROR_MARGIN_DB), "{r:?}");
+            assert!(
+                r.interpolation_error_db <= -(a + GLIDE_ERROR_MARGIN_DB),
+                "{r:?}"
+            );
             assert!(r.kernel_stopband_db >= a, "{r:?}");
             assert!(r.table_bytes_f64 <= GLIDE_TABLE_LIMIT, "{r:?}");
         }
