@@ -113,6 +113,12 @@ pub enum Error {
         /// Which engine.
         engine: &'static str,
     },
+    /// A drift follower was given a setting it cannot work with.
+    #[error("drift follower: {problem}")]
+    FollowerSetup {
+        /// What is wrong, in words.
+        problem: &'static str,
+    },
     /// A measurement could not be set up or run: bad sweep parameters, or a signal too
     /// short, empty or not finite.
     #[error("measurement: {problem}")]

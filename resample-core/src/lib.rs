@@ -10,7 +10,8 @@
 //!   [`FilterSpec::phase`] asks for linear phase (the default) or minimum phase ([`Phase`]).
 //! * [`StreamConverter`]: chunked, allocation-free, multichannel (planar or interleaved).
 //! * [`GlideDesign`] → [`GlideConverter`]: any real ratio, changed while it runs by a
-//!   linear glide, for drifting clocks (interpolated coefficient table).
+//!   linear glide, for drifting clocks (interpolated coefficient table); [`DriftFollower`]
+//!   steers that ratio from the fill of the FIFO between two clock domains.
 //! * [`offline`]: whole-signal conversion, delay compensated, exact length; [`segments`]:
 //!   one long conversion cut into pieces for several cores, with the same result.
 //! * [`Kernel`]: the SIMD kernel a converter uses, detected once at construction (or forced,
@@ -166,7 +167,7 @@ mod table;
 #[cfg_attr(docsrs, doc(cfg(feature = "internals")))]
 pub mod internals;
 
-pub use engine::{offline, segments, GlideConverter, Progress, StreamConverter};
+pub use engine::{offline, segments, DriftFollower, GlideConverter, Progress, StreamConverter};
 pub use error::{Error, Result};
 pub use filter::{
     Design, DesignReport, FilterSpec, GlideDesign, GlideReport, Interpolation, Phase,

@@ -583,29 +583,42 @@ impl<T: Sample> GlideConverter<T> {
             }
             return;
         }
-        // Stretched kernel: every tap at its own position q = (t - i) rho P + half.
+        // Stretched kernel: tap k at q_k = (t - lo - k) rho P + half. Walking k up, q falls
+        // by rho P = P - delta: one column back and delta phases on (carrying into the
+        // column), so no division per tap.
         let (lo, _) = sh.span(c);
         let scale = rho * p;
+        let delta = p - scale;
+        let q0 = ((c.int - lo) as f64 + c.frac) * scale + sh.half;
+        let j = (q0 / p).floor();
+        let mut ph = q0 - j * p;
+        let mut j = j as i64;
+        if ph >= p {
+            ph -= p;
+            j += 1;
+        }
         let gain = rho;
-        let rel0 = (c.int - lo) as f64 + c.frac;
-        for (k, t) in self.taps[..count].iter_mut().enumerate() {
-            let q = (rel0 - k as f64) * scale + sh.half;
-            let whole = q.floor();
-            let qi = whole as i64;
-            let j = qi.div_euclid(sh.phases as i64);
-            let phase = qi.rem_euclid(sh.phases as i64) as usize;
-            if j < 0 || j >= cols as i64 {
+        let points = sh.interp.points();
+        for t in self.taps[..count].iter_mut() {
+            if (0..cols as i64).contains(&j) {
+                let base = ph.floor();
+                let w = sh.interp.weights(ph - base);
+                let col = cols - 1 - j as usize;
+                let r0 = base as usize + 1 - first;
+                let mut acc = 0.0;
+                for (m, &wm) in w.iter().take(points).enumerate() {
+                    acc += wm * self.rows[(r0 + m) * cols + col].to_f64_exact();
+                }
+                *t = T::from_f64_lossy(gain * acc);
+            } else {
                 *t = T::zero();
-                continue;
             }
-            let w = sh.interp.weights(q - whole);
-            let col = cols - 1 - j as usize;
-            let r0 = phase + 1 - first;
-            let mut acc = 0.0;
-            for (m, &wm) in w.iter().take(sh.interp.points()).enumerate() {
-                acc += wm * self.rows[(r0 + m) * cols + col].to_f64_exact();
+            ph += delta;
+            j -= 1;
+            if ph >= p {
+                ph -= p;
+                j += 1;
             }
-            *t = T::from_f64_lossy(gain * acc);
         }
     }
 }
