@@ -9,6 +9,10 @@ use crate::kernel::{Kernel, KernelFns, Sample};
 use crate::limits::{MAX_GLIDE_RATIO, MIN_GLIDE_RATIO};
 use crate::{Error, GlideDesign, Interpolation, Progress, Result};
 
+/// Zeros around the prototype in `flat` (the stretched kernel reads from tap -2 to len + 1,
+/// and cubic interpolation one more each side).
+const FLAT_PAD: usize = 4;
+
 /// Input frames buffered per channel beyond the kernel's widest span.
 const BLOCK: usize = 4096;
 
@@ -129,6 +133,9 @@ impl Shape {
 pub struct GlideConverter<T> {
     /// Rows of the table in `T` (see [`GlideDesign`]).
     rows: Vec<T>,
+    /// The prototype in tap order (times P), `FLAT_PAD` zeros before and after: prototype
+    /// tap `q` at `flat[q + FLAT_PAD]`, for the stretched kernel's per-tap reads.
+    flat: Vec<T>,
     shape: Shape,
     channels: usize,
     fns: KernelFns<T>,
@@ -191,6 +198,23 @@ impl<T: Sample> GlideConverter<T> {
         let ahead = ((shape.half + 2.0) / scale).ceil() as usize + 2;
         let widest = back + ahead + shape.cols + 2;
         let cap = widest + BLOCK;
+        let mut flat = vec![T::zero(); design.len() + 2 * FLAT_PAD];
+        // Row r holds phase r - 1 of column j (reversed): prototype tap j P + r - 1.
+        let (ph, cols) = (design.phases(), design.cols());
+        for (r, row) in design
+            .rows()
+            .chunks_exact(cols)
+            .enumerate()
+            .skip(1)
+            .take(ph)
+        {
+            for (w, &v) in row.iter().enumerate() {
+                let q = (cols - 1 - w) * ph + r - 1;
+                if q < design.len() {
+                    flat[q + FLAT_PAD] = T::from_f64_lossy(v);
+                }
+            }
+        }
         let rows = design
             .rows()
             .iter()
@@ -198,6 +222,7 @@ impl<T: Sample> GlideConverter<T> {
             .collect();
         let mut conv = Self {
             rows,
+            flat,
             shape,
             channels,
             fns,
@@ -583,41 +608,35 @@ impl<T: Sample> GlideConverter<T> {
             }
             return;
         }
-        // Stretched kernel: tap k at q_k = (t - lo - k) rho P + half. Walking k up, q falls
-        // by rho P = P - delta: one column back and delta phases on (carrying into the
-        // column), so no division per tap.
+        // Stretched kernel: tap k at its own position q_k = (t - lo - k) rho P + half, read
+        // from the prototype in tap order.
         let (lo, _) = sh.span(c);
         let scale = rho * p;
-        let delta = p - scale;
         let q0 = ((c.int - lo) as f64 + c.frac) * scale + sh.half;
-        let j = (q0 / p).floor();
-        let mut ph = q0 - j * p;
-        let mut j = j as i64;
-        if ph >= p {
-            ph -= p;
-            j += 1;
-        }
-        let gain = rho;
-        let points = sh.interp.points();
-        for t in self.taps[..count].iter_mut() {
-            if (0..cols as i64).contains(&j) {
-                let base = ph.floor();
-                let w = sh.interp.weights(ph - base);
-                let col = cols - 1 - j as usize;
-                let r0 = base as usize + 1 - first;
-                let mut acc = 0.0;
-                for (m, &wm) in w.iter().take(points).enumerate() {
-                    acc += wm * self.rows[(r0 + m) * cols + col].to_f64_exact();
+        let gain = T::from_f64_lossy(rho);
+        let flat = &self.flat;
+        let last = flat.len() as i64 - 4;
+        let taps = &mut self.taps[..count];
+        match sh.interp {
+            Interpolation::Linear => {
+                for (k, t) in taps.iter_mut().enumerate() {
+                    let q = q0 - k as f64 * scale;
+                    let base = q.floor();
+                    let i = (base as i64 + FLAT_PAD as i64).clamp(0, last) as usize;
+                    let a = T::from_f64_lossy(q - base);
+                    let (h0, h1) = (flat[i], flat[i + 1]);
+                    *t = gain * (h0 + a * (h1 - h0));
                 }
-                *t = T::from_f64_lossy(gain * acc);
-            } else {
-                *t = T::zero();
             }
-            ph += delta;
-            j -= 1;
-            if ph >= p {
-                ph -= p;
-                j += 1;
+            Interpolation::Cubic => {
+                for (k, t) in taps.iter_mut().enumerate() {
+                    let q = q0 - k as f64 * scale;
+                    let base = q.floor();
+                    let i = (base as i64 + FLAT_PAD as i64 - 1).clamp(0, last) as usize;
+                    let w = sh.interp.weights(q - base).map(T::from_f64_lossy);
+                    let h = &flat[i..i + 4];
+                    *t = gain * (w[0] * h[0] + w[1] * h[1] + w[2] * h[2] + w[3] * h[3]);
+                }
             }
         }
     }
