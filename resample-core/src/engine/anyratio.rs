@@ -53,7 +53,7 @@ impl Clock {
     #[inline]
     fn advance(&mut self) {
         let t = self.frac + self.step;
-        let whole = t.floor();
+        let whole = trunc_floor(t);
         self.int += whole as i64;
         self.frac = t - whole;
         if self.done < self.frames {
@@ -90,13 +90,15 @@ impl Shape {
         let p = self.phases as f64;
         if rho >= 1.0 {
             let s = c.frac * p + self.half;
-            let whole = (s.floor() as i64).div_euclid(self.phases as i64);
+            let whole = (s as i64).div_euclid(self.phases as i64); // s >= 0
             (c.int + whole - (self.cols as i64 - 1), self.cols)
         } else {
             // Taps where q = (t - i) rho P + half lies within (-2, len + 1).
             let scale = rho * p;
-            let lo = (c.frac - (self.len + 1.0 - self.half) / scale).ceil() as i64;
-            let hi = (c.frac + (self.half + 2.0) / scale).floor() as i64;
+            // The first is negative (ceil = truncation), the second positive (floor =
+            // truncation): no library call per output.
+            let lo = (c.frac - (self.len + 1.0 - self.half) / scale) as i64;
+            let hi = (c.frac + (self.half + 2.0) / scale) as i64;
             (c.int + lo, (hi - lo + 1).max(0) as usize)
         }
     }
@@ -579,7 +581,7 @@ impl<T: Sample> GlideConverter<T> {
         let first = sh.interp.first();
         if rho >= 1.0 {
             let s = c.frac * p + sh.half;
-            let whole = s.floor();
+            let whole = trunc_floor(s);
             let phase = (whole as i64).rem_euclid(sh.phases as i64) as usize;
             let w = sh.interp.weights(s - whole);
             // Row r holds phase r - 1.
@@ -621,7 +623,7 @@ impl<T: Sample> GlideConverter<T> {
             Interpolation::Linear => {
                 for (k, t) in taps.iter_mut().enumerate() {
                     let q = q0 - k as f64 * scale;
-                    let base = q.floor();
+                    let base = trunc_floor(q + 4.0) - 4.0; // q > -2
                     let i = (base as i64 + FLAT_PAD as i64).clamp(0, last) as usize;
                     let a = T::from_f64_lossy(q - base);
                     let (h0, h1) = (flat[i], flat[i + 1]);
@@ -631,7 +633,7 @@ impl<T: Sample> GlideConverter<T> {
             Interpolation::Cubic => {
                 for (k, t) in taps.iter_mut().enumerate() {
                     let q = q0 - k as f64 * scale;
-                    let base = q.floor();
+                    let base = trunc_floor(q + 4.0) - 4.0; // q > -2
                     let i = (base as i64 + FLAT_PAD as i64 - 1).clamp(0, last) as usize;
                     let w = sh.interp.weights(q - base).map(T::from_f64_lossy);
                     let h = &flat[i..i + 4];
@@ -640,6 +642,13 @@ impl<T: Sample> GlideConverter<T> {
             }
         }
     }
+}
+
+/// `floor(x)` for `0 <= x < 2^63` by truncation (an instruction, where `f64::floor` may be a
+/// library call on the baseline x86_64 target).
+#[inline(always)]
+fn trunc_floor(x: f64) -> f64 {
+    (x as i64) as f64
 }
 
 fn check_interleaved(len: usize, channels: usize, what: &'static str) -> Result<()> {
