@@ -208,9 +208,7 @@ fn interpolation_error(
         for a in [0.5, 0.213, 0.787] {
             let wts = interp.weights(a);
             let first = interp.first() as i64;
-            for v in buf.iter_mut() {
-                *v = Complex::new(0.0, 0.0);
-            }
+            buf.fill(Complex::new(0.0, 0.0));
             for (j, v) in buf.iter_mut().take(cols).enumerate() {
                 let q0 = (j * phases + phase) as i64;
                 let mut y = 0.0;
