@@ -40,3 +40,13 @@ pub const GLIDE_TABLE_LIMIT: u64 = 2 << 20;
 pub const MAX_GLIDE_PHASES: usize = 1 << 14;
 /// How far under the requested stopband the measured interpolation error must stay, dB.
 pub const GLIDE_ERROR_MARGIN_DB: f64 = 3.0;
+
+/// Default natural frequency of the drift follower's loop, rad/s (it settles within a few
+/// tens of seconds): slow enough that timing jitter of a few milliseconds moves the ratio
+/// by tens of ppm at most, fast enough to follow a clock that wanders by tens of ppm over
+/// minutes.
+pub const DEFAULT_LOOP_RAD_S: f64 = 0.2;
+/// Largest correction the drift follower applies to the nominal ratio (2000 ppm either
+/// way): more than any pair of audio clocks drifts apart, so a stalled producer cannot run
+/// the ratio away.
+pub const MAX_CORRECTION: f64 = 2000e-6;

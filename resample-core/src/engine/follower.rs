@@ -2,17 +2,8 @@
 //! the FIFO between two clock domains at a target fill by steering a [`crate::GlideConverter`]'s
 //! ratio from the measured fill, starting from the nominal rates.
 
-use crate::limits::{MAX_GLIDE_RATIO, MIN_GLIDE_RATIO};
+use crate::limits::{DEFAULT_LOOP_RAD_S, MAX_CORRECTION, MAX_GLIDE_RATIO, MIN_GLIDE_RATIO};
 use crate::{Error, RatePair, Result};
-
-/// Default natural frequency of the loop, rad/s (it settles within a few tens of seconds):
-/// slow enough that timing jitter of a few milliseconds moves the ratio by tens of ppm at
-/// most, fast enough to follow a clock that wanders by tens of ppm over minutes.
-pub const DEFAULT_LOOP_RAD_S: f64 = 0.2;
-
-/// Largest correction the loop applies to the nominal ratio (±2000 ppm): more than any
-/// pair of audio clocks drifts apart, so a stalled producer cannot run the ratio away.
-pub const MAX_CORRECTION: f64 = 2000e-6;
 
 /// Steers the ratio of a converter between two clock domains from the fill of the FIFO
 /// between them.
@@ -60,7 +51,8 @@ pub struct DriftFollower {
 
 impl DriftFollower {
     /// A follower for nominal `in_rate` -> `out_rate` (Hz) that keeps the fill at
-    /// `target_fill` input frames, with the default loop ([`DEFAULT_LOOP_RAD_S`]).
+    /// `target_fill` input frames, with the default loop
+    /// ([`crate::limits::DEFAULT_LOOP_RAD_S`]).
     pub fn new(in_rate: u32, out_rate: u32, target_fill: f64) -> Result<Self> {
         let pair = RatePair::new(in_rate, out_rate)?;
         if !target_fill.is_finite() || target_fill < 0.0 {
