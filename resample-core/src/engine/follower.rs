@@ -195,7 +195,7 @@ mod tests {
         let drift = 150e-6;
         let mut f = DriftFollower::new(48_000, 48_000, 500.0).unwrap();
         let mut fill = 500.0;
-        for _ in 0..(60 * 375) {
+        for _ in 0..(300 * 375) {
             let r = f.update(fill, 128);
             // 128 outputs consume 128 / r input frames; the producer adds 128 (1 + drift).
             fill += 128.0 * (1.0 + drift) - 128.0 / r;
