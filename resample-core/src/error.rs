@@ -97,6 +97,28 @@ pub enum Error {
     /// (or its planar twin) began; call `reset` first.
     #[error("input given after flushing began; reset the converter first")]
     InputAfterFlush,
+    /// A conversion ratio outside the any-ratio engine's range, or not finite.
+    #[error(
+        "conversion ratio {ratio} is out of range ({min} to {max})",
+        min = crate::limits::MIN_GLIDE_RATIO,
+        max = crate::limits::MAX_GLIDE_RATIO
+    )]
+    RatioOutOfRange {
+        /// The ratio (output rate / input rate) that was given.
+        ratio: f64,
+    },
+    /// The engine cannot run a design of this phase response.
+    #[error("the {engine} engine runs linear-phase designs only")]
+    PhaseUnsupported {
+        /// Which engine.
+        engine: &'static str,
+    },
+    /// A drift follower was given a setting it cannot work with.
+    #[error("drift follower: {problem}")]
+    FollowerSetup {
+        /// What is wrong, in words.
+        problem: &'static str,
+    },
     /// A measurement could not be set up or run: bad sweep parameters, or a signal too
     /// short, empty or not finite.
     #[error("measurement: {problem}")]

@@ -9,6 +9,9 @@
 //!   [`DesignReport`]; [`FilterSpec::with_taps`] checks and measures a prototype of your own;
 //!   [`FilterSpec::phase`] asks for linear phase (the default) or minimum phase ([`Phase`]).
 //! * [`StreamConverter`]: chunked, allocation-free, multichannel (planar or interleaved).
+//! * [`GlideDesign`] → [`GlideConverter`]: any real ratio, changed while it runs by a
+//!   linear glide, for drifting clocks (interpolated coefficient table); [`DriftFollower`]
+//!   steers that ratio from the fill of the FIFO between two clock domains.
 //! * [`offline`]: whole-signal conversion, delay compensated, exact length; [`segments`]:
 //!   one long conversion cut into pieces for several cores, with the same result.
 //! * [`Kernel`]: the SIMD kernel a converter uses, detected once at construction (or forced,
@@ -167,9 +170,12 @@ mod table;
 #[cfg_attr(docsrs, doc(cfg(feature = "internals")))]
 pub mod internals;
 
-pub use engine::{offline, segments, Progress, StreamConverter};
+pub use engine::{offline, segments, DriftFollower, GlideConverter, Progress, StreamConverter};
 pub use error::{Error, Result};
-pub use filter::{Design, DesignReport, FilterSpec, Phase, GROUP_DELAY_REF_HZ};
+pub use filter::{
+    Design, DesignReport, FilterSpec, GlideDesign, GlideReport, Interpolation, Phase,
+    GROUP_DELAY_REF_HZ,
+};
 pub use kernel::{Kernel, Sample};
 pub use limits::{MAX_CHANNELS, MAX_RATE};
 pub use ratio::RatePair;

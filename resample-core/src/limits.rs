@@ -28,3 +28,25 @@ pub const PHASE_ALIGN: usize = 8;
 /// (the copy's window length is rounded to its grid, which moves the lobes next to the
 /// stopband edge by about 0.1 dB).
 pub const SURROGATE_MARGIN_DB: f64 = 0.5;
+
+/// Smallest ratio (output rate / input rate) the any-ratio engine accepts.
+pub const MIN_GLIDE_RATIO: f64 = 1.0 / 16.0;
+/// Largest ratio (output rate / input rate) the any-ratio engine accepts.
+pub const MAX_GLIDE_RATIO: f64 = 16.0;
+/// Largest table the any-ratio design lays out with linear interpolation, bytes in `f64`
+/// (2 MiB); a request whose linear table would be larger gets cubic interpolation.
+pub const GLIDE_TABLE_LIMIT: u64 = 2 << 20;
+/// Most phases per input sample of an any-ratio table.
+pub const MAX_GLIDE_PHASES: usize = 1 << 14;
+/// How far under the requested stopband the measured interpolation error must stay, dB.
+pub const GLIDE_ERROR_MARGIN_DB: f64 = 3.0;
+
+/// Default natural frequency of the drift follower's loop, rad/s (it settles within a few
+/// tens of seconds): slow enough that timing jitter of a few milliseconds moves the ratio
+/// by tens of ppm at most, fast enough to follow a clock that wanders by tens of ppm over
+/// minutes.
+pub const DEFAULT_LOOP_RAD_S: f64 = 0.2;
+/// Largest correction the drift follower applies to the nominal ratio (2000 ppm either
+/// way): more than any pair of audio clocks drifts apart, so a stalled producer cannot run
+/// the ratio away.
+pub const MAX_CORRECTION: f64 = 2000e-6;

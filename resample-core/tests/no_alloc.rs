@@ -1,10 +1,13 @@
 //! The processing calls never touch the heap once a converter is built: a counting global
-//! allocator watches every `process_*` and `flush_*` call.
+//! allocator watches every `process_*` and `flush_*` call, of the fixed-ratio and the
+//! any-ratio converters (and the any-ratio one's glides and queries).
 
 use std::alloc::{GlobalAlloc, Layout, System};
 use std::sync::atomic::{AtomicUsize, Ordering};
 
-use resample_core::{Design, FilterSpec, Kernel, Phase, StreamConverter};
+use resample_core::{
+    Design, FilterSpec, GlideConverter, GlideDesign, Kernel, Phase, StreamConverter,
+};
 
 struct Counting;
 
@@ -30,6 +33,10 @@ unsafe impl GlobalAlloc for Counting {
 
 #[global_allocator]
 static GLOBAL: Counting = Counting;
+
+/// The counter is global: tests that count run one at a time (another test's designs
+/// would be counted otherwise).
+static ONE_AT_A_TIME: std::sync::Mutex<()> = std::sync::Mutex::new(());
 
 fn run<T: resample_core::Sample>(d: &Design, ch: usize, kernel: Kernel) -> usize {
     let mut conv = StreamConverter::<T>::with_kernel(d, ch, kernel).unwrap();
@@ -72,6 +79,7 @@ fn run<T: resample_core::Sample>(d: &Design, ch: usize, kernel: Kernel) -> usize
 
 #[test]
 fn processing_does_not_allocate() {
+    let _one = ONE_AT_A_TIME.lock().unwrap_or_else(|e| e.into_inner());
     for kernel in Kernel::available() {
         for (a, b) in [
             (44_100, 48_000),
@@ -95,8 +103,73 @@ fn processing_does_not_allocate() {
     }
 }
 
+fn run_glide<T: resample_core::Sample>(d: &GlideDesign, ch: usize, kernel: Kernel) -> usize {
+    let mut conv = GlideConverter::<T>::with_kernel(d, ch, 0.9, kernel).unwrap();
+    let input = vec![T::from_f64_lossy(0.25); 10_000 * ch];
+    let mut out = vec![T::zero(); 777 * ch];
+    let planar_in = vec![vec![T::from_f64_lossy(0.5); 3_000]; ch];
+    let mut planar_out = vec![vec![T::zero(); 500]; ch];
+    let before = ALLOCS.load(Ordering::SeqCst);
+    for (chunk, ratio) in [
+        (1usize, 0.1),
+        (13, 1.5),
+        (512, 1.0001),
+        (4097, 0.3),
+        (9_000, 7.0),
+    ] {
+        conv.glide_to(ratio, 1000).unwrap();
+        let _ = conv.output_frames_for_input(chunk as u64);
+        let _ = conv.input_frames_for_output(100);
+        let _ = conv.max_output_frames(chunk);
+        let mut pos = 0;
+        while pos < chunk {
+            let p = conv
+                .process_interleaved(&input[pos * ch..chunk * ch], &mut out)
+                .unwrap();
+            pos += p.frames_read;
+        }
+    }
+    let mut pos = 0;
+    while pos < 3_000 {
+        let all: &[Vec<T>] = &planar_in;
+        let p = conv.process_planar(all, &mut planar_out).unwrap();
+        if p.frames_read == 0 {
+            break;
+        }
+        pos += p.frames_read;
+    }
+    let _ = conv.flush_frames();
+    while conv.flush_interleaved(&mut out).unwrap() > 0 {}
+    conv.reset();
+    let _ = conv.process_interleaved(&input, &mut out).unwrap();
+    while conv.flush_planar(&mut planar_out).unwrap() > 0 {}
+    ALLOCS.load(Ordering::SeqCst) - before
+}
+
+#[test]
+fn glide_processing_does_not_allocate() {
+    let _one = ONE_AT_A_TIME.lock().unwrap_or_else(|e| e.into_inner());
+    let d = FilterSpec::new(44_100, 48_000)
+        .stopband_db(100.0)
+        .design_glide()
+        .unwrap();
+    let cubic = FilterSpec::new(44_100, 48_000)
+        .stopband_db(140.0)
+        .design_glide()
+        .unwrap();
+    for kernel in Kernel::available() {
+        for d in [&d, &cubic] {
+            for ch in [1, 2, 6] {
+                assert_eq!(run_glide::<f32>(d, ch, kernel), 0, "f32 x{ch} {kernel:?}");
+                assert_eq!(run_glide::<f64>(d, ch, kernel), 0, "f64 x{ch} {kernel:?}");
+            }
+        }
+    }
+}
+
 #[test]
 fn the_counter_counts() {
+    let _one = ONE_AT_A_TIME.lock().unwrap_or_else(|e| e.into_inner());
     // Guard against a vacuous pass: an allocation between the readings is seen.
     let before = ALLOCS.load(Ordering::SeqCst);
     let v: Vec<u8> = Vec::with_capacity(std::hint::black_box(64));

@@ -1,13 +1,18 @@
 //! The engines that run a design's table over audio: the render loop they share, the
 //! chunked [`StreamConverter`] for live audio, whole-signal [`offline`] conversion, and the
 //! [`segments`] plan that cuts one long conversion into pieces converted on several cores
-//! with the same result. (An any-ratio engine for drifting clocks belongs beside them.)
+//! with the same result; and the any-ratio [`GlideConverter`] for drifting clocks, with
+//! the [`DriftFollower`] that steers its ratio between two clock domains.
 
+mod anyratio;
+mod follower;
 pub mod offline;
 mod render;
 pub mod segments;
 mod stream;
 
+pub use anyratio::GlideConverter;
+pub use follower::DriftFollower;
 pub use stream::{Progress, StreamConverter};
 
 use crate::table::GroupTable;

@@ -4,10 +4,12 @@
 //! what was built ([`Design`], [`DesignReport`]), including the delay every engine reads.
 
 mod design;
+mod glide;
 pub mod minphase;
 pub mod response;
 mod spec;
 pub mod window;
 
 pub use design::{Design, DesignReport, GROUP_DELAY_REF_HZ};
+pub use glide::{GlideDesign, GlideReport, Interpolation};
 pub use spec::{FilterSpec, Phase};

@@ -163,9 +163,7 @@ pub(crate) fn neon_detected() -> bool {
 pub struct KernelFns<T> {
     kernel: Kernel,
     // The single dot product is not used by the fixed-ratio engines (they run spans of
-    // groups); it is kept, tested against the scalar reference, for an any-ratio engine,
-    // whose outputs each fall at a phase of their own.
-    #[cfg_attr(not(any(test, feature = "internals")), allow(dead_code))]
+    // groups); the any-ratio engine, whose outputs each fall at a phase of their own, uses it.
     dot: DotFn<T>,
     groups: GroupsFn<T>,
     lanes: usize,
@@ -202,7 +200,6 @@ impl<T: Sample> KernelFns<T> {
 
     /// `sum_i taps[i] * x[i]` over the shorter of the two lengths.
     #[inline]
-    #[cfg_attr(not(any(test, feature = "internals")), allow(dead_code))]
     pub fn dot(&self, taps: &[T], x: &[T]) -> T {
         (self.dot)(taps, x)
     }

@@ -1,0 +1,767 @@
+//! The any-ratio converter ([`GlideConverter`]): any real ratio in
+//! [`MIN_GLIDE_RATIO`]..=[`MAX_GLIDE_RATIO`], changed between calls by a linear glide of the
+//! phase increment, for live audio between drifting clocks; the taps of each output are
+//! interpolated from a [`GlideDesign`]'s table (J. O. Smith and P. Gossett, "A flexible
+//! sampling-rate conversion method", Proc. IEEE ICASSP 1984), with the same real-time
+//! contract as [`crate::StreamConverter`].
+
+use crate::kernel::{Kernel, KernelFns, Sample};
+use crate::limits::{MAX_GLIDE_RATIO, MIN_GLIDE_RATIO};
+use crate::{Error, GlideDesign, Interpolation, Progress, Result};
+
+/// Zeros around the prototype in `flat` (the stretched kernel reads from tap -2 to len + 1,
+/// and cubic interpolation one more each side).
+const FLAT_PAD: usize = 4;
+
+/// Input frames buffered per channel beyond the kernel's widest span.
+const BLOCK: usize = 4096;
+
+/// Where the next output falls on the input's time axis, and how fast it moves: the state
+/// every output's position is computed from, advanced by the same operations whatever the
+/// chunking.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct Clock {
+    /// Whole input samples of the next output's time.
+    int: i64,
+    /// Fraction of an input sample, `0 <= frac < 1`.
+    frac: f64,
+    /// Input samples per output (the phase increment) of the next step.
+    step: f64,
+    /// Increment at the start of the glide in progress.
+    from: f64,
+    /// Increment at its end.
+    to: f64,
+    /// Steps taken of the glide, and its length in steps (0: no glide).
+    done: u64,
+    frames: u64,
+}
+
+impl Clock {
+    fn new(step: f64) -> Self {
+        Self {
+            int: 0,
+            frac: 0.0,
+            step,
+            from: step,
+            to: step,
+            done: 0,
+            frames: 0,
+        }
+    }
+
+    /// Move to the next output.
+    #[inline]
+    fn advance(&mut self) {
+        let t = self.frac + self.step;
+        let whole = trunc_floor(t);
+        self.int += whole as i64;
+        self.frac = t - whole;
+        if self.done < self.frames {
+            self.done += 1;
+            self.step = if self.done == self.frames {
+                self.to
+            } else {
+                self.from + (self.to - self.from) * (self.done as f64 / self.frames as f64)
+            };
+        }
+    }
+
+    /// The ratio the step corresponds to (output / input).
+    fn ratio(&self) -> f64 {
+        1.0 / self.step
+    }
+}
+
+/// The geometry of the table as the converter reads it.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct Shape {
+    phases: usize,
+    cols: usize,
+    half: f64,
+    len: f64,
+    interp: Interpolation,
+}
+
+impl Shape {
+    /// First input index and count of the inputs the output at `clock` reads.
+    #[inline]
+    fn span(&self, c: &Clock) -> (i64, usize) {
+        let rho = c.ratio().min(1.0);
+        let p = self.phases as f64;
+        if rho >= 1.0 {
+            let s = c.frac * p + self.half;
+            let whole = (s as i64).div_euclid(self.phases as i64); // s >= 0
+            (c.int + whole - (self.cols as i64 - 1), self.cols)
+        } else {
+            // Taps where q = (t - i) rho P + half lies within (-2, len + 1).
+            let scale = rho * p;
+            // The first is negative (ceil = truncation), the second positive (floor =
+            // truncation): no library call per output.
+            let lo = (c.frac - (self.len + 1.0 - self.half) / scale) as i64;
+            let hi = (c.frac + (self.half + 2.0) / scale) as i64;
+            (c.int + lo, (hi - lo + 1).max(0) as usize)
+        }
+    }
+}
+
+/// A streaming multichannel converter for any real ratio, changed while it runs.
+///
+/// Output sample `m` is the input signal at time `t_m` input samples, `t_0 = 0` and
+/// `t_{m+1} = t_m + s_m`, where the phase increment `s_m` is `1 / ratio`; after
+/// [`GlideConverter::glide_to`] it moves linearly from the old to the new increment over the
+/// given number of outputs (it never steps, unless a glide of 0 frames is asked for). Below
+/// a ratio of 1 the kernel is stretched by `1 / ratio` (its stopband edge follows the
+/// output's Nyquist frequency) and its gain scaled back to 1. The output does not depend on
+/// how the input is chunked, bit for bit; processing calls do not allocate, lock or panic.
+///
+/// Each output needs input up to the kernel's look-ahead past its time
+/// ([`GlideConverter::latency_input_frames`]), so the first outputs appear only after that
+/// much input; [`GlideConverter::input_frames_for_output`] and
+/// [`GlideConverter::output_frames_for_input`] answer exactly for the current ratio and
+/// glide.
+///
+/// ```
+/// use resample_core::{FilterSpec, GlideConverter};
+/// let design = FilterSpec::new(48_000, 48_000).stopband_db(100.0).design_glide()?;
+/// let mut conv = GlideConverter::<f32>::new(&design, 2)?;
+/// conv.glide_to(1.0 + 250e-6, 4800)?; // the output clock runs 250 ppm fast
+/// let input = vec![0.0_f32; 2 * 480];
+/// let mut output = vec![0.0_f32; 2 * conv.max_output_frames(480)];
+/// let p = conv.process_interleaved(&input, &mut output)?;
+/// assert_eq!(p.frames_read, 480);
+/// # Ok::<(), resample_core::Error>(())
+/// ```
+#[derive(Debug, Clone)]
+pub struct GlideConverter<T> {
+    /// Rows of the table in `T` (see [`GlideDesign`]).
+    rows: Vec<T>,
+    /// The prototype in tap order (times P), `FLAT_PAD` zeros before and after: prototype
+    /// tap `q` at `flat[q + FLAT_PAD]`, for the stretched kernel's per-tap reads.
+    flat: Vec<T>,
+    shape: Shape,
+    channels: usize,
+    fns: KernelFns<T>,
+    /// Planar history, channel `c` at `hist[c * cap..]`; `hist[c * cap + k]` is input
+    /// `base + k`.
+    hist: Vec<T>,
+    cap: usize,
+    base: i64,
+    fill: usize,
+    /// History kept behind the next output's time (the widest span's back part).
+    keep_back: i64,
+    /// The taps of one output.
+    taps: Vec<T>,
+    clock: Clock,
+    start_step: f64,
+    n_in: u64,
+    n_out: u64,
+    flushing: bool,
+}
+
+fn check_ratio(ratio: f64) -> Result<()> {
+    if !(MIN_GLIDE_RATIO..=MAX_GLIDE_RATIO).contains(&ratio) {
+        return Err(Error::RatioOutOfRange { ratio });
+    }
+    Ok(())
+}
+
+impl<T: Sample> GlideConverter<T> {
+    /// A converter for `channels` channels starting at the design's rate pair's ratio
+    /// (`out_rate / in_rate`), using the fastest kernel this CPU has.
+    pub fn new(design: &GlideDesign, channels: usize) -> Result<Self> {
+        let spec = design.spec();
+        let ratio = f64::from(spec.out_rate()) / f64::from(spec.in_rate());
+        Self::with_kernel(design, channels, ratio, Kernel::detect())
+    }
+
+    /// A converter starting at `ratio` (output rate / input rate) with a given kernel (e.g.
+    /// [`Kernel::Scalar`] for the reference dot product).
+    pub fn with_kernel(
+        design: &GlideDesign,
+        channels: usize,
+        ratio: f64,
+        kernel: Kernel,
+    ) -> Result<Self> {
+        if channels == 0 || channels > crate::MAX_CHANNELS {
+            return Err(Error::ChannelsOutOfRange { channels });
+        }
+        check_ratio(ratio)?;
+        let fns = KernelFns::new(kernel)?;
+        let shape = Shape {
+            phases: design.phases(),
+            cols: design.cols(),
+            half: design.half() as f64,
+            len: design.len() as f64,
+            interp: design.report().interpolation,
+        };
+        // The widest span, at the smallest ratio.
+        let scale = MIN_GLIDE_RATIO * shape.phases as f64;
+        let back = ((shape.len + 1.0 - shape.half) / scale).ceil() as usize + 2;
+        let ahead = ((shape.half + 2.0) / scale).ceil() as usize + 2;
+        let widest = back + ahead + shape.cols + 2;
+        let cap = widest + BLOCK;
+        let mut flat = vec![T::zero(); design.len() + 2 * FLAT_PAD];
+        // Row r holds phase r - 1 of column j (reversed): prototype tap j P + r - 1.
+        let (ph, cols) = (design.phases(), design.cols());
+        for (r, row) in design
+            .rows()
+            .chunks_exact(cols)
+            .enumerate()
+            .skip(1)
+            .take(ph)
+        {
+            for (w, &v) in row.iter().enumerate() {
+                let q = (cols - 1 - w) * ph + r - 1;
+                if q < design.len() {
+                    flat[q + FLAT_PAD] = T::from_f64_lossy(v);
+                }
+            }
+        }
+        let rows = design
+            .rows()
+            .iter()
+            .map(|&v| T::from_f64_lossy(v))
+            .collect();
+        let mut conv = Self {
+            rows,
+            flat,
+            shape,
+            channels,
+            fns,
+            hist: vec![T::zero(); cap * channels],
+            cap,
+            base: 0,
+            fill: 0,
+            keep_back: back as i64 + 1,
+            taps: vec![T::zero(); widest],
+            clock: Clock::new(1.0 / ratio),
+            start_step: 1.0 / ratio,
+            n_in: 0,
+            n_out: 0,
+            flushing: false,
+        };
+        conv.reset();
+        Ok(conv)
+    }
+
+    /// Forget all input and return to the starting ratio. Does not allocate.
+    pub fn reset(&mut self) {
+        let keep = self.keep_back as usize;
+        for b in self.hist.chunks_exact_mut(self.cap) {
+            b[..keep].fill(T::zero());
+        }
+        self.base = -self.keep_back;
+        self.fill = keep;
+        self.clock = Clock::new(self.start_step);
+        self.n_in = 0;
+        self.n_out = 0;
+        self.flushing = false;
+    }
+
+    /// Channels.
+    pub fn channels(&self) -> usize {
+        self.channels
+    }
+
+    /// The ratio (output rate / input rate) of the next output's step.
+    pub fn ratio(&self) -> f64 {
+        self.clock.ratio()
+    }
+
+    /// The ratio the converter is gliding to (the current one when no glide runs).
+    pub fn target_ratio(&self) -> f64 {
+        1.0 / self.clock.to
+    }
+
+    /// Outputs left of the glide in progress (0 when none runs).
+    pub fn glide_frames_left(&self) -> u64 {
+        self.clock.frames - self.clock.done
+    }
+
+    /// Move to `ratio` (output rate / input rate) over the next `frames` output frames: the
+    /// phase increment (input samples per output, `1 / ratio`) moves linearly from its
+    /// present value and reaches `1 / ratio` at the `frames`-th output. `frames = 0` sets
+    /// the ratio at once. A glide in progress is replaced, starting from where it is.
+    /// [`Error::RatioOutOfRange`] outside [`MIN_GLIDE_RATIO`]..=[`MAX_GLIDE_RATIO`].
+    /// Does not allocate.
+    pub fn glide_to(&mut self, ratio: f64, frames: u64) -> Result<()> {
+        check_ratio(ratio)?;
+        let to = 1.0 / ratio;
+        let c = &mut self.clock;
+        c.from = c.step;
+        c.to = to;
+        c.done = 0;
+        c.frames = frames;
+        if frames == 0 {
+            c.step = to;
+            c.from = to;
+        }
+        Ok(())
+    }
+
+    /// The kernel's look-ahead at the current ratio, input frames: an output needs input
+    /// this far past its own time (at ratios below 1 it grows as `1 / ratio`).
+    pub fn latency_input_frames(&self) -> f64 {
+        let rho = self.clock.ratio().min(1.0);
+        self.shape.half / (self.shape.phases as f64 * rho)
+    }
+
+    /// Input frames taken so far.
+    pub fn input_frames(&self) -> u64 {
+        self.n_in
+    }
+
+    /// Output frames written so far.
+    pub fn output_frames(&self) -> u64 {
+        self.n_out
+    }
+
+    /// Time of the next output, in input frames since the first input frame.
+    pub fn next_output_time(&self) -> f64 {
+        self.clock.int as f64 + self.clock.frac
+    }
+
+    /// Output frames that `input_frames` more input frames would make ready (before any
+    /// flush), following the current ratio and glide exactly.
+    pub fn output_frames_for_input(&self, input_frames: u64) -> u64 {
+        let avail = self.n_in.saturating_add(input_frames) as i64;
+        let mut c = self.clock;
+        let mut n = 0;
+        loop {
+            let (lo, count) = self.shape.span(&c);
+            if lo + count as i64 > avail {
+                return n;
+            }
+            n += 1;
+            c.advance();
+        }
+    }
+
+    /// Smallest number of further input frames after which `output_frames` more output
+    /// frames are ready (before any flush), following the current ratio and glide exactly.
+    pub fn input_frames_for_output(&self, output_frames: u64) -> u64 {
+        if output_frames == 0 {
+            return 0;
+        }
+        let mut c = self.clock;
+        let mut need = 0_i64;
+        for _ in 0..output_frames {
+            let (lo, count) = self.shape.span(&c);
+            need = need.max(lo + count as i64);
+            c.advance();
+        }
+        (need.max(0) as u64).saturating_sub(self.n_in)
+    }
+
+    /// Room to give one processing call of `input_frames` frames so that it reads all of
+    /// them: `ceil(input_frames r) + 2`, with `r` the larger of the current and target
+    /// ratios, plus what a shrinking look-ahead releases when the ratio rises below 1.
+    pub fn max_output_frames(&self, input_frames: usize) -> usize {
+        let r = self.ratio().max(self.target_ratio());
+        let look = |ratio: f64| self.shape.half / (self.shape.phases as f64 * ratio.min(1.0));
+        let shrink = (look(self.ratio()) - look(self.target_ratio())).max(0.0);
+        let n = ((input_frames as f64 + shrink) * r).ceil() + 2.0;
+        if n >= usize::MAX as f64 {
+            usize::MAX
+        } else {
+            n as usize
+        }
+    }
+
+    /// Output frames still to come from flushing if it started now: every output whose time
+    /// falls before the end of the input (the flushed tail follows the current glide).
+    pub fn flush_frames(&self) -> u64 {
+        let end = self.n_in as i64;
+        let mut c = self.clock;
+        let mut n = 0;
+        while c.int < end {
+            n += 1;
+            c.advance();
+        }
+        n
+    }
+
+    /// True once flushing has delivered every output frame.
+    pub fn is_finished(&self) -> bool {
+        self.flushing && self.clock.int >= self.n_in as i64
+    }
+
+    /// Convert interleaved input into interleaved output. Reads input only while there is
+    /// room for the output it makes ready; returns what was read and written.
+    pub fn process_interleaved(&mut self, input: &[T], output: &mut [T]) -> Result<Progress> {
+        let ch = self.channels;
+        check_interleaved(
+            input.len(),
+            ch,
+            "interleaved input length (multiple of channels)",
+        )?;
+        check_interleaved(
+            output.len(),
+            ch,
+            "interleaved output length (multiple of channels)",
+        )?;
+        if self.flushing {
+            return Err(Error::InputAfterFlush);
+        }
+        let frames_in = input.len() / ch;
+        let frames_out = output.len() / ch;
+        Ok(self.run(
+            frames_in,
+            frames_out,
+            |hist, cap, at, from, n| {
+                for (c, buf) in hist.chunks_exact_mut(cap).enumerate() {
+                    for (d, f) in buf[at..at + n]
+                        .iter_mut()
+                        .zip(input[from * ch..(from + n) * ch].chunks_exact(ch))
+                    {
+                        *d = f[c];
+                    }
+                }
+            },
+            |frame, c, v| output[frame * ch + c] = v,
+        ))
+    }
+
+    /// Convert planar input (one slice per channel, all the same length) into planar output
+    /// (one slice per channel, all the same length).
+    pub fn process_planar<I, O>(&mut self, input: &[I], output: &mut [O]) -> Result<Progress>
+    where
+        I: AsRef<[T]>,
+        O: AsMut<[T]>,
+    {
+        let frames_in = planar_len(
+            input.iter().map(|c| c.as_ref().len()),
+            self.channels,
+            "planar input",
+        )?;
+        let frames_out = planar_len(
+            output.iter_mut().map(|c| c.as_mut().len()),
+            self.channels,
+            "planar output",
+        )?;
+        if self.flushing {
+            return Err(Error::InputAfterFlush);
+        }
+        Ok(self.run(
+            frames_in,
+            frames_out,
+            |hist, cap, at, from, n| {
+                for (buf, src) in hist.chunks_exact_mut(cap).zip(input) {
+                    buf[at..at + n].copy_from_slice(&src.as_ref()[from..from + n]);
+                }
+            },
+            |frame, c, v| output[c].as_mut()[frame] = v,
+        ))
+    }
+
+    /// Finish the stream into interleaved `output`: the outputs whose times fall before the
+    /// end of the input, computed with zeros after it. Returns the frames written; call
+    /// again until it returns 0 ([`GlideConverter::is_finished`]).
+    pub fn flush_interleaved(&mut self, output: &mut [T]) -> Result<usize> {
+        let ch = self.channels;
+        check_interleaved(
+            output.len(),
+            ch,
+            "interleaved output length (multiple of channels)",
+        )?;
+        self.flushing = true;
+        Ok(self.produce(output.len() / ch, |frame, c, v| output[frame * ch + c] = v))
+    }
+
+    /// Planar twin of [`GlideConverter::flush_interleaved`].
+    pub fn flush_planar<O: AsMut<[T]>>(&mut self, output: &mut [O]) -> Result<usize> {
+        let frames_out = planar_len(
+            output.iter_mut().map(|c| c.as_mut().len()),
+            self.channels,
+            "planar output",
+        )?;
+        self.flushing = true;
+        Ok(self.produce(frames_out, |frame, c, v| output[c].as_mut()[frame] = v))
+    }
+
+    fn run(
+        &mut self,
+        frames_in: usize,
+        frames_out: usize,
+        mut load: impl FnMut(&mut [T], usize, usize, usize, usize),
+        mut store: impl FnMut(usize, usize, T),
+    ) -> Progress {
+        let mut read = 0;
+        let mut written = 0;
+        loop {
+            let at = written;
+            written += self.produce(frames_out - written, |f, c, v| store(at + f, c, v));
+            if written == frames_out || read == frames_in {
+                break;
+            }
+            if self.fill == self.cap {
+                let before = self.fill;
+                self.make_room();
+                if self.fill == before {
+                    break; // cannot happen: the next output never needs the whole history
+                }
+                continue;
+            }
+            let take = (self.cap - self.fill).min(frames_in - read);
+            load(&mut self.hist, self.cap, self.fill, read, take);
+            self.fill += take;
+            self.n_in += take as u64;
+            read += take;
+        }
+        Progress {
+            frames_read: read,
+            frames_written: written,
+        }
+    }
+
+    /// Drop history older than the widest span behind the next output could reach.
+    fn make_room(&mut self) {
+        let start = self.clock.int - self.keep_back;
+        let rel = start - self.base;
+        if rel <= 0 {
+            return;
+        }
+        let drop = (rel as usize).min(self.fill);
+        for b in self.hist.chunks_exact_mut(self.cap) {
+            b.copy_within(drop..self.fill, 0);
+        }
+        self.fill -= drop;
+        self.base += drop as i64;
+    }
+
+    /// Compute outputs while their input is present (when flushing, while their time is
+    /// before the end), at most `max`; `store(frame, channel, value)`.
+    fn produce(&mut self, max: usize, mut store: impl FnMut(usize, usize, T)) -> usize {
+        let mut done = 0;
+        while done < max {
+            if self.flushing && self.clock.int >= self.n_in as i64 {
+                break;
+            }
+            let (lo, count) = self.shape.span(&self.clock);
+            let end = lo + count as i64;
+            if end > self.base + self.fill as i64 {
+                if !self.flushing {
+                    break;
+                }
+                // Past the last input the signal is zero.
+                if self.fill == self.cap {
+                    self.make_room();
+                }
+                let need = (end - (self.base + self.fill as i64)) as usize;
+                let k = need.min(self.cap - self.fill);
+                if k == 0 {
+                    break; // cannot happen: room was made above
+                }
+                for b in self.hist.chunks_exact_mut(self.cap) {
+                    b[self.fill..self.fill + k].fill(T::zero());
+                }
+                self.fill += k;
+                continue;
+            }
+            let from = (lo - self.base) as usize;
+            self.fill_taps(count);
+            let taps = &self.taps[..count];
+            for (c, b) in self.hist.chunks_exact(self.cap).enumerate() {
+                store(done, c, self.fns.dot(taps, &b[from..from + count]));
+            }
+            done += 1;
+            self.n_out += 1;
+            self.clock.advance();
+        }
+        done
+    }
+
+    /// The taps of the output at the clock's position, oldest input first.
+    fn fill_taps(&mut self, count: usize) {
+        let sh = self.shape;
+        let c = &self.clock;
+        let p = sh.phases as f64;
+        let rho = c.ratio().min(1.0);
+        let cols = sh.cols;
+        let first = sh.interp.first();
+        if rho >= 1.0 {
+            let s = c.frac * p + sh.half;
+            let whole = trunc_floor(s);
+            let phase = (whole as i64).rem_euclid(sh.phases as i64) as usize;
+            let w = sh.interp.weights(s - whole);
+            // Row r holds phase r - 1.
+            let r0 = phase + 1 - first;
+            let row = |k: usize| &self.rows[(r0 + k) * cols..(r0 + k + 1) * cols];
+            let out = &mut self.taps[..count];
+            match sh.interp {
+                Interpolation::Linear => {
+                    let (w0, w1) = (T::from_f64_lossy(w[0]), T::from_f64_lossy(w[1]));
+                    for ((t, &a), &b) in out.iter_mut().zip(row(0)).zip(row(1)) {
+                        *t = w0 * a + w1 * b;
+                    }
+                }
+                Interpolation::Cubic => {
+                    let wt = w.map(T::from_f64_lossy);
+                    for ((((t, &a), &b), &d), &e) in out
+                        .iter_mut()
+                        .zip(row(0))
+                        .zip(row(1))
+                        .zip(row(2))
+                        .zip(row(3))
+                    {
+                        *t = wt[0] * a + wt[1] * b + wt[2] * d + wt[3] * e;
+                    }
+                }
+            }
+            return;
+        }
+        // Stretched kernel: tap k at its own position q_k = (t - lo - k) rho P + half, read
+        // from the prototype in tap order.
+        let (lo, _) = sh.span(c);
+        let scale = rho * p;
+        let q0 = ((c.int - lo) as f64 + c.frac) * scale + sh.half;
+        let gain = T::from_f64_lossy(rho);
+        let flat = &self.flat;
+        let last = flat.len() as i64 - 4;
+        let taps = &mut self.taps[..count];
+        match sh.interp {
+            Interpolation::Linear => {
+                for (k, t) in taps.iter_mut().enumerate() {
+                    let q = q0 - k as f64 * scale;
+                    let base = trunc_floor(q + 4.0) - 4.0; // q > -2
+                    let i = (base as i64 + FLAT_PAD as i64).clamp(0, last) as usize;
+                    let a = T::from_f64_lossy(q - base);
+                    let (h0, h1) = (flat[i], flat[i + 1]);
+                    *t = gain * (h0 + a * (h1 - h0));
+                }
+            }
+            Interpolation::Cubic => {
+                for (k, t) in taps.iter_mut().enumerate() {
+                    let q = q0 - k as f64 * scale;
+                    let base = trunc_floor(q + 4.0) - 4.0; // q > -2
+                    let i = (base as i64 + FLAT_PAD as i64 - 1).clamp(0, last) as usize;
+                    let w = sh.interp.weights(q - base).map(T::from_f64_lossy);
+                    let h = &flat[i..i + 4];
+                    *t = gain * (w[0] * h[0] + w[1] * h[1] + w[2] * h[2] + w[3] * h[3]);
+                }
+            }
+        }
+    }
+}
+
+/// `floor(x)` for `0 <= x < 2^63` by truncation (an instruction, where `f64::floor` may be a
+/// library call on the baseline x86_64 target).
+#[inline(always)]
+fn trunc_floor(x: f64) -> f64 {
+    (x as i64) as f64
+}
+
+fn check_interleaved(len: usize, channels: usize, what: &'static str) -> Result<()> {
+    if len % channels != 0 {
+        return Err(Error::BufferShape {
+            what,
+            expected: len - len % channels,
+            got: len,
+        });
+    }
+    Ok(())
+}
+
+/// The common length of planar channel slices, checking their count.
+fn planar_len(
+    mut lens: impl Iterator<Item = usize>,
+    channels: usize,
+    what: &'static str,
+) -> Result<usize> {
+    let Some(n) = lens.next() else {
+        return Err(Error::BufferShape {
+            what,
+            expected: channels,
+            got: 0,
+        });
+    };
+    let mut count = 1;
+    for l in lens {
+        if l != n {
+            return Err(Error::BufferShape {
+                what,
+                expected: n,
+                got: l,
+            });
+        }
+        count += 1;
+    }
+    if count != channels {
+        return Err(Error::BufferShape {
+            what,
+            expected: channels,
+            got: count,
+        });
+    }
+    Ok(n)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::FilterSpec;
+
+    #[test]
+    fn clock_glide_ramps_the_increment() {
+        let mut c = Clock::new(1.0);
+        c.from = 1.0;
+        c.to = 2.0;
+        c.frames = 4;
+        let mut steps = vec![];
+        for _ in 0..6 {
+            steps.push(c.step);
+            c.advance();
+        }
+        assert_eq!(steps, [1.0, 1.25, 1.5, 1.75, 2.0, 2.0]);
+    }
+
+    #[test]
+    fn bad_ratios_are_errors() {
+        let d = FilterSpec::new(1, 1)
+            .stopband_db(60.0)
+            .design_glide()
+            .unwrap();
+        let mut c = GlideConverter::<f64>::new(&d, 1).unwrap();
+        for r in [0.0, -1.0, f64::NAN, f64::INFINITY, 16.5, 0.06] {
+            assert!(matches!(
+                c.glide_to(r, 10),
+                Err(Error::RatioOutOfRange { .. })
+            ));
+        }
+        assert!(GlideConverter::<f64>::with_kernel(&d, 1, 17.0, Kernel::Scalar).is_err());
+        assert!(GlideConverter::<f64>::new(&d, 0).is_err());
+    }
+
+    #[test]
+    fn queries_match_processing() {
+        let d = FilterSpec::new(1, 1)
+            .stopband_db(80.0)
+            .design_glide()
+            .unwrap();
+        for ratio in [0.3, 0.999, 1.0, 1.7] {
+            let mut c = GlideConverter::<f64>::with_kernel(&d, 1, ratio, Kernel::Scalar).unwrap();
+            c.glide_to(ratio * 1.3, 500).unwrap();
+            let x = vec![0.5; 97];
+            let mut out = vec![0.0; 4000];
+            for _ in 0..20 {
+                let expect = c.output_frames_for_input(97);
+                let need = c.input_frames_for_output(expect.max(1));
+                let p = c.process_interleaved(&x, &mut out).unwrap();
+                assert_eq!(p.frames_read, 97);
+                assert_eq!(p.frames_written as u64, expect);
+                assert!(need <= 97 || expect == 0);
+            }
+            let left = c.flush_frames();
+            let mut got = 0;
+            loop {
+                let n = c.flush_interleaved(&mut out[..33]).unwrap();
+                if n == 0 {
+                    break;
+                }
+                got += n as u64;
+            }
+            assert_eq!(got, left);
+            assert!(c.is_finished());
+        }
+    }
+}

@@ -1,0 +1,492 @@
+//! The interpolated coefficient table of the any-ratio engine ([`GlideDesign`]): one Kaiser
+//! windowed-sinc prototype sampled at `P` phases per input sample, whose taps at any
+//! fractional position are interpolated between neighbouring phases (J. O. Smith and
+//! P. Gossett, "A flexible sampling-rate conversion method", Proc. IEEE ICASSP 1984). The
+//! number of phases and the interpolation order are chosen from the requested attenuation,
+//! and the interpolation error is *measured* against the exact continuous windowed sinc at
+//! positions between the table's phases.
+
+use rustfft::num_complex::Complex;
+use rustfft::FftPlanner;
+
+use super::spec::{FilterSpec, Phase};
+use super::window::{bessel_i0, kaiser_beta, kaiser_length};
+use crate::limits::{
+    GLIDE_ERROR_MARGIN_DB, GLIDE_TABLE_LIMIT, MAX_GLIDE_PHASES, MAX_PASSBAND, MAX_STOPBAND_DB,
+    MIN_PASSBAND, MIN_STOPBAND_DB,
+};
+use crate::{Design, Error, Result};
+
+/// How taps between two of the table's phases are obtained.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+#[non_exhaustive]
+pub enum Interpolation {
+    /// Straight line between the two neighbouring phases (two table rows per output).
+    Linear,
+    /// Cubic Lagrange polynomial through the four nearest phases (four rows per output);
+    /// its error falls about twice as fast (in dB) as the linear one's when the phases
+    /// double, so far fewer phases reach the same attenuation.
+    Cubic,
+}
+
+impl Interpolation {
+    /// Polynomial order (1 or 3).
+    pub fn order(self) -> usize {
+        match self {
+            Interpolation::Linear => 1,
+            Interpolation::Cubic => 3,
+        }
+    }
+
+    /// Short name for reports.
+    pub fn name(self) -> &'static str {
+        match self {
+            Interpolation::Linear => "linear",
+            Interpolation::Cubic => "cubic",
+        }
+    }
+
+    /// Table rows read per output (order + 1).
+    pub(crate) fn points(self) -> usize {
+        self.order() + 1
+    }
+
+    /// Weights of the rows `phase - first .. phase - first + points` for a position `a`
+    /// (0 <= a < 1) past row `phase`; `first` is 0 for linear, 1 for cubic.
+    #[inline]
+    pub(crate) fn weights(self, a: f64) -> [f64; 4] {
+        match self {
+            Interpolation::Linear => [1.0 - a, a, 0.0, 0.0],
+            Interpolation::Cubic => {
+                // Lagrange basis on the nodes -1, 0, 1, 2 (common practice, no source).
+                let (am1, a1, a2) = (a + 1.0, a - 1.0, a - 2.0);
+                [
+                    -a * a1 * a2 / 6.0,
+                    am1 * a1 * a2 / 2.0,
+                    -am1 * a * a2 / 2.0,
+                    am1 * a * a1 / 6.0,
+                ]
+            }
+        }
+    }
+
+    /// Rows before the base phase that the interpolation reads.
+    pub(crate) fn first(self) -> usize {
+        match self {
+            Interpolation::Linear => 0,
+            Interpolation::Cubic => 1,
+        }
+    }
+}
+
+/// What was built for the any-ratio engine and what was measured on it.
+#[derive(Debug, Clone, PartialEq)]
+#[non_exhaustive]
+pub struct GlideReport {
+    /// Phases per input sample of the table (P).
+    pub phases: u64,
+    /// Interpolation between phases.
+    pub interpolation: Interpolation,
+    /// Taps per output at a ratio of 1 or more (input samples the kernel spans, the table's
+    /// columns); below 1 the kernel is stretched by 1 / ratio.
+    pub taps_per_output: usize,
+    /// Prototype length in taps at P phases per input sample.
+    pub prototype_taps: usize,
+    /// Kaiser beta of the prototype.
+    pub beta: f64,
+    /// Requested stopband attenuation, dB.
+    pub requested_stopband_db: f64,
+    /// Stopband attenuation of the prototype itself, measured by the fixed design's search
+    /// (dB): the floor the interpolation cannot go under.
+    pub kernel_stopband_db: f64,
+    /// Passband ripple of the prototype, dB peak to peak.
+    pub passband_ripple_db: f64,
+    /// Largest error of the interpolated taps, measured: at positions between the table's
+    /// phases the interpolated taps are compared with the exact continuous windowed sinc,
+    /// and the spectrum of the difference (the error it adds to a tone of amplitude 1 at any
+    /// frequency) is taken; dB relative to the DC gain (negative).
+    pub interpolation_error_db: f64,
+    /// Error of the same measurement for a linear interpolation of the same table, dB (for
+    /// comparison; equal to `interpolation_error_db` when linear was chosen).
+    pub linear_error_db: f64,
+    /// Positions between phases the error was measured at.
+    pub error_positions: usize,
+    /// Bytes of the table in `f32`.
+    pub table_bytes_f32: u64,
+    /// Bytes of the table in `f64`.
+    pub table_bytes_f64: u64,
+    /// Passband edge as a fraction of the lower Nyquist frequency of the current ratio.
+    pub passband_fraction: f64,
+    /// Delay of the kernel in input samples at a ratio of 1 or more (stretched by 1 / ratio
+    /// below 1); conversions compensate it.
+    pub delay_input_frames: f64,
+}
+
+/// The any-ratio engine's filter: a Kaiser windowed-sinc prototype designed from a
+/// [`FilterSpec`]'s stopband and passband request, sampled at `P` phases per input sample
+/// and laid out as rows of taps, one row per phase; with the interpolation order and `P`
+/// chosen so that the measured interpolation error stays under the requested stopband.
+///
+/// Method: J. O. Smith and P. Gossett, "A flexible sampling-rate conversion method",
+/// Proc. IEEE ICASSP 1984 (interpolated coefficient table). The prototype is the fixed
+/// engine's design ([`FilterSpec::design`]) for the rate pair 1 -> P, so its stopband is
+/// measured and lengthened the same way.
+///
+/// ```
+/// use resample_core::FilterSpec;
+/// let g = FilterSpec::new(44_100, 48_000).stopband_db(100.0).design_glide()?;
+/// let r = g.report();
+/// assert!(r.interpolation_error_db <= -100.0);
+/// assert!(r.kernel_stopband_db >= 100.0);
+/// # Ok::<(), resample_core::Error>(())
+/// ```
+#[derive(Debug, Clone, PartialEq)]
+pub struct GlideDesign {
+    spec: FilterSpec,
+    /// Rows `r = 0 .. P + 3` (phase `r - 1`), each `cols` taps, reversed so that column `w`
+    /// multiplies the `w`-th oldest input of an output's span.
+    rows: Vec<f64>,
+    cols: usize,
+    phases: usize,
+    /// Centre tap of the prototype (its delay at P phases per input sample).
+    half: usize,
+    len: usize,
+    report: GlideReport,
+}
+
+/// A continuous windowed sinc in prototype-tap units (P per input sample), for measuring.
+#[derive(Debug, Clone, Copy)]
+struct Continuous {
+    half: f64,
+    beta: f64,
+    i0_beta: f64,
+    /// Cutoff, cycles per prototype tap (the `wc / 2` of the design).
+    wc: f64,
+    /// Scale so that the value at the centre equals the table's.
+    scale: f64,
+}
+
+impl Continuous {
+    fn at(&self, q: f64) -> f64 {
+        let t = q - self.half;
+        if t.abs() > self.half {
+            return 0.0;
+        }
+        let x = self.wc * t;
+        let sinc = if x == 0.0 {
+            1.0
+        } else {
+            (core::f64::consts::PI * x).sin() / (core::f64::consts::PI * x)
+        };
+        let r = t / self.half;
+        let w = bessel_i0(self.beta * (1.0 - r * r).max(0.0).sqrt()) / self.i0_beta;
+        self.scale * sinc * w
+    }
+}
+
+/// Largest error spectrum of the interpolated taps against `exact`, over positions between
+/// the phases of a table of `phases` phases and `cols` columns whose prototype tap `q` is
+/// `grid(q)`. Returns (error in dB, positions measured).
+fn interpolation_error(
+    grid: &dyn Fn(i64) -> f64,
+    exact: &Continuous,
+    phases: usize,
+    cols: usize,
+    interp: Interpolation,
+) -> (f64, usize) {
+    let nfft = (8 * cols).next_power_of_two().max(256);
+    let fft = FftPlanner::<f64>::new().plan_fft_forward(nfft);
+    let mut buf = vec![Complex::new(0.0, 0.0); nfft];
+    let mut worst = 0.0_f64;
+    let mut count = 0;
+    // Phases spread over the table, and positions inside each step: the middle (where a
+    // linear interpolation errs most) and two off-centre points.
+    let spread = 29.min(phases);
+    for k in 0..spread {
+        let phase = (k * phases) / spread + (k % 3);
+        let phase = phase.min(phases - 1);
+        for a in [0.5, 0.213, 0.787] {
+            let wts = interp.weights(a);
+            let first = interp.first() as i64;
+            buf.fill(Complex::new(0.0, 0.0));
+            for (j, v) in buf.iter_mut().take(cols).enumerate() {
+                let q0 = (j * phases + phase) as i64;
+                let mut y = 0.0;
+                for (p, &w) in wts.iter().take(interp.points()).enumerate() {
+                    y += w * grid(q0 - first + p as i64);
+                }
+                *v = Complex::new(y - exact.at(q0 as f64 + a), 0.0);
+            }
+            fft.process(&mut buf);
+            let peak = buf[..=nfft / 2]
+                .iter()
+                .map(|c| c.norm())
+                .fold(0.0_f64, f64::max);
+            worst = worst.max(peak);
+            count += 1;
+        }
+    }
+    (20.0 * worst.max(1e-300).log10(), count)
+}
+
+/// Columns (input samples an output's kernel spans at ratio 1) of a table for a prototype
+/// of `len` taps at `phases` phases, with room for the interpolation's neighbours.
+fn columns(len: usize, phases: usize) -> usize {
+    (len + 2).div_ceil(phases) + 1
+}
+
+fn bytes(phases: usize, cols: usize, size: u64) -> u64 {
+    ((phases + 3) * cols) as u64 * size
+}
+
+impl FilterSpec {
+    /// Check the spec and design the any-ratio engine's table ([`GlideDesign`]) for its
+    /// stopband and passband request. The rates only set the converter's starting ratio.
+    /// [`Error::PhaseUnsupported`] for a minimum-phase request.
+    pub fn design_glide(&self) -> Result<GlideDesign> {
+        GlideDesign::new(self)
+    }
+}
+
+impl GlideDesign {
+    /// Design the table for `spec` (see [`FilterSpec::design_glide`]).
+    pub fn new(spec: &FilterSpec) -> Result<Self> {
+        // The rates are checked as for any design (they set the starting ratio).
+        crate::RatePair::new(spec.in_rate(), spec.out_rate())?;
+        let a = spec.stopband_db;
+        if !(MIN_STOPBAND_DB..=MAX_STOPBAND_DB).contains(&a) {
+            return Err(Error::StopbandOutOfRange { db: a });
+        }
+        let p = spec.passband;
+        if !(MIN_PASSBAND..=MAX_PASSBAND).contains(&p) {
+            return Err(Error::PassbandOutOfRange { fraction: p });
+        }
+        if spec.phase == Phase::Minimum {
+            return Err(Error::PhaseUnsupported {
+                engine: "any-ratio",
+            });
+        }
+        let limit = -(a + GLIDE_ERROR_MARGIN_DB);
+        // Predict the phases each order needs on Kaiser's kernel for the request (the
+        // design may lengthen it a little; the final table is measured below).
+        let width = (1.0 - p) * 0.5 * 2.0; // transition, fraction of the input Nyquist
+        let (taps1, _) = kaiser_length(a, width); // taps at one phase per input sample
+        let cutoff = 0.25 * (1.0 + p); // cycles per input sample
+        let beta = kaiser_beta(a);
+        let predict = |phases: usize, interp: Interpolation| {
+            let half = (taps1 * phases / 2) as f64;
+            let exact = Continuous {
+                half,
+                beta,
+                i0_beta: bessel_i0(beta),
+                wc: 2.0 * cutoff / phases as f64,
+                scale: 2.0 * cutoff,
+            };
+            let cols = columns(2 * half as usize + 1, phases);
+            let grid = |q: i64| exact.at(q as f64);
+            interpolation_error(&grid, &exact, phases, cols, interp).0
+        };
+        let smallest = |interp: Interpolation| {
+            let mut phases = 8;
+            while phases < MAX_GLIDE_PHASES && predict(phases, interp) > limit {
+                phases *= 2;
+            }
+            phases
+        };
+        let cols_est = taps1 + 2;
+        let lin = smallest(Interpolation::Linear);
+        let (mut interp, mut phases) = if bytes(lin, cols_est, 8) <= GLIDE_TABLE_LIMIT {
+            (Interpolation::Linear, lin)
+        } else {
+            (Interpolation::Cubic, smallest(Interpolation::Cubic))
+        };
+        loop {
+            let design = FilterSpec::new(1, phases as u32)
+                .stopband_db(a)
+                .passband(p)
+                .table_budget_bytes(u64::MAX)
+                .design()?;
+            let g = Self::from_design(spec, &design, phases, interp);
+            if g.report.interpolation_error_db <= limit || phases >= MAX_GLIDE_PHASES {
+                if g.report.interpolation_error_db > limit {
+                    return Err(Error::DesignNotMet {
+                        requested_db: a,
+                        best_db: -g.report.interpolation_error_db,
+                    });
+                }
+                return Ok(g);
+            }
+            phases *= 2;
+            if interp == Interpolation::Linear && bytes(phases, g.cols, 8) > GLIDE_TABLE_LIMIT {
+                interp = Interpolation::Cubic;
+            }
+        }
+    }
+
+    /// Lay out `design` (the pair 1 -> `phases`) as rows and measure the interpolation.
+    fn from_design(
+        spec: &FilterSpec,
+        design: &Design,
+        phases: usize,
+        interp: Interpolation,
+    ) -> Self {
+        let taps = design.taps();
+        let len = taps.len();
+        let half = design.delay() as usize;
+        let cols = columns(len, phases);
+        // Prototype taps times P: each output's taps then sum to about 1.
+        let gain = phases as f64;
+        let h = |q: i64| -> f64 {
+            if q < 0 || q as usize >= len {
+                0.0
+            } else {
+                gain * taps[q as usize]
+            }
+        };
+        let mut rows = vec![0.0; (phases + 3) * cols];
+        for (r, row) in rows.chunks_exact_mut(cols).enumerate() {
+            for (w, v) in row.iter_mut().enumerate() {
+                let j = (cols - 1 - w) as i64;
+                *v = h(j * phases as i64 + r as i64 - 1);
+            }
+        }
+        let rep = design.report();
+        let wc = 2.0 * rep.cutoff_hz / phases as f64;
+        let exact = Continuous {
+            half: half as f64,
+            beta: rep.beta,
+            i0_beta: bessel_i0(rep.beta),
+            wc,
+            // The design normalised its taps; the centre tap carries that scale.
+            scale: gain * taps[half],
+        };
+        let (err, positions) = interpolation_error(&h, &exact, phases, cols, interp);
+        let lin_err = if interp == Interpolation::Linear {
+            err
+        } else {
+            interpolation_error(&h, &exact, phases, cols, Interpolation::Linear).0
+        };
+        let report = GlideReport {
+            phases: phases as u64,
+            interpolation: interp,
+            taps_per_output: cols,
+            prototype_taps: len,
+            beta: rep.beta,
+            requested_stopband_db: spec.stopband_db,
+            kernel_stopband_db: rep.measured_stopband_db,
+            passband_ripple_db: rep.passband_ripple_db,
+            interpolation_error_db: err,
+            linear_error_db: lin_err,
+            error_positions: positions,
+            table_bytes_f32: bytes(phases, cols, 4),
+            table_bytes_f64: bytes(phases, cols, 8),
+            passband_fraction: spec.passband,
+            delay_input_frames: half as f64 / phases as f64,
+        };
+        Self {
+            spec: *spec,
+            rows,
+            cols,
+            phases,
+            half,
+            len,
+            report,
+        }
+    }
+
+    /// What was built and measured.
+    pub fn report(&self) -> &GlideReport {
+        &self.report
+    }
+
+    /// The spec this table was designed from.
+    pub fn spec(&self) -> FilterSpec {
+        self.spec
+    }
+
+    /// The rows of the table, `P + 3` of `cols` taps (see the field's comment).
+    pub(crate) fn rows(&self) -> &[f64] {
+        &self.rows
+    }
+
+    /// Columns of each row.
+    pub(crate) fn cols(&self) -> usize {
+        self.cols
+    }
+
+    /// Phases per input sample.
+    pub(crate) fn phases(&self) -> usize {
+        self.phases
+    }
+
+    /// Centre tap of the prototype.
+    pub(crate) fn half(&self) -> usize {
+        self.half
+    }
+
+    /// Prototype length.
+    pub(crate) fn len(&self) -> usize {
+        self.len
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn weights_sum_to_one_and_hit_nodes() {
+        for interp in [Interpolation::Linear, Interpolation::Cubic] {
+            for a in [0.0, 0.1, 0.5, 0.9] {
+                let w = interp.weights(a);
+                assert!((w.iter().sum::<f64>() - 1.0).abs() < 1e-15);
+            }
+            let w = interp.weights(0.0);
+            assert_eq!(w[interp.first()], 1.0);
+        }
+    }
+
+    #[test]
+    fn chosen_table_meets_the_request() {
+        for a in [60.0, 100.0, 140.0] {
+            let g = FilterSpec::new(44_100, 48_000)
+                .stopband_db(a)
+                .design_glide()
+                .unwrap();
+            let r = g.report();
+            assert!(
+                r.interpolation_error_db <= -(a + GLIDE_ERROR_MARGIN_DB),
+                "{r:?}"
+            );
+            assert!(r.kernel_stopband_db >= a, "{r:?}");
+            assert!(r.table_bytes_f64 <= GLIDE_TABLE_LIMIT, "{r:?}");
+        }
+    }
+
+    #[test]
+    fn linear_error_gains_about_12_db_per_doubling() {
+        // CHECKS.md (arbitrary ratios, numerical results): linear interpolation between table
+        // phases gains about 12 dB per doubling of the phases (common practice, no source:
+        // the error of a straight line falls with the square of the step).
+        let design = |p: u32| {
+            FilterSpec::new(1, p)
+                .stopband_db(140.0)
+                .table_budget_bytes(u64::MAX)
+                .design()
+                .unwrap()
+        };
+        let spec = FilterSpec::new(1, 2).stopband_db(140.0);
+        let e64 = GlideDesign::from_design(&spec, &design(64), 64, Interpolation::Linear);
+        let e256 = GlideDesign::from_design(&spec, &design(256), 256, Interpolation::Linear);
+        let gain = e64.report.interpolation_error_db - e256.report.interpolation_error_db;
+        assert!((20.0..28.0).contains(&gain), "{gain}");
+    }
+
+    #[test]
+    fn minimum_phase_is_refused() {
+        let r = FilterSpec::new(44_100, 48_000)
+            .phase(Phase::Minimum)
+            .design_glide();
+        assert!(matches!(r, Err(Error::PhaseUnsupported { .. })));
+    }
+}
