@@ -5,6 +5,7 @@
 //! sampling-rate conversion method", Proc. IEEE ICASSP 1984), with the same real-time
 //! contract as [`crate::StreamConverter`].
 
+use super::stream::{check_interleaved, load_interleaved};
 use crate::kernel::{Kernel, KernelFns, Sample};
 use crate::limits::{MAX_GLIDE_RATIO, MIN_GLIDE_RATIO};
 use crate::{Error, GlideDesign, Interpolation, Progress, Result};
@@ -409,14 +410,7 @@ impl<T: Sample> GlideConverter<T> {
             frames_in,
             frames_out,
             |hist, cap, at, from, n| {
-                for (c, buf) in hist.chunks_exact_mut(cap).enumerate() {
-                    for (d, f) in buf[at..at + n]
-                        .iter_mut()
-                        .zip(input[from * ch..(from + n) * ch].chunks_exact(ch))
-                    {
-                        *d = f[c];
-                    }
-                }
+                load_interleaved(hist, cap, ch, at, &input[from * ch..(from + n) * ch]);
             },
             |frame, c, v| output[frame * ch + c] = v,
         ))
@@ -649,17 +643,6 @@ impl<T: Sample> GlideConverter<T> {
 #[inline(always)]
 fn trunc_floor(x: f64) -> f64 {
     (x as i64) as f64
-}
-
-fn check_interleaved(len: usize, channels: usize, what: &'static str) -> Result<()> {
-    if len % channels != 0 {
-        return Err(Error::BufferShape {
-            what,
-            expected: len - len % channels,
-            got: len,
-        });
-    }
-    Ok(())
 }
 
 /// The common length of planar channel slices, checking their count.

@@ -541,7 +541,13 @@ fn store_interleaved<T: Copy>(output: &mut [T], ch: usize, frame: usize, planar:
 /// Split interleaved frames `src` into the planar history `hist` (channel `c` at
 /// `hist[c * stride..]`) from index `at` on.
 #[inline]
-fn load_interleaved<T: Copy>(hist: &mut [T], stride: usize, ch: usize, at: usize, src: &[T]) {
+pub(super) fn load_interleaved<T: Copy>(
+    hist: &mut [T],
+    stride: usize,
+    ch: usize,
+    at: usize,
+    src: &[T],
+) {
     let n = src.len() / ch;
     if ch == 2 {
         // Both channels in one pass, with the channel count known to the compiler.
@@ -575,7 +581,7 @@ fn store_planar<T: Copy, O: AsMut<[T]>>(output: &mut [O], frame: usize, planar: 
     }
 }
 
-fn check_interleaved(len: usize, channels: usize, what: &'static str) -> Result<()> {
+pub(super) fn check_interleaved(len: usize, channels: usize, what: &'static str) -> Result<()> {
     if !len.is_multiple_of(channels) {
         return Err(Error::BufferShape {
             what,
