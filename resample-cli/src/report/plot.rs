@@ -13,6 +13,7 @@
 use std::path::{Path, PathBuf};
 
 use anyhow::{anyhow, bail, Result};
+use plotters::coord::types::RangedCoordf64;
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use resample_core::measure::{Measurement, Unwanted};
@@ -569,19 +570,35 @@ where
             theme::MARK.stroke_width(1),
         ))
         .map_err(err)?;
+    chart
+        .draw_series(LineSeries::new(below, theme::MEASURED.stroke_width(2)))
+        .map_err(err)?;
+    stopband_marks(&mut chart, (fe, x1), limit_db, &pts, 3)
+}
+
+/// Over a response panel's stopband from `from` to `to`: the request as a dashed line, the
+/// sweep's unwanted components as dots and the probes' as larger dots of their own colour.
+fn stopband_marks<DB: DrawingBackend>(
+    chart: &mut ChartContext<'_, DB, Cartesian2d<RangedCoordf64, RangedCoordf64>>,
+    (from, to): (f64, f64),
+    limit_db: Option<f64>,
+    pts: &[Unwanted],
+    probe_size: i32,
+) -> Result<()>
+where
+    DB::ErrorType: 'static,
+{
+    let err = |e: DrawingAreaErrorKind<DB::ErrorType>| anyhow!("{e}");
     if let Some(l) = limit_db {
         chart
             .draw_series(DashedLineSeries::new(
-                [(fe, -l), (x1, -l)],
+                [(from, -l), (to, -l)],
                 8,
                 6,
                 theme::REQUEST.stroke_width(2),
             ))
             .map_err(err)?;
     }
-    chart
-        .draw_series(LineSeries::new(below, theme::MEASURED.stroke_width(2)))
-        .map_err(err)?;
     chart
         .draw_series(pts.iter().filter(|p| !p.from_probe).map(|p| {
             Circle::new(
@@ -592,11 +609,13 @@ where
         }))
         .map_err(err)?;
     chart
-        .draw_series(
-            pts.iter()
-                .filter(|p| p.from_probe)
-                .map(|p| Circle::new((p.filter_hz, shown(p.level_db)), 3, theme::PROBE.filled())),
-        )
+        .draw_series(pts.iter().filter(|p| p.from_probe).map(|p| {
+            Circle::new(
+                (p.filter_hz, shown(p.level_db)),
+                probe_size,
+                theme::PROBE.filled(),
+            )
+        }))
         .map_err(err)?;
     Ok(())
 }
@@ -660,32 +679,7 @@ where
             ))
             .map_err(err)?;
     }
-    if let Some(l) = limit_db {
-        chart
-            .draw_series(DashedLineSeries::new(
-                [(lower_nyq, -l), (x1, -l)],
-                8,
-                6,
-                theme::REQUEST.stroke_width(2),
-            ))
-            .map_err(err)?;
-    }
-    chart
-        .draw_series(pts.iter().filter(|p| !p.from_probe).map(|p| {
-            Circle::new(
-                (p.filter_hz, shown(p.level_db)),
-                1,
-                theme::MEASURED.filled(),
-            )
-        }))
-        .map_err(err)?;
-    chart
-        .draw_series(
-            pts.iter()
-                .filter(|p| p.from_probe)
-                .map(|p| Circle::new((p.filter_hz, shown(p.level_db)), 2, theme::PROBE.filled())),
-        )
-        .map_err(err)?;
+    stopband_marks(&mut chart, (lower_nyq, x1), limit_db, &pts, 2)?;
     chart
         .draw_series(LineSeries::new(
             curve.iter().map(|&(f, v)| (f, shown(v).max(floor))),
