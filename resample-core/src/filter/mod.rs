@@ -4,6 +4,7 @@
 //! what was built ([`Design`], [`DesignReport`]), including the delay every engine reads.
 
 mod design;
+mod first_attempt;
 mod glide;
 pub mod minphase;
 pub mod response;
