@@ -225,7 +225,8 @@ pub struct DesignReport {
     /// Phases per input sample of the grid the stopband was measured on (L itself, or a
     /// resampled copy of the same kernel for very long prototypes).
     pub measured_on_phases: u64,
-    /// Design attempts made (1 when Kaiser's formulas were enough).
+    /// Prototypes designed and measured (1 when the first attempt was enough; a first attempt
+    /// far over the request is followed by one shorter try, see `first_attempt.rs`).
     pub attempts: usize,
     /// Delay in input samples ([`Design::delay`]` / L`).
     pub latency_input_frames: f64,
@@ -390,7 +391,6 @@ struct Candidate {
     len: usize,
     tpp: usize,
     m_phases: u64,
-    attempt: usize,
 }
 
 pub(super) fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> {
@@ -409,7 +409,7 @@ pub(super) fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> 
 
     let minimum = spec.phase == Phase::Minimum;
     // What the search found, made into the design and its report.
-    let finish = |c: Candidate| -> Result<Design> {
+    let finish = |c: Candidate, made: usize| -> Result<Design> {
         let Candidate {
             probe,
             ripple_db,
@@ -419,7 +419,6 @@ pub(super) fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> 
             len,
             tpp,
             m_phases,
-            attempt,
         } = c;
         let taps = if m_phases == up {
             probe
@@ -464,7 +463,7 @@ pub(super) fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> 
             measured_stopband_db: got,
             passband_ripple_db: ripple_db,
             measured_on_phases: m_phases,
-            attempts: attempt,
+            attempts: made,
             latency_input_frames: latency_in,
             latency_output_frames: delay as f64 / f64::from(pair.down()),
             latency_ms: 1000.0 * latency_in / in_rate,
@@ -584,7 +583,6 @@ pub(super) fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> 
                 len,
                 tpp,
                 m_phases,
-                attempt,
             };
             if attempt == 1 && got - needed > TRIM_OVER_DB {
                 // Over by a wide margin (prototypes with few phases often fall short of
@@ -593,11 +591,11 @@ pub(super) fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> 
                 kept = Some(c);
                 continue;
             }
-            return finish(c);
+            return finish(c, attempt);
         }
         if let Some(c) = kept.take() {
             // The shorter prototype fell short: the first one stands.
-            return finish(c);
+            return finish(c, attempt);
         }
         // Ask the formulas for more: the shortfall grows with the request, so ask for 1.4 times
         // the shortfall (plus a little) to reach it in one more attempt most of the time.
