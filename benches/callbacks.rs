@@ -6,9 +6,11 @@
 //!
 //! Every callback is timed on its own (`Instant`, about 20 ns of overhead); the summary gives
 //! the mean, the 99.9th percentile and the maximum cost per callback, each as a share of the
-//! callback's real-time period (N / 48000 s), over 60 s of audio per size after a warm-up.
-//! The percentile and the maximum include whatever else the machine was doing: run it on a
-//! quiet machine for figures to quote. Then criterion times the mean per size.
+//! callback's real-time period (N / 48000 s), over 60 s of audio per size after a warm-up,
+//! and the mean in CPU time of the measuring thread over the whole run (time the core spent
+//! on other work not counted). The wall-clock figures include whatever else the machine was
+//! doing: run it on a quiet machine for percentiles to quote. Then criterion times the mean
+//! per size.
 //!
 //! `cargo bench -p resample-core --bench callbacks` (`RERATE_SUMMARY_ONLY=1` prints only
 //! the summary).
@@ -27,21 +29,48 @@ const CHANNELS: usize = 2;
 /// Seconds of output timed per callback size.
 const SECONDS: usize = 60;
 
-/// A source at the input rate: two tones (demo material, generated here).
+/// A source at the input rate: one second of two tones (441 and 882 Hz, whole cycles per
+/// second so the loop is seamless; demo material, generated here), played in a loop. A
+/// callback copies its input from it, as a real one copies from a FIFO, so the timing holds
+/// the converter and a copy, not the making of the test signal.
 struct Source {
-    n: u64,
+    frames: Vec<f32>,
+    at: usize,
 }
 
 impl Source {
+    fn new() -> Self {
+        let tau = 2.0 * std::f64::consts::PI;
+        let rate = f64::from(IN_RATE);
+        let frames = (0..IN_RATE as usize)
+            .flat_map(|i| {
+                let t = i as f64 / rate;
+                [
+                    (0.4 * (tau * 441.0 * t).sin()) as f32,
+                    (0.4 * (tau * 882.0 * t).sin()) as f32,
+                ]
+            })
+            .collect();
+        Self { frames, at: 0 }
+    }
+
     fn fill(&mut self, buf: &mut [f32]) {
-        for frame in buf.chunks_exact_mut(CHANNELS) {
-            let t = self.n as f64 / f64::from(IN_RATE);
-            let tau = 2.0 * std::f64::consts::PI;
-            frame[0] = (0.4 * (tau * 440.0 * t).sin()) as f32;
-            frame[1] = (0.4 * (tau * 660.0 * t).sin()) as f32;
-            self.n += 1;
+        let mut done = 0;
+        while done < buf.len() {
+            let k = (buf.len() - done).min(self.frames.len() - self.at);
+            buf[done..done + k].copy_from_slice(&self.frames[self.at..self.at + k]);
+            done += k;
+            self.at = (self.at + k) % self.frames.len();
         }
     }
+}
+
+/// CPU time of this thread, seconds (`/proc/thread-self/schedstat`, Linux; updated at
+/// scheduler ticks, so only long spans are meaningful). `None` elsewhere.
+fn thread_cpu_seconds() -> Option<f64> {
+    let s = std::fs::read_to_string("/proc/thread-self/schedstat").ok()?;
+    let ns: f64 = s.split_whitespace().next()?.parse().ok()?;
+    Some(ns * 1e-9)
 }
 
 /// One output callback of `out.len() / CHANNELS` frames: ask for exactly that many output
@@ -71,12 +100,20 @@ fn summary() {
         design.report().taps_per_phase
     );
     println!(
-        "{:>7} {:>10} {:>12} {:>12} {:>12} {:>10} {:>10}",
-        "frames", "period us", "mean us", "p99.9 us", "max us", "mean %", "p99.9/mean"
+        "{:>7} {:>10} {:>12} {:>12} {:>12} {:>12} {:>10} {:>10} {:>10}",
+        "frames",
+        "period us",
+        "mean us",
+        "cpu mean us",
+        "p99.9 us",
+        "max us",
+        "mean %",
+        "cpu mean %",
+        "p99.9/mean"
     );
     for &n in &SIZES {
         let mut conv = StreamConverter::<f32>::new(&design, CHANNELS).expect("converter");
-        let mut src = Source { n: 0 };
+        let mut src = Source::new();
         let mut input = vec![0.0_f32; (2 * n + 4096) * CHANNELS];
         let mut out = vec![0.0_f32; n * CHANNELS];
         let calls = SECONDS * OUT_RATE as usize / n;
@@ -85,6 +122,7 @@ fn summary() {
             callback(&mut conv, &mut src, &mut input, &mut out);
         }
         let mut times = Vec::with_capacity(calls);
+        let cpu0 = thread_cpu_seconds();
         for _ in 0..calls {
             let t = Instant::now();
             let w = callback(&mut conv, &mut src, &mut input, &mut out);
@@ -92,18 +130,26 @@ fn summary() {
             assert_eq!(w, n, "a callback fell short");
             black_box(&out);
         }
+        // CPU time over the whole run (this thread only: time other work took the core
+        // from it is not counted), per callback; the per-call wall times hold that time.
+        let cpu_mean = match (cpu0, thread_cpu_seconds()) {
+            (Some(a), Some(b)) => (b - a) / calls as f64,
+            _ => f64::NAN,
+        };
         times.sort_by(f64::total_cmp);
         let mean = times.iter().sum::<f64>() / times.len() as f64;
         let p999 = times[(times.len() as f64 * 0.999) as usize - 1];
         let max = times[times.len() - 1];
         let period = n as f64 / f64::from(OUT_RATE);
         println!(
-            "{n:>7} {:>10.1} {:>12.3} {:>12.3} {:>12.3} {:>9.3}% {:>10.1}",
+            "{n:>7} {:>10.1} {:>12.3} {:>12.3} {:>12.3} {:>12.3} {:>9.3}% {:>9.3}% {:>10.1}",
             period * 1e6,
             mean * 1e6,
+            cpu_mean * 1e6,
             p999 * 1e6,
             max * 1e6,
             100.0 * mean / period,
+            100.0 * cpu_mean / period,
             p999 / mean
         );
     }
@@ -125,7 +171,7 @@ fn main() {
     let mut g = c.benchmark_group("callback");
     for &n in &SIZES {
         let mut conv = StreamConverter::<f32>::new(&design, CHANNELS).expect("converter");
-        let mut src = Source { n: 0 };
+        let mut src = Source::new();
         let mut input = vec![0.0_f32; (2 * n + 4096) * CHANNELS];
         let mut out = vec![0.0_f32; n * CHANNELS];
         g.bench_function(BenchmarkId::from_parameter(n), |b| {
