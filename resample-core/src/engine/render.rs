@@ -148,25 +148,38 @@ pub(crate) fn render<T: Sample>(
         for q in q_lo..q_hi {
             let n0 = q * period;
             let (ga, gb, whole) = cut(q);
-            for c in 0..hist.channels {
-                if whole {
-                    let x = window(table, hist, ja, jb, q, c)?;
-                    xs[k] = x;
-                    dst[k] = (c, n0 + o_lo);
-                    k += 1;
-                    if k == per_call {
-                        fns.span(&span, &xs[..k], &mut tmp)?;
-                        keep(&run, &dst[..k], &tmp, width, valid, out);
-                        k = 0;
+            if !whole {
+                // A span cut by the run's ends: only the groups inside, every channel's in
+                // the same kernel calls (as many as the buffer holds per call).
+                let part = table.span(ga..gb);
+                let start = ga as u64 * w;
+                let n = ((gb as u64 * w).min(period) - start) as usize;
+                let pw = (gb - ga) * lanes;
+                let most = (TMP / pw).clamp(1, BATCH);
+                let mut c0 = 0;
+                while c0 < hist.channels {
+                    let c1 = (c0 + most).min(hist.channels);
+                    let mut xc: [&[T]; BATCH] = [&[]; BATCH];
+                    let mut dc = [(0usize, 0u64); BATCH];
+                    for (i, c) in (c0..c1).enumerate() {
+                        xc[i] = window(table, hist, ga, gb, q, c)?;
+                        dc[i] = (c, n0 + start);
                     }
-                } else {
-                    // A span cut by the run's ends: only the groups inside, on their own.
-                    let x = window(table, hist, ga, gb, q, c)?;
-                    let part = table.span(ga..gb);
-                    fns.span(&part, &[x], &mut tmp)?;
-                    let start = ga as u64 * w;
-                    let n = ((gb as u64 * w).min(period) - start) as usize;
-                    keep(&run, &[(c, n0 + start)], &tmp, n, n, out);
+                    fns.span(&part, &xc[..c1 - c0], &mut tmp)?;
+                    keep(&run, &dc[..c1 - c0], &tmp, pw, n, out);
+                    c0 = c1;
+                }
+                continue;
+            }
+            for c in 0..hist.channels {
+                let x = window(table, hist, ja, jb, q, c)?;
+                xs[k] = x;
+                dst[k] = (c, n0 + o_lo);
+                k += 1;
+                if k == per_call {
+                    fns.span(&span, &xs[..k], &mut tmp)?;
+                    keep(&run, &dst[..k], &tmp, width, valid, out);
+                    k = 0;
                 }
             }
         }
