@@ -79,6 +79,21 @@ pub struct Converted {
     pub metadata: MetadataRecord,
     /// Problems with the input that were worked around (a header never completed).
     pub warnings: Vec<String>,
+    /// The engine that ran: "fixed-ratio" or "any-ratio".
+    pub engine: &'static str,
+    /// Why the any-ratio engine ran, in words (absent for the fixed-ratio engine).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub engine_reason: Option<String>,
+    /// Clock correction applied, ppm (absent for the fixed-ratio engine; 0 for a pair over
+    /// the fixed table's budget).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub clock_ppm: Option<f64>,
+    /// The input's true rate, Hz (any-ratio engine).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub true_in_rate_hz: Option<f64>,
+    /// Measured error of the any-ratio engine's interpolated taps, dB.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub interpolation_error_db: Option<f64>,
 }
 
 /// What became of a converted file's metadata chunks.
