@@ -208,6 +208,64 @@ pub struct Design {
     pub minimum: Option<MinimumPhase>,
 }
 
+/// An any-ratio design (`design --json` with `--clock-ppm`, or for a pair over the fixed
+/// table's budget).
+#[derive(Debug, Serialize)]
+pub struct GlideDesignRecord {
+    /// Always "any-ratio".
+    pub engine: &'static str,
+    /// Why the any-ratio engine, in words.
+    pub engine_reason: String,
+    /// Header input rate, Hz.
+    pub in_rate: u32,
+    /// Output rate, Hz.
+    pub out_rate: u32,
+    /// Clock correction, ppm.
+    pub clock_ppm: f64,
+    /// True input rate, Hz.
+    pub true_in_rate_hz: f64,
+    /// Output rate / true input rate.
+    pub ratio: f64,
+    /// Phases per input sample of the table.
+    pub phases: u64,
+    /// "linear" or "cubic".
+    pub interpolation: &'static str,
+    /// Polynomial order of the interpolation.
+    pub interpolation_order: usize,
+    /// Taps per output at a ratio of 1 or more.
+    pub taps_per_output: usize,
+    /// Prototype taps.
+    pub prototype_taps: usize,
+    /// Kaiser beta.
+    pub beta: f64,
+    /// Passband edge, Hz.
+    pub passband_edge_hz: f64,
+    /// Stopband edge, Hz.
+    pub stopband_edge_hz: f64,
+    /// Stopband asked for, dB.
+    pub requested_stopband_db: f64,
+    /// Stopband measured on the prototype, dB.
+    pub kernel_stopband_db: f64,
+    /// Measured error of the interpolated taps, dB.
+    pub interpolation_error_db: f64,
+    /// The same for linear interpolation of the table, dB.
+    pub linear_error_db: f64,
+    /// Positions the error was measured at.
+    pub error_positions: usize,
+    /// Passband ripple, dB peak to peak.
+    pub passband_ripple_db: f64,
+    /// Latency, input samples.
+    pub latency_input_samples: f64,
+    /// Latency, output samples.
+    pub latency_output_samples: f64,
+    /// Latency, ms.
+    pub latency_ms: f64,
+    /// Table bytes in f32.
+    pub table_bytes_f32: u64,
+    /// Table bytes in f64.
+    pub table_bytes_f64: u64,
+}
+
 /// The figures of a minimum-phase design.
 #[derive(Debug, Serialize)]
 pub struct MinimumPhase {
