@@ -136,6 +136,52 @@ impl ClockPpm {
     }
 }
 
+/// Whole rates searched on each side of the true input rate by [`ClockPpm::analysis_pair`].
+const ANALYSIS_SEARCH: u32 = 400;
+
+impl ClockPpm {
+    /// A pair of whole rates `(A, B)` for measuring the any-ratio engine under this
+    /// correction with the sweep analyser (whose rates are whole hertz), and the relative
+    /// difference of `B / A` from the exact ratio `out_rate / true rate`.
+    ///
+    /// The sweep is made at `A`, near the input's true rate, and the engine runs at the ratio
+    /// `B / A` exactly, so the analysis is exact; `B / A` is the closest ratio among
+    /// `A` within [`ANALYSIS_SEARCH`] Hz of the true rate and `B` the nearest whole rate for
+    /// each. Without a correction it is the pair itself (difference 0).
+    pub fn analysis_pair(self, in_rate: u32, out_rate: u32) -> (u32, u32, f64) {
+        if self.is_zero() {
+            return (in_rate, out_rate, 0.0);
+        }
+        // Exact ratio n / d = out x 10^12 / (in x (10^12 + units)).
+        let (n, d) = self.scale(in_rate, out_rate);
+        let centre = (u128::from(in_rate) * self.factor().0).div_ceil(SCALE) as i64;
+        let mut best = (in_rate, out_rate, f64::INFINITY);
+        for k in 0..=2 * i64::from(ANALYSIS_SEARCH) {
+            // centre, centre + 1, centre - 1, centre + 2, ...
+            let off = if k % 2 == 1 { (k + 1) / 2 } else { -(k / 2) };
+            let a = centre + off;
+            if a < 1 || a > i64::from(resample_core::MAX_RATE) {
+                continue;
+            }
+            let a = a as u128;
+            let p = a * n;
+            let b = (p + d / 2) / d;
+            if b < 1 || b > u128::from(resample_core::MAX_RATE) {
+                continue;
+            }
+            // |b d - a n| / (a n), in f64 from exact integers.
+            let diff = (b * d).abs_diff(p);
+            let rel = diff as f64 / p as f64;
+            if rel < best.2 {
+                best = (a as u32, b as u32, rel);
+            }
+        }
+        let (a, b, _) = best;
+        let signed = (f64::from(b) * d as f64) / (f64::from(a) * n as f64) - 1.0;
+        (a, b, signed)
+    }
+}
+
 impl std::fmt::Display for ClockPpm {
     /// Signed, shortest exact decimal: "+500", "-12.25", "0".
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
@@ -232,5 +278,30 @@ mod tests {
         assert_eq!(p.rescale(24_012, 48_000, 48_000), 24_000);
         assert_eq!(p.rescale(24_013, 48_000, 48_000), 24_001);
         assert_eq!(ClockPpm::ZERO.rescale(3, 2, 1), 2);
+    }
+
+    #[test]
+    fn analysis_pair_is_close_to_the_exact_ratio() {
+        assert_eq!(
+            ClockPpm::ZERO.analysis_pair(44_100, 48_000),
+            (44_100, 48_000, 0.0)
+        );
+        for ppm in ["500", "-250", "100", "-1000", "0.3", "1000"] {
+            let p = parse_clock_ppm(ppm).unwrap();
+            for (i, o) in [
+                (44_100, 48_000),
+                (48_000, 44_100),
+                (48_000, 48_000),
+                (8_000, 96_000),
+            ] {
+                let (a, b, e) = p.analysis_pair(i, o);
+                let exact = p.ratio(i, o);
+                let got = f64::from(b) / f64::from(a);
+                assert!((got / exact - 1.0 - e).abs() < 1e-12, "{ppm} {i} {o}");
+                // Far closer than a rounding of the output rate alone (0.5 / out).
+                assert!(e.abs() < 0.05 / f64::from(o), "{ppm} {i} {o}: {e}");
+                assert!((f64::from(a) - p.true_rate(i)).abs() <= 401.0);
+            }
+        }
     }
 }

@@ -354,3 +354,134 @@ impl Run<'_> {
         (self.ctl.progress)(bytes);
     }
 }
+
+/// The engine a measurement (`verify`, `tradeoff`) runs: the one `convert` would run for
+/// the same request.
+#[derive(Debug)]
+pub enum Chosen {
+    /// The fixed-ratio engine and its design.
+    Fixed(resample_core::Design),
+    /// The any-ratio engine.
+    AnyRatio {
+        /// Its table.
+        design: GlideDesign,
+        /// Why it runs.
+        why: Why,
+        /// Output rate / true input rate.
+        ratio: f64,
+        /// The input's rate as the measurement takes it, Hz.
+        in_rate: f64,
+    },
+}
+
+impl Chosen {
+    /// Choose as `convert` does: a non-zero clock correction, or a fixed table over the
+    /// budget, takes the any-ratio engine.
+    pub fn new(
+        spec: &resample_core::FilterSpec,
+        clock: ClockPpm,
+    ) -> Result<Self, resample_core::Error> {
+        let why = if clock.is_zero() {
+            match spec.design() {
+                Ok(d) => return Ok(Self::Fixed(d)),
+                Err(resample_core::Error::TableTooLarge {
+                    up,
+                    down,
+                    needed_bytes,
+                    budget_bytes,
+                }) => Why::TableBudget {
+                    up,
+                    down,
+                    needed_bytes,
+                    budget_bytes,
+                },
+                Err(e) => return Err(e),
+            }
+        } else {
+            Why::Clock(clock)
+        };
+        Ok(Self::AnyRatio {
+            design: spec.design_glide()?,
+            ratio: clock.ratio(spec.in_rate(), spec.out_rate()),
+            in_rate: clock.true_rate(spec.in_rate()),
+            why,
+        })
+    }
+
+    /// The same engine measured between the whole rates `a -> b` (the sweep analyser's
+    /// rates; [`ClockPpm::analysis_pair`]): the any-ratio engine then runs at `b / a`.
+    pub fn measured_between(mut self, a: u32, b: u32) -> Self {
+        if let Self::AnyRatio { ratio, in_rate, .. } = &mut self {
+            *ratio = f64::from(b) / f64::from(a);
+            *in_rate = f64::from(a);
+        }
+        self
+    }
+
+    /// Run `x` through the engine in `T`, as `convert` does.
+    pub fn run<T: Sample>(&self, x: &[f64]) -> anyhow::Result<Vec<f64>> {
+        match self {
+            Self::Fixed(d) => super::run_engine::<T>(d, x),
+            Self::AnyRatio { design, ratio, .. } => super::run_glide::<T>(design, *ratio, x),
+        }
+    }
+
+    /// The engine's name for reports.
+    pub fn name(&self) -> &'static str {
+        match self {
+            Self::Fixed(_) => FIXED_ENGINE,
+            Self::AnyRatio { .. } => ANY_RATIO_ENGINE,
+        }
+    }
+
+    /// Why the any-ratio engine runs, in words (`None` for the fixed one).
+    pub fn reason(&self) -> Option<String> {
+        match self {
+            Self::Fixed(_) => None,
+            Self::AnyRatio { why, .. } => Some(why.words()),
+        }
+    }
+
+    /// The passband edge of the design, Hz: the fraction of the lower Nyquist frequency,
+    /// `in_rate x min(1, ratio) / 2`.
+    pub fn passband_edge_hz(&self) -> f64 {
+        match self {
+            Self::Fixed(d) => d.report().passband_edge_hz,
+            Self::AnyRatio {
+                design,
+                ratio,
+                in_rate,
+                ..
+            } => design.report().passband_fraction * in_rate * ratio.min(1.0) / 2.0,
+        }
+    }
+
+    /// The design's own stopband figure, dB: the fixed prototype's measured stopband, or
+    /// for the any-ratio table the lower of its prototype's stopband and its measured
+    /// interpolation error.
+    pub fn design_stopband_db(&self) -> f64 {
+        match self {
+            Self::Fixed(d) => d.report().measured_stopband_db,
+            Self::AnyRatio { design, .. } => {
+                let r = design.report();
+                r.kernel_stopband_db.min(-r.interpolation_error_db)
+            }
+        }
+    }
+
+    /// The filter's delay in a live stream, output samples and ms.
+    pub fn latency(&self) -> (f64, f64) {
+        match self {
+            Self::Fixed(d) => (d.report().latency_output_frames, d.report().latency_ms),
+            Self::AnyRatio {
+                design,
+                ratio,
+                in_rate,
+                ..
+            } => {
+                let delay_in = design.report().delay_input_frames / ratio.min(1.0);
+                (delay_in * ratio, 1000.0 * delay_in / in_rate)
+            }
+        }
+    }
+}

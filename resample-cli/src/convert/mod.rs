@@ -15,7 +15,7 @@ use std::time::Instant;
 use resample_core::{Design, Phase, Sample, StreamConverter};
 
 pub use crate::report::file::{FileReport, Overs};
-pub use anyratio::{AnyRatioRun, Why, ANY_RATIO_ENGINE, FIXED_ENGINE};
+pub use anyratio::{AnyRatioRun, Chosen, Why, ANY_RATIO_ENGINE, FIXED_ENGINE};
 pub use cache::DesignCache;
 pub use memory::{run_engine, run_glide};
 

@@ -390,6 +390,24 @@ pub struct Verify {
     pub sweep_seconds: f64,
     /// The verdict.
     pub pass: bool,
+    /// The engine measured: "fixed-ratio" or "any-ratio".
+    pub engine: &'static str,
+    /// Why the any-ratio engine, in words.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub engine_reason: Option<String>,
+    /// Clock correction measured, ppm.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub clock_ppm: Option<f64>,
+    /// Under a clock correction: the whole input rate the sweep was made at (near the true
+    /// rate), Hz.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub measured_in_rate: Option<u32>,
+    /// The whole output rate it was measured at, Hz.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub measured_out_rate: Option<u32>,
+    /// Relative difference of the measured ratio from the exact one, ppm.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub ratio_difference_ppm: Option<f64>,
 }
 
 /// The minimum-phase figures `verify` adds.
