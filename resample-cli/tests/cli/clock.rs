@@ -430,3 +430,87 @@ fn verify_and_design_with_a_clock_correction_measure_the_any_ratio_engine() {
         }
     }
 }
+
+/// The body of the first chunk `id` of a RIFF file (sizes from the chunk headers).
+fn chunk_body(bytes: &[u8], id: &[u8; 4]) -> Option<Vec<u8>> {
+    let mut pos = 12;
+    while pos + 8 <= bytes.len() {
+        let len = u32::from_le_bytes(bytes[pos + 4..pos + 8].try_into().unwrap()) as usize;
+        if &bytes[pos..pos + 4] == id {
+            return Some(bytes[pos + 8..(pos + 8 + len).min(bytes.len())].to_vec());
+        }
+        pos += 8 + len + len % 2;
+    }
+    None
+}
+
+fn u32_at(b: &[u8], i: usize) -> u32 {
+    u32::from_le_bytes(b[i..i + 4].try_into().unwrap())
+}
+
+/// Metadata positions move by the true ratio: the 'bext' time reference (EBU Tech 3285,
+/// u32 pair at 338 / 342) and the 'cue ' points' dwPosition and dwSampleOffset (RIFF MCI
+/// specification: count, then 24-byte points with the position at 4 and the offset at 20)
+/// of the BWF fixture, 48 kHz with a clock 500 ppm fast, converted to 44.1 kHz: each is the
+/// nearest integer to pos x 44100 / (48000 x 1.0005), halves up, worked out here in u128.
+#[test]
+fn metadata_positions_move_by_the_true_ratio() {
+    let dir = tempfile::tempdir().unwrap();
+    let input = crate::util::fixtures()
+        .join("meta")
+        .join("bwf_stereo_48k.wav");
+    let o = rerate(
+        dir.path(),
+        &[
+            "convert",
+            input.to_str().unwrap(),
+            "--out-rate",
+            "44.1k",
+            "-o",
+            "o.wav",
+            "--clock-ppm",
+            "500",
+        ],
+    );
+    assert_eq!(o.status.code(), Some(0), "{}", err(&o));
+    let moved = |pos: u64| -> u64 {
+        let num = u128::from(pos) * 44_100 * 1_000_000_000_000;
+        let den = 48_000u128 * 1_000_500_000_000;
+        ((2 * num + den) / (2 * den)) as u64
+    };
+    let a = std::fs::read(&input).unwrap();
+    let b = std::fs::read(dir.path().join("o.wav")).unwrap();
+    let (ba, bb) = (
+        chunk_body(&a, b"bext").unwrap(),
+        chunk_body(&b, b"bext").unwrap(),
+    );
+    let tr = |x: &[u8]| u64::from(u32_at(x, 338)) | u64::from(u32_at(x, 342)) << 32;
+    assert!(tr(&ba) > 0, "the fixture has a time reference");
+    assert_eq!(tr(&bb), moved(tr(&ba)));
+    // Not the nominal ratio's value (the test tells the two apart).
+    assert_ne!(tr(&bb), (tr(&ba) * 44_100 + 24_000) / 48_000);
+    let history = String::from_utf8_lossy(&bb[602..]).into_owned();
+    assert!(
+        history.contains("any-ratio engine; input clock corrected by +500 ppm"),
+        "{history}"
+    );
+    let (ca, cb) = (
+        chunk_body(&a, b"cue ").unwrap(),
+        chunk_body(&b, b"cue ").unwrap(),
+    );
+    let n = u32_at(&ca, 0) as usize;
+    assert!(n >= 2 && u32_at(&cb, 0) as usize == n);
+    for k in 0..n {
+        let p = 4 + 24 * k;
+        assert_eq!(
+            u64::from(u32_at(&cb, p + 4)),
+            moved(u64::from(u32_at(&ca, p + 4))),
+            "cue {k}"
+        );
+        assert_eq!(
+            u64::from(u32_at(&cb, p + 20)),
+            moved(u64::from(u32_at(&ca, p + 20))),
+            "cue {k} offset"
+        );
+    }
+}
