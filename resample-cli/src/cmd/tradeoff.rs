@@ -326,6 +326,7 @@ pub fn run(args: &TradeoffArgs) -> Result<Status> {
             in_rate: args.in_rate,
             out_rate: args.out_rate,
             sweep_seconds: args.seconds,
+            clock_ppm: (!args.clock_ppm.is_zero()).then(|| args.clock_ppm.ppm()),
             speed: "one thread (CPU time where the system reports it), mono, f32, multiple of real time",
             rows: rows.iter().map(row_json).collect(),
         };
@@ -384,6 +385,14 @@ fn table_text(rows: &[Row], args: &TradeoffArgs) -> String {
         "tradeoff {} Hz -> {} Hz: quality measured by a {} s sweep; speed of one thread on {} s of mono audio\n",
         args.in_rate, args.out_rate, args.seconds, args.speed_seconds
     );
+    if !args.clock_ppm.is_zero() {
+        let (a, b, d) = args.clock_ppm.analysis_pair(args.in_rate, args.out_rate);
+        s.push_str(&format!(
+            "clock {} ppm: any-ratio engine, measured between {a} Hz and {b} Hz (ratio within {} ppm of the true pair's)\n",
+            args.clock_ppm,
+            crate::report::format::plain(1e6 * d.abs())
+        ));
+    }
     s.push_str(&format!(
         "{:<20} {:>7} {:>9} {:>6} {:>10} {:>11} {:>11} {:>9} {:>12} {:>10}\n",
         "method",

@@ -448,6 +448,9 @@ pub struct Tradeoff<'a> {
     pub out_rate: u32,
     /// Sweep length, s.
     pub sweep_seconds: f64,
+    /// Clock correction measured (the any-ratio engine), ppm.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub clock_ppm: Option<f64>,
     /// How speed is measured, in words.
     pub speed: &'static str,
     /// One row per method.

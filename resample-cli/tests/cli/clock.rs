@@ -514,3 +514,37 @@ fn metadata_positions_move_by_the_true_ratio() {
         );
     }
 }
+
+#[test]
+fn tradeoff_with_a_clock_correction_measures_any_ratio_rows() {
+    let dir = tempfile::tempdir().unwrap();
+    let o = rerate(
+        dir.path(),
+        &[
+            "tradeoff",
+            "--in-rate",
+            "44.1k",
+            "--out-rate",
+            "48k",
+            "--clock-ppm",
+            "100",
+            "--stopband-db",
+            "80,100",
+            "--no-baselines",
+            "--seconds",
+            "2",
+            "--speed-seconds",
+            "0.5",
+            "--json",
+        ],
+    );
+    assert_eq!(o.status.code(), Some(0), "{}", err(&o));
+    let t = json_of(&out(&o));
+    assert_eq!(t["clock_ppm"], 100.0);
+    let rows = t["rows"].as_array().unwrap();
+    assert_eq!(rows.len(), 2, "{t}");
+    for (row, db) in rows.iter().zip([80.0, 100.0]) {
+        assert_eq!(row["method"], "any-ratio");
+        assert!(row["rejection_db"].as_f64().unwrap() >= db, "{row}");
+    }
+}
