@@ -137,7 +137,7 @@ impl ClockPpm {
 }
 
 /// Whole rates searched on each side of the true input rate by [`ClockPpm::analysis_pair`].
-const ANALYSIS_SEARCH: u32 = 4000;
+pub const ANALYSIS_SEARCH: u32 = 4000;
 
 impl ClockPpm {
     /// A pair of whole rates `(A, B)` for measuring the any-ratio engine under this
