@@ -13,6 +13,7 @@
 pub mod args;
 pub mod audio;
 pub mod batch;
+pub mod clock;
 mod cmd;
 pub mod convert;
 pub mod demo;

@@ -50,3 +50,12 @@ pub const DEFAULT_LOOP_RAD_S: f64 = 0.2;
 /// way): more than any pair of audio clocks drifts apart, so a stalled producer cannot run
 /// the ratio away.
 pub const MAX_CORRECTION: f64 = 2000e-6;
+
+/// Largest clock correction a file conversion accepts, parts per million either way: the
+/// input's true rate is its header rate times `1 + ppm / 1e6`. Crystal clocks of audio
+/// devices stay within about +-100 ppm (common practice, no source); ten times that covers
+/// any recorder that still works.
+pub const MAX_CLOCK_PPM: f64 = 1000.0;
+/// Decimal places a clock correction may be given with (so that the true rate is an exact
+/// fraction: header rate x (10^12 + ppm x 10^6) / 10^12).
+pub const CLOCK_PPM_DECIMALS: u32 = 6;

@@ -79,6 +79,11 @@ pub struct ConvertArgs {
     /// Write the format and the audio only: no metadata chunks.
     #[arg(long)]
     pub strip_metadata: bool,
+    /// The input's true clock ran PPM parts per million fast (negative: slow), -1000 to
+    /// 1000, up to 6 decimals: its true rate is the header rate x (1 + PPM x 1e-6). Runs the
+    /// any-ratio engine; 0 (the default) runs the fixed-ratio engine.
+    #[arg(long, value_name = "PPM", value_parser = crate::clock::parse_clock_ppm, allow_negative_numbers = true, default_value = "0")]
+    pub clock_ppm: crate::clock::ClockPpm,
     /// One JSON object per file and a summary object, one per line, on stdout.
     #[arg(long)]
     pub json: bool,

@@ -64,6 +64,11 @@ pub struct TradeoffArgs {
     /// Design and measure every attenuation in both phases, side by side.
     #[arg(long)]
     pub both_phases: bool,
+    /// The input's true clock ran PPM parts per million fast (negative: slow), -1000 to
+    /// 1000, up to 6 decimals: its true rate is the header rate x (1 + PPM x 1e-6). Runs the
+    /// any-ratio engine; 0 (the default) runs the fixed-ratio engine.
+    #[arg(long, value_name = "PPM", value_parser = crate::clock::parse_clock_ppm, allow_negative_numbers = true, default_value = "0")]
+    pub clock_ppm: crate::clock::ClockPpm,
     /// Sweep duration for the quality measurement, seconds.
     #[arg(long, default_value_t = 4.0)]
     pub seconds: f64,

@@ -95,6 +95,7 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
             (false, true) => MetadataPolicy::KeepUnknown,
             (false, false) => MetadataPolicy::Carry,
         },
+        clock: args.clock_ppm,
     };
     if !args.gain.is_finite() {
         return Err(UsageError("--gain must be a finite number of dB".into()).into());

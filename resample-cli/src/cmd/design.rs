@@ -16,11 +16,37 @@ use crate::report::design::{report_json, report_text};
 /// Run `rerate design`.
 pub fn run(args: &DesignArgs) -> Result<Status> {
     check_filter(Some(args.stopband_db), args.passband)?;
-    let design = FilterSpec::new(args.in_rate, args.out_rate)
+    let spec = FilterSpec::new(args.in_rate, args.out_rate)
         .stopband_db(args.stopband_db)
         .passband(args.passband)
-        .phase(args.phase.phase())
-        .design()
+        .phase(args.phase.phase());
+    // A clock correction, or a pair whose fixed table is over the budget: the any-ratio
+    // engine's table (what `convert` would run).
+    let fixed = if args.clock_ppm.is_zero() {
+        Some(spec.design())
+    } else {
+        None
+    };
+    let why = match &fixed {
+        None => Some(crate::convert::Why::Clock(args.clock_ppm)),
+        Some(Err(resample_core::Error::TableTooLarge {
+            up,
+            down,
+            needed_bytes,
+            budget_bytes,
+        })) => Some(crate::convert::Why::TableBudget {
+            up: *up,
+            down: *down,
+            needed_bytes: *needed_bytes,
+            budget_bytes: *budget_bytes,
+        }),
+        Some(_) => None,
+    };
+    if let Some(why) = why {
+        return any_ratio(args, &spec, &why);
+    }
+    let design = fixed
+        .unwrap_or_else(|| spec.design())
         .context("cannot design the filter")?;
     if let Some(path) = &args.export {
         let mut text = String::with_capacity(design.taps().len() * 24);
@@ -39,6 +65,47 @@ pub fn run(args: &DesignArgs) -> Result<Status> {
         if let Some(path) = &args.export {
             writeln!(out, "taps written to {}", path.display())?;
         }
+    }
+    Ok(Status::Success)
+}
+
+/// `design` for the any-ratio engine: its table report (`--export` writes the prototype at
+/// P phases per input sample is not offered: it is refused as a usage error).
+fn any_ratio(args: &DesignArgs, spec: &FilterSpec, why: &crate::convert::Why) -> Result<Status> {
+    if args.export.is_some() {
+        return Err(crate::exit::UsageError(format!(
+            "--export writes a fixed-ratio prototype; this design runs the {} engine ({})",
+            crate::convert::ANY_RATIO_ENGINE,
+            why.words()
+        ))
+        .into());
+    }
+    let g = spec
+        .design_glide()
+        .context("cannot design the any-ratio table")?;
+    let clock = args.clock_ppm;
+    let ctx = crate::report::design::GlideContext {
+        in_rate: args.in_rate,
+        out_rate: args.out_rate,
+        clock_ppm: clock.ppm(),
+        clock_text: clock.to_string(),
+        true_in_rate: clock.true_rate(args.in_rate),
+        ratio: clock.ratio(args.in_rate, args.out_rate),
+        why: why.words(),
+    };
+    let mut out = std::io::stdout().lock();
+    if args.json {
+        writeln!(
+            out,
+            "{}",
+            crate::report::design::glide_json(g.report(), &ctx)
+        )?;
+    } else {
+        write!(
+            out,
+            "{}",
+            crate::report::design::glide_text(g.report(), &ctx)
+        )?;
     }
     Ok(Status::Success)
 }

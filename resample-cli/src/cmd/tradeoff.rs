@@ -9,12 +9,12 @@ use std::time::Instant;
 use anyhow::{bail, Context, Result};
 use resample_core::measure::Baseline;
 use resample_core::measure::{self, Settings, Sweep};
-use resample_core::{Design, FilterSpec, Sample, StreamConverter};
+use resample_core::{Design, FilterSpec, GlideConverter, Kernel, Sample, StreamConverter};
 
 use crate::args::check_filter;
 use crate::args::tradeoff::TradeoffArgs;
 use crate::args::PhaseArg;
-use crate::convert::run_engine;
+use crate::convert::{run_engine, Chosen};
 use crate::exit::Status;
 use crate::report::json;
 use crate::report::tradeoff::Row;
@@ -117,11 +117,83 @@ fn time_engine<T: Sample>(design: &Design, x: &[f64]) -> Result<f64> {
     })
 }
 
+/// One row for the any-ratio engine (a clock correction, or a pair over the fixed table's
+/// budget): measured like the fixed designs, in f64, and timed in f32 on one thread.
+fn glide_row(
+    engine: &Chosen,
+    sweep: &Sweep,
+    out_rate: u32,
+    db: f64,
+    phase: PhaseArg,
+    x: &[f64],
+    audio_s: f64,
+) -> Result<Row> {
+    let Chosen::AnyRatio { design, ratio, .. } = engine else {
+        bail!("internal error: not the any-ratio engine");
+    };
+    let settings = Settings {
+        passband_edge_hz: Some(engine.passband_edge_hz()),
+        keep_spectrogram: false,
+    };
+    let mut failure = None;
+    let m = measure::measure_converter(sweep, out_rate, &settings, |s| {
+        engine.run::<f64>(s).unwrap_or_else(|e| {
+            failure = Some(e);
+            Vec::new()
+        })
+    });
+    if let Some(e) = failure {
+        return Err(e.context("the converter failed"));
+    }
+    let m = m.with_context(|| format!("cannot measure the {db} dB any-ratio table"))?;
+    let input: Vec<f32> = x.iter().map(|&v| v as f32).collect();
+    let mut conv = GlideConverter::<f32>::with_kernel(design, 1, *ratio, Kernel::detect())?;
+    let mut out = vec![0.0_f32; conv.max_output_frames(4096)];
+    let secs = best_of_three(|| {
+        conv.reset();
+        let mut read = 0;
+        while read < input.len() {
+            let end = (read + 4096).min(input.len());
+            let p = conv.process_interleaved(&input[read..end], &mut out)?;
+            read += p.frames_read;
+        }
+        while conv.flush_interleaved(&mut out)? > 0 {}
+        std::hint::black_box(&out);
+        Ok(())
+    })?;
+    let r = design.report();
+    let designed = engine.design_stopband_db();
+    Ok(Row {
+        method: crate::convert::ANY_RATIO_ENGINE.into(),
+        phase: Some(match phase {
+            PhaseArg::Linear => "linear",
+            PhaseArg::Minimum => "minimum",
+        }),
+        requested_db: Some(db),
+        taps_per_phase: Some(r.taps_per_output),
+        rejection_db: m.rejection_db,
+        ripple_db: m.passband_ripple_db,
+        latency_ms: engine.latency().1,
+        measured_delay_ms: m.latency_ms,
+        speed_x_realtime: audio_s / secs,
+        table_bytes: Some(r.table_bytes_f32),
+        note: (m.rejection_db < db).then(|| {
+            format!(
+                "the table reaches {designed:.1} dB (prototype and interpolation error); the \
+                 sweep read its strongest component at {:.0} Hz",
+                m.worst.unwanted_hz
+            )
+        }),
+    })
+}
+
 /// Measure every row.
 pub fn rows(args: &TradeoffArgs) -> Result<Vec<Row>> {
-    let sweep = Sweep::new(args.in_rate)
-        .seconds(args.seconds)
-        .edge_probes(args.out_rate);
+    // Under a clock correction every row is measured between the whole rates a -> b
+    // closest to the true pair (ClockPpm::analysis_pair), as `verify` does; otherwise
+    // a -> b is the pair itself.
+    let (a, b, _) = args.clock_ppm.analysis_pair(args.in_rate, args.out_rate);
+    let sweep = Sweep::new(a).seconds(args.seconds).edge_probes(b);
     sweep.check().context("cannot make the sweep")?;
     let speed_n = (args.speed_seconds * f64::from(args.in_rate))
         .round()
@@ -135,12 +207,20 @@ pub fn rows(args: &TradeoffArgs) -> Result<Vec<Row>> {
         .iter()
         .flat_map(|&db| args.phases().into_iter().map(move |phase| (db, phase)));
     for (db, phase) in designs {
-        let design = FilterSpec::new(args.in_rate, args.out_rate)
+        let spec = FilterSpec::new(args.in_rate, args.out_rate)
             .stopband_db(db)
             .passband(args.passband)
-            .phase(phase.phase())
-            .design()
-            .with_context(|| format!("cannot design for {db} dB"))?;
+            .phase(phase.phase());
+        let design = match Chosen::new(&spec, args.clock_ppm)
+            .with_context(|| format!("cannot design for {db} dB"))?
+            .measured_between(a, b)
+        {
+            Chosen::Fixed(d) => d,
+            glide => {
+                rows.push(glide_row(&glide, &sweep, b, db, phase, &x, audio_s)?);
+                continue;
+            }
+        };
         let settings = Settings {
             passband_edge_hz: Some(design.report().passband_edge_hz),
             keep_spectrogram: false,
@@ -177,27 +257,27 @@ pub fn rows(args: &TradeoffArgs) -> Result<Vec<Row>> {
         });
     }
     if !args.no_baselines {
+        let out_b = b;
         let settings = Settings::default();
         // Timed in f32 like the designs, into a buffer made once, as an engine would run.
         let x32: Vec<f32> = x.iter().map(|&v| v as f32).collect();
-        let pair = resample_core::RatePair::new(args.in_rate, args.out_rate)?;
+        let pair = resample_core::RatePair::new(a, b)?;
         let mut y32 = vec![0.0_f32; pair.output_len(x32.len() as u64) as usize];
         let mut scratch = Vec::new();
         for b in Baseline::ALL {
             let mut failure = None;
-            let m = measure::measure_converter(&sweep, args.out_rate, &settings, |s| {
-                b.convert(args.in_rate, args.out_rate, s)
-                    .unwrap_or_else(|e| {
-                        failure = Some(e);
-                        Vec::new()
-                    })
+            let m = measure::measure_converter(&sweep, out_b, &settings, |s| {
+                b.convert(a, out_b, s).unwrap_or_else(|e| {
+                    failure = Some(e);
+                    Vec::new()
+                })
             });
             if let Some(e) = failure {
                 bail!("{}: {e}", b.name());
             }
             let m = m.with_context(|| format!("cannot measure {}", b.name()))?;
             let secs = best_of_three(|| {
-                b.convert_into(args.in_rate, args.out_rate, &x32, &mut y32, &mut scratch)?;
+                b.convert_into(a, out_b, &x32, &mut y32, &mut scratch)?;
                 std::hint::black_box(&y32);
                 Ok(())
             })?;
@@ -209,7 +289,7 @@ pub fn rows(args: &TradeoffArgs) -> Result<Vec<Row>> {
                 rejection_db: m.rejection_db,
                 ripple_db: m.passband_ripple_db,
                 latency_ms: if b == Baseline::Linear {
-                    1e3 / f64::from(args.in_rate)
+                    1e3 / f64::from(a)
                 } else {
                     0.0
                 },
@@ -246,6 +326,7 @@ pub fn run(args: &TradeoffArgs) -> Result<Status> {
             in_rate: args.in_rate,
             out_rate: args.out_rate,
             sweep_seconds: args.seconds,
+            clock_ppm: (!args.clock_ppm.is_zero()).then(|| args.clock_ppm.ppm()),
             speed: "one thread (CPU time where the system reports it), mono, f32, multiple of real time",
             rows: rows.iter().map(row_json).collect(),
         };
@@ -304,6 +385,14 @@ fn table_text(rows: &[Row], args: &TradeoffArgs) -> String {
         "tradeoff {} Hz -> {} Hz: quality measured by a {} s sweep; speed of one thread on {} s of mono audio\n",
         args.in_rate, args.out_rate, args.seconds, args.speed_seconds
     );
+    if !args.clock_ppm.is_zero() {
+        let (a, b, d) = args.clock_ppm.analysis_pair(args.in_rate, args.out_rate);
+        s.push_str(&format!(
+            "clock {} ppm: any-ratio engine, measured between {a} Hz and {b} Hz (ratio within {} ppm of the true pair's)\n",
+            args.clock_ppm,
+            crate::report::format::plain(1e6 * d.abs())
+        ));
+    }
     s.push_str(&format!(
         "{:<20} {:>7} {:>9} {:>6} {:>10} {:>11} {:>11} {:>9} {:>12} {:>10}\n",
         "method",

@@ -13,7 +13,7 @@ use crate::quality::{self, Precision};
 use crate::args::check_filter;
 use crate::args::verify::VerifyArgs;
 use crate::args::PhaseArg;
-use crate::convert::run_engine;
+use crate::convert::Chosen;
 use crate::exit::Status;
 use crate::report::format::small_db;
 use crate::report::json;
@@ -37,23 +37,30 @@ pub fn run(args: &VerifyArgs) -> Result<Status> {
         .stopband_db(requested)
         .passband(args.passband)
         .phase(args.phase.phase());
-    let design = spec.design().context("cannot design the filter")?;
+    // The engine `convert` would run: fixed-ratio, or any-ratio for a clock correction or a
+    // pair over the fixed table's budget.
+    // Under a clock correction the sweep analyser (whole rates) measures between the whole
+    // rates a -> b closest to the true pair, the engine running at b / a exactly
+    // (ClockPpm::analysis_pair; the difference from the asked ratio is reported).
+    let clock = args.clock_ppm;
+    let (a, b, mismatch) = clock.analysis_pair(args.in_rate, args.out_rate);
+    let engine = Chosen::new(&spec, clock)
+        .context("cannot design the filter")?
+        .measured_between(a, b);
     // The same rule `convert` follows (resample_cli::quality).
     let precision = quality::precision_for(requested);
-    let sweep = Sweep::new(args.in_rate)
-        .seconds(args.seconds)
-        .edge_probes(args.out_rate);
+    let sweep = Sweep::new(a).seconds(args.seconds).edge_probes(b);
     sweep.check().context("cannot make the sweep")?;
     let settings = Settings {
-        passband_edge_hz: Some(design.report().passband_edge_hz),
+        passband_edge_hz: Some(engine.passband_edge_hz()),
         keep_spectrogram: args.report.plot.is_some()
             && args.report.plot_view == crate::args::PlotViewArg::Spectrogram,
     };
     let mut engine_error = None;
-    let m = measure::measure_converter(&sweep, args.out_rate, &settings, |x| {
+    let m = measure::measure_converter(&sweep, b, &settings, |x| {
         let r = match precision {
-            Precision::F32 => run_engine::<f32>(&design, x),
-            Precision::F64 => run_engine::<f64>(&design, x),
+            Precision::F32 => engine.run::<f32>(x),
+            Precision::F64 => engine.run::<f64>(x),
         };
         r.unwrap_or_else(|e| {
             engine_error = Some(e);
@@ -82,16 +89,21 @@ pub fn run(args: &VerifyArgs) -> Result<Status> {
             args.report.force,
         )?;
     }
-    let r = design.report();
+    let (latency_samples, latency_ms) = engine.latency();
+    let minimum = match (&engine, args.phase) {
+        (Chosen::Fixed(d), PhaseArg::Minimum) => Some(d.report()),
+        _ => None,
+    };
+    let clocked = !clock.is_zero();
     let mut out = std::io::stdout().lock();
     if args.report.json {
         let record = json::Verify {
             metrics: json::Metrics::new(&m),
             requested_stopband_db: requested,
             ripple_limit_db: ripple_limit,
-            design_stopband_db: r.measured_stopband_db,
-            design_latency_samples: r.latency_output_frames,
-            minimum: (args.phase == PhaseArg::Minimum).then_some(json::VerifyMinimumPhase {
+            design_stopband_db: engine.design_stopband_db(),
+            design_latency_samples: latency_samples,
+            minimum: minimum.map(|r| json::VerifyMinimumPhase {
                 phase: "minimum",
                 design_group_delay_1khz_ms: r.group_delay_1khz_ms,
                 design_group_delay_variation_ms: r.group_delay_variation_ms,
@@ -99,6 +111,12 @@ pub fn run(args: &VerifyArgs) -> Result<Status> {
             precision: precision.to_string(),
             sweep_seconds: args.seconds,
             pass,
+            engine: engine.name(),
+            engine_reason: engine.reason(),
+            clock_ppm: clocked.then(|| clock.ppm()),
+            measured_in_rate: clocked.then_some(a),
+            measured_out_rate: clocked.then_some(b),
+            ratio_difference_ppm: clocked.then_some(1e6 * mismatch),
         };
         writeln!(out, "{}", json::line(&record))?;
     } else {
@@ -114,13 +132,27 @@ pub fn run(args: &VerifyArgs) -> Result<Status> {
             sweep.level(),
             precision
         )?;
+        if let Some(why) = engine.reason() {
+            writeln!(out, "{:<22}{} engine: {why}", "", engine.name())?;
+        }
+        if clocked {
+            writeln!(
+                out,
+                "{:<22}clock {clock} ppm: true pair {} Hz -> {} Hz, measured between {a} Hz \
+                 and {b} Hz (ratio within {} ppm of it)",
+                "",
+                crate::report::format::plain(clock.true_rate(args.in_rate)),
+                args.out_rate,
+                crate::report::format::plain(1e6 * mismatch.abs()),
+            )?;
+        }
         write!(out, "{}", metrics_text(&m))?;
         writeln!(
             out,
             "{:<22}{:.2} output samples ({:.3} ms) of filter delay in a live stream (design)",
-            "", r.latency_output_frames, r.latency_ms
+            "", latency_samples, latency_ms
         )?;
-        if args.phase == PhaseArg::Minimum {
+        if let Some(r) = minimum {
             writeln!(
                 out,
                 "{:<22}minimum phase: group delay {:.3} ms at 1 kHz, varies by {:.3} ms over \

@@ -4,7 +4,7 @@
 use std::collections::HashMap;
 use std::sync::{Arc, Mutex};
 
-use resample_core::{Design, FilterSpec, Phase};
+use resample_core::{Design, FilterSpec, GlideDesign, Phase};
 
 type Key = (u32, u32, u64, u64, Phase);
 
@@ -12,6 +12,8 @@ type Key = (u32, u32, u64, u64, Phase);
 #[derive(Debug, Default)]
 pub struct DesignCache {
     map: Mutex<HashMap<Key, Arc<Design>>>,
+    /// Tables of the any-ratio engine (clock correction, pairs over the table budget).
+    glides: Mutex<HashMap<Key, Arc<GlideDesign>>>,
 }
 
 impl DesignCache {
@@ -51,6 +53,40 @@ impl DesignCache {
                 .passband(passband)
                 .phase(phase)
                 .design()?,
+        );
+        map.insert(key, Arc::clone(&d));
+        Ok(d)
+    }
+
+    /// The any-ratio engine's table for these parameters (designed now if not seen before).
+    pub fn glide(
+        &self,
+        in_rate: u32,
+        out_rate: u32,
+        stopband_db: f64,
+        passband: f64,
+        phase: Phase,
+    ) -> Result<Arc<GlideDesign>, resample_core::Error> {
+        let key = (
+            in_rate,
+            out_rate,
+            stopband_db.to_bits(),
+            passband.to_bits(),
+            phase,
+        );
+        let mut map = match self.glides.lock() {
+            Ok(g) => g,
+            Err(p) => p.into_inner(),
+        };
+        if let Some(d) = map.get(&key) {
+            return Ok(Arc::clone(d));
+        }
+        let d = Arc::new(
+            FilterSpec::new(in_rate, out_rate)
+                .stopband_db(stopband_db)
+                .passband(passband)
+                .phase(phase)
+                .design_glide()?,
         );
         map.insert(key, Arc::clone(&d));
         Ok(d)

@@ -2,6 +2,7 @@
 //! not grow with the file's length), in the precision and with the stopband that follow
 //! the output format ([`crate::quality`]).
 
+mod anyratio;
 mod cache;
 mod memory;
 mod pipeline;
@@ -14,8 +15,9 @@ use std::time::Instant;
 use resample_core::{Design, Phase, Sample, StreamConverter};
 
 pub use crate::report::file::{FileReport, Overs};
+pub use anyratio::{AnyRatioRun, Chosen, Why, ANY_RATIO_ENGINE, FIXED_ENGINE};
 pub use cache::DesignCache;
-pub use memory::run_engine;
+pub use memory::{run_engine, run_glide};
 
 use crate::audio::wav::metadata::carry;
 use crate::audio::wav::{
@@ -59,6 +61,8 @@ pub struct Settings {
     pub pipeline: bool,
     /// What to do with the input's metadata chunks.
     pub metadata: MetadataPolicy,
+    /// Clock correction of the input (`--clock-ppm`): non-zero runs the any-ratio engine.
+    pub clock: crate::clock::ClockPpm,
 }
 
 impl Settings {
@@ -78,6 +82,7 @@ impl Settings {
             refuse_clipping: false,
             pipeline: true,
             metadata: MetadataPolicy::Carry,
+            clock: crate::clock::ClockPpm::ZERO,
         }
     }
 }
@@ -193,6 +198,11 @@ fn convert_input(
     let stopband = settings
         .stopband_db
         .unwrap_or_else(|| default_stopband_db(encoding));
+    // A clock correction, or a pair whose fixed table is over the budget: the any-ratio
+    // engine (its own module); everything else below is the fixed engine.
+    if let Some(why) = anyratio::route(info.sample_rate, settings, stopband, designs) {
+        return anyratio::convert_input(reader, input, output, settings, designs, why, ctl, start);
+    }
     let precision = precision_for(stopband);
     // The metadata before the audio, rescaled for the output rate.
     let retiming = Retiming {
@@ -202,6 +212,7 @@ fn convert_input(
         out_block_align: info.channels.saturating_mul(encoding.bytes()),
         out_bits: encoding.bits(),
         coding_history: coding_history_line(&info, settings.out_rate, encoding, stopband),
+        clock: crate::clock::ClockPpm::ZERO,
     };
     let mut cues = std::collections::HashMap::new();
     let (before, mut metadata) = carry(
@@ -309,6 +320,7 @@ fn convert_input(
         levels,
         metadata,
         warnings: header_warning.into_iter().collect(),
+        any_ratio: None,
     };
     Ok((report, bytes))
 }

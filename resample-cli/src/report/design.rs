@@ -2,7 +2,7 @@
 //! design adds its phase, its group delay at 1 kHz and the passband group-delay variation
 //! (a linear-phase report is unchanged: its group delay is the latency, flat).
 
-use resample_core::{DesignReport, Phase};
+use resample_core::{DesignReport, GlideReport, Phase};
 
 use super::format::{fmt_db, fmt_ripple};
 
@@ -63,6 +63,153 @@ pub fn report_text(r: &DesignReport, phase: Phase) -> String {
             ),
         );
     }
+    line(
+        "table memory",
+        format!(
+            "{} bytes (f32), {} bytes (f64)",
+            r.table_bytes_f32, r.table_bytes_f64
+        ),
+    );
+    s
+}
+
+/// What the any-ratio design report states besides the table: the pair, the clock
+/// correction, why this engine, and the figures that follow from the ratio.
+#[derive(Debug, Clone)]
+pub struct GlideContext {
+    /// Header input rate, Hz.
+    pub in_rate: u32,
+    /// Output rate, Hz.
+    pub out_rate: u32,
+    /// Clock correction, ppm.
+    pub clock_ppm: f64,
+    /// The correction as given ("+500").
+    pub clock_text: String,
+    /// True input rate, Hz.
+    pub true_in_rate: f64,
+    /// Output rate / true input rate.
+    pub ratio: f64,
+    /// Why the any-ratio engine, in words.
+    pub why: String,
+}
+
+impl GlideContext {
+    /// Delay in input frames at this ratio (stretched by 1 / ratio below 1).
+    fn delay_in(&self, r: &GlideReport) -> f64 {
+        r.delay_input_frames / self.ratio.min(1.0)
+    }
+
+    /// Lower Nyquist frequency of the true pair, Hz.
+    fn lower_nyquist(&self) -> f64 {
+        self.true_in_rate.min(f64::from(self.out_rate)) / 2.0
+    }
+}
+
+/// The any-ratio design report as one line of JSON.
+pub fn glide_json(r: &GlideReport, c: &GlideContext) -> String {
+    let delay_in = c.delay_in(r);
+    super::json::line(&super::json::GlideDesignRecord {
+        engine: crate::convert::ANY_RATIO_ENGINE,
+        engine_reason: c.why.clone(),
+        in_rate: c.in_rate,
+        out_rate: c.out_rate,
+        clock_ppm: c.clock_ppm,
+        true_in_rate_hz: c.true_in_rate,
+        ratio: c.ratio,
+        phases: r.phases,
+        interpolation: r.interpolation.name(),
+        interpolation_order: r.interpolation.order(),
+        taps_per_output: r.taps_per_output,
+        prototype_taps: r.prototype_taps,
+        beta: r.beta,
+        passband_edge_hz: r.passband_fraction * c.lower_nyquist(),
+        stopband_edge_hz: c.lower_nyquist(),
+        requested_stopband_db: r.requested_stopband_db,
+        kernel_stopband_db: r.kernel_stopband_db,
+        interpolation_error_db: r.interpolation_error_db,
+        linear_error_db: r.linear_error_db,
+        error_positions: r.error_positions,
+        passband_ripple_db: r.passband_ripple_db,
+        latency_input_samples: delay_in,
+        latency_output_samples: delay_in * c.ratio,
+        latency_ms: 1000.0 * delay_in / c.true_in_rate,
+        table_bytes_f32: r.table_bytes_f32,
+        table_bytes_f64: r.table_bytes_f64,
+    })
+}
+
+/// The any-ratio design report as aligned text.
+pub fn glide_text(r: &GlideReport, c: &GlideContext) -> String {
+    let mut s = String::new();
+    let mut line = |k: &str, v: String| s.push_str(&format!("{k:<22}{v}\n"));
+    line("rates", format!("{} Hz -> {} Hz", c.in_rate, c.out_rate));
+    line(
+        "engine",
+        format!("{} ({})", crate::convert::ANY_RATIO_ENGINE, c.why),
+    );
+    line(
+        "true input rate",
+        format!(
+            "{} Hz (clock {} ppm), ratio {:.9}",
+            super::format::plain(c.true_in_rate),
+            c.clock_text,
+            c.ratio
+        ),
+    );
+    line(
+        "table",
+        format!(
+            "{} phases per input sample, {} interpolation (order {})",
+            r.phases,
+            r.interpolation.name(),
+            r.interpolation.order()
+        ),
+    );
+    line(
+        "taps",
+        format!(
+            "{} per output at ratio >= 1 (stretched by 1/ratio below), prototype {}",
+            r.taps_per_output, r.prototype_taps
+        ),
+    );
+    line("Kaiser beta", format!("{:.4}", r.beta));
+    let nyq = c.lower_nyquist();
+    line(
+        "passband edge",
+        format!(
+            "{:.1} Hz (ripple {} dB p-p, measured)",
+            r.passband_fraction * nyq,
+            fmt_ripple(r.passband_ripple_db)
+        ),
+    );
+    line("stopband edge", format!("{nyq:.1} Hz"));
+    line(
+        "stopband",
+        format!(
+            "{} dB measured (prototype), {} dB requested",
+            fmt_db(r.kernel_stopband_db),
+            fmt_db(r.requested_stopband_db)
+        ),
+    );
+    line(
+        "interpolation error",
+        format!(
+            "{} dB measured at {} positions between phases (linear would give {} dB)",
+            fmt_db(r.interpolation_error_db),
+            r.error_positions,
+            fmt_db(r.linear_error_db)
+        ),
+    );
+    let delay_in = c.delay_in(r);
+    line(
+        "latency",
+        format!(
+            "{:.2} input samples, {:.2} output samples, {:.3} ms (compensated in convert)",
+            delay_in,
+            delay_in * c.ratio,
+            1000.0 * delay_in / c.true_in_rate
+        ),
+    );
     line(
         "table memory",
         format!(

@@ -57,6 +57,9 @@ pub struct FileReport {
     /// Problems with the input that were worked around (a header whose sizes were never
     /// completed), for stderr and the JSON.
     pub warnings: Vec<String>,
+    /// The any-ratio engine's run (clock correction, or a pair over the fixed table's
+    /// budget); `None` when the fixed-ratio engine ran.
+    pub any_ratio: Option<crate::convert::AnyRatioRun>,
 }
 
 impl FileReport {
@@ -144,6 +147,19 @@ impl FileReport {
             self.input.display(),
             self.output.display()
         );
+        if let Some(a) = &self.any_ratio {
+            text.push_str(&format!(
+                "\n  {} engine: {}; true input rate {} Hz, ratio {:.9}; {} phases, {} \
+                 interpolation ({} dB error)",
+                crate::convert::ANY_RATIO_ENGINE,
+                a.why.words(),
+                crate::report::format::plain(a.true_in_rate),
+                a.ratio,
+                a.phases,
+                a.interpolation,
+                fmt_db(a.interpolation_error_db),
+            ));
+        }
         let m = &self.metadata;
         for (what, list) in [
             ("metadata carried", &m.carried),
@@ -225,6 +241,14 @@ impl FileReport {
                 dropped: self.metadata.dropped.clone(),
             },
             warnings: self.warnings.clone(),
+            engine: match &self.any_ratio {
+                Some(_) => crate::convert::ANY_RATIO_ENGINE,
+                None => crate::convert::FIXED_ENGINE,
+            },
+            engine_reason: self.any_ratio.as_ref().map(|a| a.why.words()),
+            clock_ppm: self.any_ratio.as_ref().map(|a| a.why.clock().ppm()),
+            true_in_rate_hz: self.any_ratio.as_ref().map(|a| a.true_in_rate),
+            interpolation_error_db: self.any_ratio.as_ref().map(|a| a.interpolation_error_db),
         })
     }
 }

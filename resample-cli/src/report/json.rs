@@ -79,6 +79,21 @@ pub struct Converted {
     pub metadata: MetadataRecord,
     /// Problems with the input that were worked around (a header never completed).
     pub warnings: Vec<String>,
+    /// The engine that ran: "fixed-ratio" or "any-ratio".
+    pub engine: &'static str,
+    /// Why the any-ratio engine ran, in words (absent for the fixed-ratio engine).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub engine_reason: Option<String>,
+    /// Clock correction applied, ppm (absent for the fixed-ratio engine; 0 for a pair over
+    /// the fixed table's budget).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub clock_ppm: Option<f64>,
+    /// The input's true rate, Hz (any-ratio engine).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub true_in_rate_hz: Option<f64>,
+    /// Measured error of the any-ratio engine's interpolated taps, dB.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub interpolation_error_db: Option<f64>,
 }
 
 /// What became of a converted file's metadata chunks.
@@ -191,6 +206,64 @@ pub struct Design {
     /// The minimum-phase figures, for a minimum-phase design.
     #[serde(flatten)]
     pub minimum: Option<MinimumPhase>,
+}
+
+/// An any-ratio design (`design --json` with `--clock-ppm`, or for a pair over the fixed
+/// table's budget).
+#[derive(Debug, Serialize)]
+pub struct GlideDesignRecord {
+    /// Always "any-ratio".
+    pub engine: &'static str,
+    /// Why the any-ratio engine, in words.
+    pub engine_reason: String,
+    /// Header input rate, Hz.
+    pub in_rate: u32,
+    /// Output rate, Hz.
+    pub out_rate: u32,
+    /// Clock correction, ppm.
+    pub clock_ppm: f64,
+    /// True input rate, Hz.
+    pub true_in_rate_hz: f64,
+    /// Output rate / true input rate.
+    pub ratio: f64,
+    /// Phases per input sample of the table.
+    pub phases: u64,
+    /// "linear" or "cubic".
+    pub interpolation: &'static str,
+    /// Polynomial order of the interpolation.
+    pub interpolation_order: usize,
+    /// Taps per output at a ratio of 1 or more.
+    pub taps_per_output: usize,
+    /// Prototype taps.
+    pub prototype_taps: usize,
+    /// Kaiser beta.
+    pub beta: f64,
+    /// Passband edge, Hz.
+    pub passband_edge_hz: f64,
+    /// Stopband edge, Hz.
+    pub stopband_edge_hz: f64,
+    /// Stopband asked for, dB.
+    pub requested_stopband_db: f64,
+    /// Stopband measured on the prototype, dB.
+    pub kernel_stopband_db: f64,
+    /// Measured error of the interpolated taps, dB.
+    pub interpolation_error_db: f64,
+    /// The same for linear interpolation of the table, dB.
+    pub linear_error_db: f64,
+    /// Positions the error was measured at.
+    pub error_positions: usize,
+    /// Passband ripple, dB peak to peak.
+    pub passband_ripple_db: f64,
+    /// Latency, input samples.
+    pub latency_input_samples: f64,
+    /// Latency, output samples.
+    pub latency_output_samples: f64,
+    /// Latency, ms.
+    pub latency_ms: f64,
+    /// Table bytes in f32.
+    pub table_bytes_f32: u64,
+    /// Table bytes in f64.
+    pub table_bytes_f64: u64,
 }
 
 /// The figures of a minimum-phase design.
@@ -317,6 +390,24 @@ pub struct Verify {
     pub sweep_seconds: f64,
     /// The verdict.
     pub pass: bool,
+    /// The engine measured: "fixed-ratio" or "any-ratio".
+    pub engine: &'static str,
+    /// Why the any-ratio engine, in words.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub engine_reason: Option<String>,
+    /// Clock correction measured, ppm.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub clock_ppm: Option<f64>,
+    /// Under a clock correction: the whole input rate the sweep was made at (near the true
+    /// rate), Hz.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub measured_in_rate: Option<u32>,
+    /// The whole output rate it was measured at, Hz.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub measured_out_rate: Option<u32>,
+    /// Relative difference of the measured ratio from the exact one, ppm.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub ratio_difference_ppm: Option<f64>,
 }
 
 /// The minimum-phase figures `verify` adds.
@@ -357,6 +448,9 @@ pub struct Tradeoff<'a> {
     pub out_rate: u32,
     /// Sweep length, s.
     pub sweep_seconds: f64,
+    /// Clock correction measured (the any-ratio engine), ppm.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub clock_ppm: Option<f64>,
     /// How speed is measured, in words.
     pub speed: &'static str,
     /// One row per method.

@@ -123,10 +123,15 @@ fn bad_requests_fail_cleanly() {
         .unwrap();
     assert_eq!(out.status.code(), Some(2));
     // An out-of-range attenuation is a usage error (2), as every bad option value is in every
-    // command; an impossible table means the work cannot be done (3). One line each.
+    // command; exporting taps of a pair whose fixed table would pass the budget (it is
+    // designed for the any-ratio engine, which has no fixed prototype to export) too. One
+    // line each.
+    let dir = tempfile::tempdir().unwrap();
+    let taps = dir.path().join("taps.txt");
+    let taps = taps.to_str().unwrap();
     for (args, code) in [
         (
-            [
+            vec![
                 "--in-rate",
                 "44.1k",
                 "--out-rate",
@@ -137,21 +142,32 @@ fn bad_requests_fail_cleanly() {
             2,
         ),
         (
-            [
+            vec![
                 "--in-rate",
                 "44100",
                 "--out-rate",
                 "48001",
                 "--stopband-db",
                 "140",
+                "--export",
+                taps,
             ],
-            3,
+            2,
         ),
     ] {
-        let out = command().arg("design").args(args).output().unwrap();
+        let out = command().arg("design").args(&args).output().unwrap();
         assert_eq!(out.status.code(), Some(code), "{args:?}");
         let err = String::from_utf8_lossy(&out.stderr);
         assert_eq!(err.trim().lines().count(), 1, "{err}");
         assert!(!err.contains("panicked"));
+        assert!(!std::path::Path::new(taps).exists());
     }
+    // The pair itself is no longer refused: its table is the any-ratio engine's.
+    let out = command()
+        .args(["design", "--in-rate", "44100", "--out-rate", "48001"])
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(0));
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(text.contains("any-ratio"), "{text}");
 }

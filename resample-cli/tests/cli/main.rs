@@ -3,6 +3,7 @@
 
 mod bad_input;
 mod batches;
+mod clock;
 mod conformance;
 mod design_cli;
 mod first_use;

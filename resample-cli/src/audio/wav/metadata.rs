@@ -5,7 +5,10 @@
 //! **Rescaling.** A position `p` counted at the input rate `fs` becomes the nearest integer
 //! to `p x R / fs` at the output rate `R`, computed exactly in 128-bit integers:
 //! `(2 p R + fs) / (2 fs)`, rounded down, i.e. halves rounded up (positions are never
-//! negative, so this is also "half away from zero"). A value that no longer fits its field
+//! negative, so this is also "half away from zero"). Under a clock correction
+//! (`--clock-ppm P`) the input's true rate `fs x (1 + P x 1e-6)` takes the place of `fs`,
+//! still exactly (every position, the 'bext' time reference included, is counted in
+//! samples of the input's own clock). A value that no longer fits its field
 //! (a 32-bit position past 2^32 after upsampling) drops the chunk, named in the report.
 //!
 //! What is done with each chunk (layouts as the specifications give them, offsets in bytes;
@@ -40,6 +43,7 @@
 //! - Anything else is unknown: it may hold positions that cannot be rescaled, so it is
 //!   dropped and named, unless [`MetadataPolicy::KeepUnknown`] copies it verbatim.
 
+use crate::clock::ClockPpm;
 use std::collections::HashMap;
 
 /// Largest metadata chunk read, bytes: larger known chunks are a [`super::WavError`];
@@ -98,6 +102,26 @@ pub struct Retiming {
     pub out_bits: u16,
     /// The CodingHistory line appended to 'bext', without its CR LF.
     pub coding_history: String,
+    /// Clock correction of the input (`--clock-ppm`): positions move by
+    /// `out_rate / (in_rate x (1 + ppm x 1e-6))`, the true ratio; zero for none.
+    pub clock: ClockPpm,
+}
+
+impl Retiming {
+    /// A position of the input (at `from` Hz on the input's clock) moved to the output's
+    /// rate: [`rescale`] by the rates, or by the true ratio under a clock correction.
+    fn moved(&self, pos: u64, from: u32) -> u128 {
+        if self.clock.is_zero() {
+            rescale(pos, from, self.out_rate)
+        } else {
+            self.clock.rescale(pos, from, self.out_rate)
+        }
+    }
+
+    /// A position at the input rate moved to the output's rate.
+    fn position(&self, pos: u64) -> u128 {
+        self.moved(pos, self.in_rate)
+    }
 }
 
 /// What became of the input's metadata.
@@ -262,8 +286,7 @@ fn put_u32(b: &mut [u8], i: usize, v: u32) {
 
 /// `rescale` into a 32-bit field, or the reason the chunk is dropped.
 fn rescale_u32(pos: u64, t: &Retiming, what: &str) -> Result<u32, String> {
-    u32::try_from(rescale(pos, t.in_rate, t.out_rate))
-        .map_err(|_| format!("{what} {pos} rescaled is past 32 bits"))
+    u32::try_from(t.position(pos)).map_err(|_| format!("{what} {pos} rescaled is past 32 bits"))
 }
 
 /// Bytes of the fixed part of 'bext', before CodingHistory (EBU Tech 3285).
@@ -279,7 +302,7 @@ fn bext(body: &[u8], t: &Retiming) -> Result<(Vec<u8>, String), String> {
     let lo = u32_at(body, 338).unwrap_or(0);
     let hi = u32_at(body, 342).unwrap_or(0);
     let tr = u64::from(lo) | (u64::from(hi) << 32);
-    let new = u64::try_from(rescale(tr, t.in_rate, t.out_rate))
+    let new = u64::try_from(t.position(tr))
         .map_err(|_| format!("time reference {tr} rescaled is past 64 bits"))?;
     let mut out = body[..BEXT_FIXED].to_vec();
     put_u32(&mut out, 338, new as u32);
@@ -332,7 +355,7 @@ fn cue(body: &[u8], t: &Retiming) -> Result<(Vec<u8>, String), String> {
         put_u32(&mut out, p + 4, rescale_u32(pos.into(), t, "cue position")?);
         let block = u32_at(body, p + 16).unwrap_or(0);
         if block != 0 && ia > 0 {
-            let frames = rescale(u64::from(block) / ia, t.in_rate, t.out_rate);
+            let frames = t.position(u64::from(block) / ia);
             let bytes = u32::try_from(frames * u128::from(oa))
                 .map_err(|_| format!("cue block start {block} rescaled is past 32 bits"))?;
             put_u32(&mut out, p + 16, bytes);
@@ -372,11 +395,8 @@ fn adtl(
             let cue = u32_at(&sub, 0).unwrap_or(0);
             let length = u64::from(u32_at(&sub, 4).unwrap_or(0));
             let new = match cues.get(&cue) {
-                Some(&start) => {
-                    rescale(start + length, t.in_rate, t.out_rate)
-                        - rescale(start, t.in_rate, t.out_rate)
-                }
-                None => rescale(length, t.in_rate, t.out_rate),
+                Some(&start) => t.position(start + length) - t.position(start),
+                None => t.position(length),
             };
             let new = u32::try_from(new)
                 .map_err(|_| format!("ltxt length {length} rescaled is past 32 bits"))?;
@@ -473,7 +493,7 @@ fn ixml(body: &[u8], t: &Retiming) -> (Vec<u8>, Option<String>) {
     let lo = xml_int(body, "TIMESTAMP_SAMPLES_SINCE_MIDNIGHT_LO");
     if let (Some((h, hr)), Some((l, lr))) = (hi, lo) {
         if h <= u64::from(u32::MAX) && l <= u64::from(u32::MAX) {
-            let new = rescale((h << 32) | l, from, t.out_rate);
+            let new = t.moved((h << 32) | l, from);
             if let Ok(new) = u64::try_from(new) {
                 edits.push((hr, (new >> 32).to_string()));
                 edits.push((lr, (new & 0xFFFF_FFFF).to_string()));
@@ -502,6 +522,7 @@ mod tests {
             out_block_align: 6,
             out_bits: 24,
             coding_history: "A=PCM,F=48000,W=24,M=stereo,T=test".into(),
+            clock: ClockPpm::ZERO,
         }
     }
 
