@@ -251,6 +251,33 @@ pub fn convert_plan_planar_with<T: Sample, I: AsRef<[T]> + Sync>(
     Ok(y)
 }
 
+/// Stage `stage` of a [`StagePlan`] alone over planar channels, by the engine the plan's
+/// conversion uses for it (the half-band engine for the half-band stage): for checking the
+/// stages one by one. `None` when the plan has no such stage.
+pub fn convert_stage_planar<T: Sample, I: AsRef<[T]> + Sync>(
+    plan: &StagePlan,
+    stage: usize,
+    input: &[I],
+) -> Option<Result<Vec<Vec<T>>>> {
+    let d = plan.stages().get(stage)?;
+    Some(if plan.half_band_stage() == Some(stage) {
+        let x: Vec<&[T]> = input.iter().map(AsRef::as_ref).collect();
+        if x.is_empty() || x.len() > crate::MAX_CHANNELS {
+            Err(Error::ChannelsOutOfRange { channels: x.len() })
+        } else if let Some(c) = x.iter().find(|c| c.len() != x[0].len()) {
+            Err(Error::BufferShape {
+                what: "planar input channel length",
+                expected: x[0].len(),
+                got: c.len(),
+            })
+        } else {
+            Ok(super::halfband::HalfBand::convert_whole(d, &x))
+        }
+    } else {
+        convert_planar(d, input)
+    })
+}
+
 /// One channel through a [`StagePlan`] (see [`convert_plan_planar`]).
 pub fn convert_plan<T: Sample>(plan: &StagePlan, input: &[T]) -> Vec<T> {
     match convert_plan_planar(plan, &[input]) {
