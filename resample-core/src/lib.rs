@@ -9,6 +9,9 @@
 //!   [`DesignReport`]; [`FilterSpec::with_taps`] checks and measures a prototype of your own;
 //!   [`FilterSpec::phase`] asks for linear phase (the default) or minimum phase ([`Phase`]).
 //! * [`StreamConverter`]: chunked, allocation-free, multichannel (planar or interleaved).
+//! * [`FilterSpec::plan`] → [`StagePlan`] → [`ChainConverter`]: for large ratios two stages
+//!   (a short 2:1 stage before the polyphase stage, or 1:2 after it) when the cost model
+//!   says they are cheaper; [`offline::convert_plan_planar`] for whole signals.
 //! * [`GlideDesign`] → [`GlideConverter`]: any real ratio, changed while it runs by a
 //!   linear glide, for drifting clocks (interpolated coefficient table); [`DriftFollower`]
 //!   steers that ratio from the fill of the FIFO between two clock domains.
@@ -170,11 +173,17 @@ mod table;
 #[cfg_attr(docsrs, doc(cfg(feature = "internals")))]
 pub mod internals;
 
-pub use engine::{offline, segments, DriftFollower, GlideConverter, Progress, StreamConverter};
+pub use engine::{
+    offline, segments, ChainConverter, DriftFollower, GlideConverter, Progress, StreamConverter,
+};
 pub use error::{Error, Result};
 pub use filter::{
-    Design, DesignReport, FilterSpec, GlideDesign, GlideReport, Interpolation, Phase,
+    Design, DesignReport, FilterSpec, GlideDesign, GlideReport, Interpolation, Phase, StageChoice,
     GROUP_DELAY_REF_HZ,
+};
+pub use filter::{
+    StagePlan, HALF_BAND_OVERHEAD_TAPS, OUTPUT_OVERHEAD_TAPS, SHORT_STAGE_MARGIN_DB,
+    TWO_STAGE_MAX_COST_FRACTION,
 };
 pub use kernel::{Kernel, Sample};
 pub use limits::{MAX_CHANNELS, MAX_RATE};

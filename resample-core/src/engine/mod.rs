@@ -5,13 +5,16 @@
 //! the [`DriftFollower`] that steers its ratio between two clock domains.
 
 mod anyratio;
+mod chain;
 mod follower;
+mod halfband;
 pub mod offline;
 mod render;
 pub mod segments;
 mod stream;
 
 pub use anyratio::GlideConverter;
+pub use chain::ChainConverter;
 pub use follower::DriftFollower;
 pub use stream::{Progress, StreamConverter};
 

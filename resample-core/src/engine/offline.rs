@@ -6,7 +6,7 @@ use crate::par::*;
 use super::render::{reach, render, History};
 use crate::kernel::{Kernel, KernelFns, Sample};
 use crate::table::GroupTable;
-use crate::{Design, Error, Result};
+use crate::{Design, Error, Result, StagePlan};
 
 #[cfg(doc)]
 use crate::StreamConverter;
@@ -198,6 +198,92 @@ pub fn convert_interleaved_with<T: Sample>(
         }
     }
     Ok(inter)
+}
+
+/// Convert planar channels through every stage of a [`StagePlan`], one after the other
+/// over the whole signal, and keep exactly `ceil(n L / M)` frames of the overall pair
+/// (the last stage's tail may run one frame past it). Each stage compensates its own
+/// delay, so the output is aligned as a single stage's is; bit-identical to a
+/// [`crate::ChainConverter`] run over the whole signal with the same kernel.
+pub fn convert_plan_planar<T: Sample, I: AsRef<[T]> + Sync>(
+    plan: &StagePlan,
+    input: &[I],
+) -> Result<Vec<Vec<T>>> {
+    convert_plan_planar_with(plan, input, Kernel::detect())
+}
+
+/// [`convert_plan_planar`] with a chosen kernel.
+pub fn convert_plan_planar_with<T: Sample, I: AsRef<[T]> + Sync>(
+    plan: &StagePlan,
+    input: &[I],
+    kernel: Kernel,
+) -> Result<Vec<Vec<T>>> {
+    let channels = input.len();
+    if channels == 0 || channels > crate::MAX_CHANNELS {
+        return Err(Error::ChannelsOutOfRange { channels });
+    }
+    let n = input[0].as_ref().len();
+    if let Some(c) = input.iter().find(|c| c.as_ref().len() != n) {
+        return Err(Error::BufferShape {
+            what: "planar input channel length",
+            expected: n,
+            got: c.as_ref().len(),
+        });
+    }
+    let stage = |i: usize, x: &[&[T]]| -> Result<Vec<Vec<T>>> {
+        let d = &plan.stages()[i];
+        if plan.half_band_stage() == Some(i) {
+            Ok(super::halfband::HalfBand::convert_whole(d, x))
+        } else {
+            convert_planar_with(d, x, kernel)
+        }
+    };
+    let x: Vec<&[T]> = input.iter().map(AsRef::as_ref).collect();
+    let mut y = stage(0, &x)?;
+    for i in 1..plan.stages().len() {
+        let x: Vec<&[T]> = y.iter().map(Vec::as_slice).collect();
+        y = stage(i, &x)?;
+    }
+    let keep = plan.pair().output_len(n as u64) as usize;
+    for c in &mut y {
+        c.truncate(keep);
+    }
+    Ok(y)
+}
+
+/// Stage `stage` of a [`StagePlan`] alone over planar channels, by the engine the plan's
+/// conversion uses for it (the half-band engine for the half-band stage): for checking the
+/// stages one by one. `None` when the plan has no such stage.
+pub fn convert_stage_planar<T: Sample, I: AsRef<[T]> + Sync>(
+    plan: &StagePlan,
+    stage: usize,
+    input: &[I],
+) -> Option<Result<Vec<Vec<T>>>> {
+    let d = plan.stages().get(stage)?;
+    Some(if plan.half_band_stage() == Some(stage) {
+        let x: Vec<&[T]> = input.iter().map(AsRef::as_ref).collect();
+        if x.is_empty() || x.len() > crate::MAX_CHANNELS {
+            Err(Error::ChannelsOutOfRange { channels: x.len() })
+        } else if let Some(c) = x.iter().find(|c| c.len() != x[0].len()) {
+            Err(Error::BufferShape {
+                what: "planar input channel length",
+                expected: x[0].len(),
+                got: c.len(),
+            })
+        } else {
+            Ok(super::halfband::HalfBand::convert_whole(d, &x))
+        }
+    } else {
+        convert_planar(d, input)
+    })
+}
+
+/// One channel through a [`StagePlan`] (see [`convert_plan_planar`]).
+pub fn convert_plan<T: Sample>(plan: &StagePlan, input: &[T]) -> Vec<T> {
+    match convert_plan_planar(plan, &[input]) {
+        Ok(mut v) => v.pop().unwrap_or_default(),
+        Err(_) => Vec::new(),
+    }
 }
 
 #[cfg(test)]

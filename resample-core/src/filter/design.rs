@@ -394,11 +394,53 @@ struct Candidate {
 }
 
 pub(super) fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> {
+    let nyq = pair.lower_nyquist();
+    design_kaiser_edges(pair, spec, spec.passband * nyq, nyq)
+}
+
+/// A half-band stage for a 2:1 or 1:2 pair: a Kaiser-windowed sinc cut off at a quarter of
+/// the prototype rate (band edges `f_pass` and half the prototype rate minus `f_pass`,
+/// symmetric about it), measured and lengthened like any design, then made exactly
+/// half-band: the taps at even distances from the centre set to zero (the sinc's zeros;
+/// computed they are about 1e-17), the sum brought back to 1 (unity DC gain), and measured
+/// again as they are.
+pub(super) fn design_half_band(pair: RatePair, spec: FilterSpec, f_pass: f64) -> Result<Design> {
+    let proto = f64::from(pair.in_rate()) * f64::from(pair.up());
+    let f_stop = 0.5 * proto - f_pass;
+    let mut d = design_kaiser_edges(pair, spec, f_pass, f_stop)?;
+    let c = d.delay as usize;
+    for (i, v) in d.taps.iter_mut().enumerate() {
+        if i != c && i.abs_diff(c) % 2 == 0 {
+            *v = 0.0;
+        }
+    }
+    let sum: f64 = d.taps.iter().sum();
+    for v in &mut d.taps {
+        *v /= sum;
+    }
+    let m = super::response::measure(&d.taps, f_pass / proto, f_stop / proto);
+    if m.stopband_db() < spec.stopband_db {
+        return Err(Error::DesignNotMet {
+            requested_db: spec.stopband_db,
+            best_db: m.stopband_db(),
+        });
+    }
+    d.report.measured_stopband_db = m.stopband_db();
+    d.report.passband_ripple_db = m.ripple_db();
+    Ok(d)
+}
+
+/// [`design_kaiser`] with the band edges given in Hz (the stopband edge may lie above the
+/// lower Nyquist frequency: a stage of a two-stage conversion protects only what the other
+/// stage keeps).
+pub(super) fn design_kaiser_edges(
+    pair: RatePair,
+    spec: FilterSpec,
+    f_pass: f64,
+    f_stop: f64,
+) -> Result<Design> {
     let up = u64::from(pair.up());
     let in_rate = f64::from(pair.in_rate());
-    let nyq = pair.lower_nyquist();
-    let f_pass = spec.passband * nyq;
-    let f_stop = nyq;
     let cutoff = 0.5 * (f_pass + f_stop) / in_rate; // fraction of the input rate
     let proto_rate = in_rate * up as f64;
     let width = (f_stop - f_pass) / (proto_rate / 2.0); // fraction of the prototype Nyquist

@@ -9,8 +9,13 @@ mod glide;
 pub mod minphase;
 pub mod response;
 mod spec;
+mod stages;
 pub mod window;
 
 pub use design::{Design, DesignReport, GROUP_DELAY_REF_HZ};
 pub use glide::{GlideDesign, GlideReport, Interpolation};
-pub use spec::{FilterSpec, Phase};
+pub use spec::{FilterSpec, Phase, StageChoice};
+pub use stages::{
+    StagePlan, HALF_BAND_OVERHEAD_TAPS, OUTPUT_OVERHEAD_TAPS, SHORT_STAGE_MARGIN_DB,
+    TWO_STAGE_MAX_COST_FRACTION,
+};

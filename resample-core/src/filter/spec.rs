@@ -37,6 +37,22 @@ pub struct FilterSpec {
     pub(crate) passband: f64,
     pub(crate) table_budget: u64,
     pub(crate) phase: Phase,
+    pub(crate) stages: StageChoice,
+}
+
+/// One stage or two for a conversion ([`FilterSpec::stage_choice`], read by
+/// [`FilterSpec::plan`]).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Default)]
+pub enum StageChoice {
+    /// Two stages where the cost model says they pay (see [`FilterSpec::plan`]); the
+    /// default.
+    #[default]
+    Auto,
+    /// Always one stage.
+    Single,
+    /// Two stages wherever the rate pair has a two-stage layout (a half-band stage fits),
+    /// whatever the cost model says: for measuring and testing them.
+    Two,
 }
 
 impl FilterSpec {
@@ -51,6 +67,7 @@ impl FilterSpec {
             passband: DEFAULT_PASSBAND,
             table_budget: DEFAULT_TABLE_BUDGET,
             phase: Phase::Linear,
+            stages: StageChoice::Auto,
         }
     }
 
@@ -87,6 +104,18 @@ impl FilterSpec {
     pub fn phase(mut self, phase: Phase) -> Self {
         self.phase = phase;
         self
+    }
+
+    /// One stage or two for [`FilterSpec::plan`] ([`StageChoice::Auto`] unless asked).
+    /// [`FilterSpec::design`] always designs one stage.
+    pub fn stage_choice(mut self, choice: StageChoice) -> Self {
+        self.stages = choice;
+        self
+    }
+
+    /// The stage choice asked for.
+    pub fn stage_choice_asked(&self) -> StageChoice {
+        self.stages
     }
 
     /// The phase response asked for.
