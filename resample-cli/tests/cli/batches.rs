@@ -33,15 +33,17 @@ fn json_lines(text: &str) -> Vec<serde_json::Value> {
 fn an_interrupted_batch_counts_files_never_started_apart_from_failures() {
     let dir = tempfile::tempdir().unwrap();
     let d = dir.path();
-    // One long file (20 s of 96 kHz stereo to 44.1 kHz at the 200 dB default of 32-bit
-    // output: a second or more of work on one thread) under twelve names (hard links).
+    // One long file (60 s of 96 kHz stereo to 44.1 kHz at the 200 dB default of 32-bit
+    // output: a few tenths of a second of work on one thread, so the interrupt sent after
+    // the first file's line lands while the second is under way even on a loaded machine)
+    // under twelve names (hard links).
     std::fs::create_dir(d.join("in")).unwrap();
     write_wav(
         &d.join("in/take00.wav"),
         96_000,
         2,
         Encoding::Int(32),
-        &signal(96_000 * 20, 2, 96_000),
+        &signal(96_000 * 60, 2, 96_000),
     );
     for k in 1..12 {
         std::fs::hard_link(
