@@ -173,7 +173,7 @@ pub mod internals;
 pub use engine::{offline, segments, DriftFollower, GlideConverter, Progress, StreamConverter};
 pub use error::{Error, Result};
 pub use filter::{
-    Design, DesignReport, FilterSpec, GlideDesign, GlideReport, Interpolation, Phase,
+    Design, DesignReport, FilterSpec, GlideBand, GlideDesign, GlideReport, Interpolation, Phase,
     GROUP_DELAY_REF_HZ,
 };
 pub use kernel::{Kernel, Sample};

@@ -16,8 +16,8 @@ use super::response::{group_delay, group_delay_range};
 use super::spec::{FilterSpec, Phase};
 use super::window::{bessel_i0, kaiser_beta, kaiser_length};
 use crate::limits::{
-    GLIDE_ERROR_MARGIN_DB, GLIDE_TABLE_LIMIT, MAX_GLIDE_PHASES, MAX_PASSBAND, MAX_STOPBAND_DB,
-    MIN_PASSBAND, MIN_STOPBAND_DB,
+    GLIDE_BAND, GLIDE_ERROR_MARGIN_DB, GLIDE_TABLE_LIMIT, MAX_GLIDE_PHASES, MAX_PASSBAND,
+    MAX_STOPBAND_DB, MIN_PASSBAND, MIN_STOPBAND_DB,
 };
 use crate::{Design, Error, Result};
 
@@ -133,6 +133,65 @@ pub struct GlideReport {
     /// Largest minus smallest group delay of the prototype over the passband at a ratio of
     /// 1 or more, input samples (0 for linear phase).
     pub group_delay_variation_input_frames: f64,
+    /// The table for a band of ratios below 1 around the starting ratio, read like the main
+    /// table at ratios of 1 or more (no stretching), if one was made.
+    pub band: Option<GlideBand>,
+}
+
+/// A table for a band of ratios below 1 ([`GlideReport::band`]): its prototype's stopband
+/// edge lies at the output Nyquist frequency of the band's lowest ratio (or a little under
+/// it) and its passband edge at the passband fraction of the highest ratio's, so that at
+/// any ratio of the band nothing folds back and the passband is the one asked for. Inside
+/// the band the converter reads it like the main table above ratio 1 (taps between two or
+/// four rows); outside, below 1, it stretches the main prototype as before.
+#[derive(Debug, Clone, PartialEq)]
+#[non_exhaustive]
+pub struct GlideBand {
+    /// Lowest ratio (output rate / input rate) the table serves.
+    pub lowest_ratio: f64,
+    /// Highest ratio it serves (ratios of 1 or more use the main table).
+    pub highest_ratio: f64,
+    /// The ratio `N / D` the prototype was designed for (the fixed design of the pair
+    /// `D -> N`): its stopband edge is this ratio's output Nyquist frequency.
+    pub design_ratio: f64,
+    /// Phases per input sample (N; not a power of two in general).
+    pub phases: u64,
+    /// Interpolation between phases.
+    pub interpolation: Interpolation,
+    /// Taps per output.
+    pub taps_per_output: usize,
+    /// Prototype length in taps.
+    pub prototype_taps: usize,
+    /// Stopband attenuation of the prototype, measured by the fixed design's search, dB.
+    pub kernel_stopband_db: f64,
+    /// Largest error of the interpolated taps, measured as for the main table, dB.
+    pub interpolation_error_db: f64,
+    /// Bytes of the table in `f32`.
+    pub table_bytes_f32: u64,
+    /// Bytes of the table in `f64`.
+    pub table_bytes_f64: u64,
+    /// Delay of the kernel, input samples (compensated as the main table's).
+    pub delay_input_frames: f64,
+}
+
+impl GlideBand {
+    /// Whether the band table serves `ratio`.
+    pub fn contains(&self, ratio: f64) -> bool {
+        ratio >= self.lowest_ratio && ratio <= self.highest_ratio && ratio < 1.0
+    }
+}
+
+/// The rows of a band table, as the converter reads them.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct BandRows {
+    pub(crate) rows: Vec<f64>,
+    pub(crate) cols: usize,
+    pub(crate) phases: usize,
+    pub(crate) half: usize,
+    pub(crate) len: usize,
+    pub(crate) interp: Interpolation,
+    pub(crate) lowest: f64,
+    pub(crate) highest: f64,
 }
 
 /// The any-ratio engine's filter: a Kaiser windowed-sinc prototype designed from a
@@ -165,6 +224,7 @@ pub struct GlideDesign {
     half: usize,
     len: usize,
     report: GlideReport,
+    band: Option<BandRows>,
 }
 
 /// A continuous windowed sinc in prototype-tap units (P per input sample), for measuring.
@@ -377,6 +437,11 @@ impl GlideDesign {
             let g = Self::from_design(spec, &design, phases, interp);
             let err = g.report.interpolation_error_db;
             if err <= limit {
+                let mut g = g;
+                // A drifting clock below ratio 1 (e.g. 48 kHz -> 44.1 kHz, or 48 kHz ->
+                // 48 kHz running slow) would otherwise stretch the kernel tap by tap.
+                let nominal = f64::from(spec.out_rate()) / f64::from(spec.in_rate());
+                g.add_band(nominal * (1.0 - GLIDE_BAND), nominal * (1.0 + GLIDE_BAND))?;
                 return Ok(g);
             }
             // A minimum-phase prototype carries a broadband floor under its stopband (the
@@ -448,7 +513,9 @@ impl GlideDesign {
             }
         }
         let rep = design.report();
-        let wc = 2.0 * rep.cutoff_hz / phases as f64;
+        // Cutoff in cycles per prototype tap (the design's input rate is 1 Hz for the main
+        // table, `D` for a band table's pair `D -> N`).
+        let wc = 2.0 * rep.cutoff_hz / (f64::from(design.pair().in_rate()) * phases as f64);
         let exact = Continuous {
             half: half as f64,
             beta: rep.beta,
@@ -497,6 +564,7 @@ impl GlideDesign {
             delay_input_frames: half as f64 / phases as f64,
             phase: design.spec().phase_response(),
             group_delay_variation_input_frames: gd_var / phases as f64,
+            band: None,
         };
         Self {
             spec: *spec,
@@ -506,7 +574,92 @@ impl GlideDesign {
             half,
             len,
             report,
+            band: None,
         }
+    }
+
+    /// Add a table for the ratios `lowest..=highest` (below 1 where it matters): the fixed
+    /// design of the pair `D -> N`, `N` from `P` to `2 P - 1` phases and `D` chosen so that
+    /// `N / D` is the largest such ratio not above `lowest` (its stopband edge), with the
+    /// passband fraction raised by `highest / (N / D)` so that the passband edge is the
+    /// requested fraction of the highest ratio's output Nyquist. No band is added (and no
+    /// error returned) when the raised passband passes [`MAX_PASSBAND`] or the table would
+    /// pass [`GLIDE_TABLE_LIMIT`] in `f64`.
+    fn add_band(&mut self, lowest: f64, highest: f64) -> Result<()> {
+        if !(lowest.is_finite() && highest.is_finite()) || lowest >= 1.0 || lowest <= 0.0 {
+            return Ok(());
+        }
+        let highest = highest.min(1.0).max(lowest);
+        let p = self.phases;
+        // Largest N / D <= lowest with N in P..2P and gcd(N, D) = 1.
+        let mut best: Option<(usize, usize)> = None;
+        for n in p..2 * p {
+            let d = (n as f64 / lowest).ceil() as usize;
+            if gcd(n, d) != 1 {
+                continue;
+            }
+            let better = match best {
+                None => true,
+                Some((bn, bd)) => n * bd > bn * d,
+            };
+            if better {
+                best = Some((n, d));
+            }
+        }
+        let Some((n, d)) = best else {
+            return Ok(());
+        };
+        let design_ratio = n as f64 / d as f64;
+        let passband = self.spec.passband * highest / design_ratio;
+        if passband > MAX_PASSBAND {
+            return Ok(());
+        }
+        let (Ok(din), Ok(nout)) = (u32::try_from(d), u32::try_from(n)) else {
+            return Ok(());
+        };
+        let design = FilterSpec::new(din, nout)
+            .stopband_db(self.spec.stopband_db)
+            .passband(passband)
+            .phase(self.spec.phase)
+            .table_budget_bytes(u64::MAX)
+            .design()?;
+        let interp = self.report.interpolation;
+        let t = Self::from_design(&self.spec, &design, n, interp);
+        if bytes(n, t.cols, 8) > GLIDE_TABLE_LIMIT
+            || t.report.interpolation_error_db > -(self.spec.stopband_db + GLIDE_ERROR_MARGIN_DB)
+        {
+            return Ok(());
+        }
+        self.report.band = Some(GlideBand {
+            lowest_ratio: lowest,
+            highest_ratio: highest,
+            design_ratio,
+            phases: n as u64,
+            interpolation: interp,
+            taps_per_output: t.cols,
+            prototype_taps: t.len,
+            kernel_stopband_db: t.report.kernel_stopband_db,
+            interpolation_error_db: t.report.interpolation_error_db,
+            table_bytes_f32: t.report.table_bytes_f32,
+            table_bytes_f64: t.report.table_bytes_f64,
+            delay_input_frames: t.report.delay_input_frames,
+        });
+        self.band = Some(BandRows {
+            rows: t.rows,
+            cols: t.cols,
+            phases: n,
+            half: t.half,
+            len: t.len,
+            interp,
+            lowest,
+            highest,
+        });
+        Ok(())
+    }
+
+    /// The band table, if any.
+    pub(crate) fn band(&self) -> Option<&BandRows> {
+        self.band.as_ref()
     }
 
     /// What was built and measured.
@@ -543,6 +696,13 @@ impl GlideDesign {
     pub(crate) fn len(&self) -> usize {
         self.len
     }
+}
+
+fn gcd(mut a: usize, mut b: usize) -> usize {
+    while b != 0 {
+        (a, b) = (b, a % b);
+    }
+    a
 }
 
 #[cfg(test)]
@@ -595,6 +755,34 @@ mod tests {
         let e256 = GlideDesign::from_design(&spec, &design(256), 256, Interpolation::Linear);
         let gain = e64.report.interpolation_error_db - e256.report.interpolation_error_db;
         assert!((20.0..28.0).contains(&gain), "{gain}");
+    }
+
+    #[test]
+    fn a_band_table_below_ratio_1_follows_the_edge_rule() {
+        for a in [100.0, 140.0] {
+            let g = FilterSpec::new(48_000, 44_100)
+                .stopband_db(a)
+                .design_glide()
+                .unwrap();
+            let b = g.report().band.clone().expect("a band below 1");
+            let nominal = 44_100.0 / 48_000.0;
+            assert_eq!(b.lowest_ratio, nominal * (1.0 - GLIDE_BAND));
+            assert_eq!(b.highest_ratio, nominal * (1.0 + GLIDE_BAND));
+            // Stopband edge at (or just under) the lowest ratio's output Nyquist.
+            assert!(b.design_ratio <= b.lowest_ratio, "{b:?}");
+            assert!(b.design_ratio > b.lowest_ratio * (1.0 - 1e-4), "{b:?}");
+            assert!(b.kernel_stopband_db >= a, "{b:?}");
+            assert!(
+                b.interpolation_error_db <= -(a + GLIDE_ERROR_MARGIN_DB),
+                "{b:?}"
+            );
+            assert!(b.table_bytes_f64 <= GLIDE_TABLE_LIMIT, "{b:?}");
+            let band = g.band().unwrap();
+            assert_eq!(band.rows.len(), (band.phases + 3) * band.cols);
+        }
+        // Above 1 by more than the band: none (the main table serves it).
+        let up = FilterSpec::new(44_100, 48_000).design_glide().unwrap();
+        assert!(up.report().band.is_none());
     }
 
     #[test]

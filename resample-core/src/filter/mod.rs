@@ -11,5 +11,5 @@ mod spec;
 pub mod window;
 
 pub use design::{Design, DesignReport, GROUP_DELAY_REF_HZ};
-pub use glide::{GlideDesign, GlideReport, Interpolation};
+pub use glide::{GlideBand, GlideDesign, GlideReport, Interpolation};
 pub use spec::{FilterSpec, Phase};
