@@ -81,6 +81,8 @@ struct Shape {
     half: f64,
     len: f64,
     interp: Interpolation,
+    /// `1 / phases`.
+    inv_phases: f64,
 }
 
 impl Shape {
@@ -92,8 +94,19 @@ impl Shape {
             let shift = self.phases.trailing_zeros();
             (q >> shift, (q as usize) & (self.phases - 1))
         } else {
+            // A band table's N: the quotient from a floating-point product, corrected by
+            // one step either way (q is far below 2^52), instead of an integer division.
             let p = self.phases as i64;
-            (q.div_euclid(p), q.rem_euclid(p) as usize)
+            let mut d = (q as f64 * self.inv_phases) as i64;
+            let mut r = q - d * p;
+            if r < 0 {
+                d -= 1;
+                r += p;
+            } else if r >= p {
+                d += 1;
+                r -= p;
+            }
+            (d, r as usize)
         }
     }
 
@@ -253,6 +266,7 @@ impl<T: Sample> GlideConverter<T> {
             half: design.half() as f64,
             len: design.len() as f64,
             interp: design.report().interpolation,
+            inv_phases: 1.0 / design.phases() as f64,
         };
         // The widest span, at the smallest ratio.
         let scale = MIN_GLIDE_RATIO * shape.phases as f64;
@@ -287,6 +301,7 @@ impl<T: Sample> GlideConverter<T> {
                 half: b.half as f64,
                 len: b.len as f64,
                 interp: b.interp,
+                inv_phases: 1.0 / b.phases as f64,
             };
             (Table::new(&b.rows, shape), b.lowest, b.highest)
         });
@@ -623,7 +638,12 @@ impl<T: Sample> GlideConverter<T> {
             if self.flushing && self.clock.int >= self.n_in as i64 {
                 break;
             }
-            let (lo, count) = self.span_at(&self.clock);
+            let ratio = self.clock.ratio();
+            let table = pick(&self.main, &self.band, ratio);
+            let (lo, count) = match table {
+                Some(t) => t.shape.rows_span(&self.clock),
+                None => self.shape.stretched_span(&self.clock),
+            };
             let end = lo + count as i64;
             if end > self.base + self.fill as i64 {
                 if !self.flushing {
@@ -645,7 +665,7 @@ impl<T: Sample> GlideConverter<T> {
                 continue;
             }
             let from = (lo - self.base) as usize;
-            if let Some(t) = pick(&self.main, &self.band, self.clock.ratio()) {
+            if let Some(t) = table {
                 // Taps between two or four rows: the rows' dot products with every
                 // channel, weighted (the kernels' blend), no taps written out.
                 let (r0, w) = rows_at(&t.shape, &self.clock);
@@ -795,6 +815,24 @@ fn planar_len(
 mod tests {
     use super::*;
     use crate::FilterSpec;
+
+    #[test]
+    fn phase_split_matches_integer_division() {
+        for phases in [64_usize, 212, 592, 1023] {
+            let sh = Shape {
+                phases,
+                cols: 1,
+                half: 0.0,
+                len: 1.0,
+                interp: Interpolation::Linear,
+                inv_phases: 1.0 / phases as f64,
+            };
+            let p = phases as i64;
+            for q in (0..200_000_i64).chain([p * 1_000_003 - 1, p * 1_000_003]) {
+                assert_eq!(sh.split(q), (q / p, (q % p) as usize), "{phases} {q}");
+            }
+        }
+    }
 
     #[test]
     fn clock_glide_ramps_the_increment() {

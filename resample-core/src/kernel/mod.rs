@@ -2,9 +2,11 @@
 //! SIMD versions for x86_64 (AVX2 + FMA, AVX-512F) and aarch64 (NEON), and the choice of
 //! kernel, made once when a converter is built and stored with it as function pointers.
 //!
-//! A kernel has two entry points for each sample type:
+//! A kernel has three entry points for each sample type:
 //!
-//! * a single dot product ([`DotFn`]), and
+//! * a single dot product ([`DotFn`]),
+//! * the any-ratio engine's *blend* ([`KernelFns::blend`]): the dot products of two or four
+//!   table rows with each channel's inputs, weighted by the interpolation between them, and
 //! * *groups*: consecutive groups of a [`crate::table::GroupTable`] (a vector of taps per
 //!   input sample, one lane per output) against several inputs ([`KernelFns::span`], the
 //!   converters' inner loop; [`KernelFns::groups`] for one group). Each input sample is
