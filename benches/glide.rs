@@ -1,73 +1,166 @@
 //! Cost per output frame of the any-ratio converter (`GlideConverter`) against the fixed
-//! engine (`StreamConverter`) at the same stopband, in the same run: stereo interleaved
-//! `f32`, blocks of 4096 input frames, 44.1 kHz -> 48 kHz (ratio above 1: taps from two or
-//! four table rows) and 48 kHz -> 44.1 kHz (ratio below 1: the stretched kernel, each tap
-//! at its own position), at 100 and 140 dB. The any-ratio converter runs at the fixed
-//! pair's exact ratio, so both make the same number of outputs; criterion's throughput is
-//! output frames per second. The input is demo material generated here.
+//! engine (`StreamConverter`) at the same stopband, in the same run: stereo interleaved,
+//! `f32` and `f64`, blocks of 4096 input frames, 44.1 kHz -> 48 kHz x (1 + 100 ppm) (ratio
+//! above 1: taps between two or four table rows) and 48 kHz -> 44.1 kHz x (1 - 250 ppm)
+//! (ratio below 1, a drifting clock: the table of the nominal ratio's band), at 100 and
+//! 140 dB. The fixed engine runs the nominal pair (it cannot run the drifted ratio); the
+//! cost is time per output frame. The input is demo material generated here.
 //!
+//! First a summary table measured in CPU time of the measuring thread (Linux `schedstat`;
+//! wall time elsewhere): best of three runs of at least 300 ms for each engine, the two
+//! engines alternating, so that other work on a shared machine weighs less. Then the
+//! criterion groups (wall time), unless `RERATE_SUMMARY_ONLY=1`.
+//!
+//! `RERATE_SUMMARY_ONLY=1 cargo bench -p resample-core --bench glide`
 //! `cargo bench -p resample-core --bench glide`
 
 use std::hint::black_box;
-use std::time::Duration;
+use std::time::{Duration, Instant};
 
 use criterion::{BenchmarkId, Criterion, Throughput};
-use resample_core::{FilterSpec, GlideConverter, StreamConverter};
+use resample_core::{FilterSpec, GlideConverter, Kernel, Sample, StreamConverter};
 
 const CHANNELS: usize = 2;
 const BLOCK: usize = 4096;
+/// (input rate, output rate, ppm the output clock runs fast).
+const CASES: [(u32, u32, f64); 2] = [(44_100, 48_000, 100.0), (48_000, 44_100, -250.0)];
+const DBS: [f64; 2] = [100.0, 140.0];
 
-fn input() -> Vec<f32> {
+fn input<T: Sample>() -> Vec<T> {
     (0..BLOCK * CHANNELS)
-        .map(|k| (0.3 * (0.01 * k as f64).sin()) as f32)
+        .map(|k| T::from_f64_lossy(0.3 * (0.01 * k as f64).sin()))
         .collect()
 }
 
-fn bench(c: &mut Criterion) {
-    let x = input();
-    let mut group = c.benchmark_group("per_output");
+fn thread_cpu_seconds() -> Option<f64> {
+    let s = std::fs::read_to_string("/proc/thread-self/schedstat").ok()?;
+    let ns: f64 = s.split_whitespace().next()?.parse().ok()?;
+    Some(ns * 1e-9)
+}
+
+/// Seconds per output frame of `f` (which returns the frames it wrote): one run repeating
+/// `f` for at least 300 ms, CPU time of this thread where available.
+fn secs_per_output(mut f: impl FnMut() -> usize) -> f64 {
+    let wall = Instant::now();
+    let c0 = thread_cpu_seconds();
+    let mut frames = 0;
+    while frames == 0 || wall.elapsed() < Duration::from_millis(300) {
+        frames += f();
+    }
+    let w = wall.elapsed().as_secs_f64();
+    let s = match (c0, thread_cpu_seconds()) {
+        (Some(a), Some(b)) if b > a => b - a,
+        _ => w,
+    };
+    s / frames as f64
+}
+
+struct Pair<T> {
+    fixed: StreamConverter<T>,
+    glide: GlideConverter<T>,
+    out: Vec<T>,
+    x: Vec<T>,
+}
+
+fn pair<T: Sample>(a: u32, b: u32, ppm: f64, db: f64) -> (Pair<T>, String) {
+    let spec = FilterSpec::new(a, b).stopband_db(db);
+    let fixed = spec.design().expect("design");
+    let glide = spec.design_glide().expect("glide design");
+    let ratio = f64::from(b) * (1.0 + ppm * 1e-6) / f64::from(a);
+    let r = glide.report();
+    let table = match r.band.as_ref() {
+        Some(band) if ratio < 1.0 && band.contains(ratio) => format!(
+            "band table {:.5}..{:.5}: P {} {}, {} taps per output, error {:.1} dB",
+            band.lowest_ratio,
+            band.highest_ratio,
+            band.phases,
+            band.interpolation.name(),
+            band.taps_per_output,
+            band.interpolation_error_db
+        ),
+        _ => format!(
+            "P {} {}, {} taps per output, error {:.1} dB",
+            r.phases,
+            r.interpolation.name(),
+            r.taps_per_output,
+            r.interpolation_error_db
+        ),
+    };
+    let about = format!(
+        "fixed {} taps per phase; any-ratio at {ratio:.7}: {table}",
+        fixed.report().taps_per_phase
+    );
+    let fixed = StreamConverter::<T>::new(&fixed, CHANNELS).expect("converter");
+    let glide = GlideConverter::<T>::with_kernel(&glide, CHANNELS, ratio, Kernel::detect())
+        .expect("converter");
+    let n = fixed
+        .max_output_frames(BLOCK)
+        .max(glide.max_output_frames(BLOCK))
+        + 16;
+    let p = Pair {
+        fixed,
+        glide,
+        out: vec![T::zero(); n * CHANNELS],
+        x: input(),
+    };
+    (p, about)
+}
+
+impl<T: Sample> Pair<T> {
+    fn run_fixed(&mut self) -> usize {
+        let p = self
+            .fixed
+            .process_interleaved(black_box(&self.x), &mut self.out)
+            .expect("process");
+        p.frames_written
+    }
+
+    fn run_glide(&mut self) -> usize {
+        let p = self
+            .glide
+            .process_interleaved(black_box(&self.x), &mut self.out)
+            .expect("process");
+        p.frames_written
+    }
+}
+
+fn summary<T: Sample>(name: &str) {
+    for (a, b, ppm) in CASES {
+        for db in DBS {
+            let (mut p, about) = pair::<T>(a, b, ppm, db);
+            let (mut f, mut g) = (f64::INFINITY, f64::INFINITY);
+            for _ in 0..3 {
+                f = f.min(secs_per_output(|| p.run_fixed()));
+                g = g.min(secs_per_output(|| p.run_glide()));
+            }
+            println!(
+                "{name} {a} -> {b} x (1 {ppm:+} ppm) {db} dB: fixed {:.2} ns, any-ratio {:.2} ns \
+                 per output frame: {:.2}x  ({about})",
+                1e9 * f,
+                1e9 * g,
+                g / f
+            );
+        }
+    }
+}
+
+fn bench<T: Sample>(c: &mut Criterion, name: &str) {
+    let mut group = c.benchmark_group(format!("per_output_{name}"));
     group
         .sample_size(20)
         .warm_up_time(Duration::from_secs(1))
         .measurement_time(Duration::from_secs(3));
-    for (a, b) in [(44_100_u32, 48_000_u32), (48_000, 44_100)] {
-        for db in [100.0, 140.0] {
-            let spec = FilterSpec::new(a, b).stopband_db(db);
-            let fixed = spec.design().expect("design");
-            let glide = spec.design_glide().expect("glide design");
-            let r = glide.report();
-            println!(
-                "{a} -> {b} at {db} dB: fixed {} taps per phase; any-ratio P {} {} ({} taps per \
-                 output, table {} bytes in f32, interpolation error {:.1} dB)",
-                fixed.report().taps_per_phase,
-                r.phases,
-                r.interpolation.name(),
-                r.taps_per_output,
-                r.table_bytes_f32,
-                r.interpolation_error_db
-            );
+    for (a, b, ppm) in CASES {
+        for db in DBS {
+            let (mut p, _) = pair::<T>(a, b, ppm, db);
             let frames_out = (BLOCK as u64 * u64::from(b)) / u64::from(a);
             group.throughput(Throughput::Elements(frames_out));
-            let id = format!("{a}-{b}-{db}dB");
-            let mut sc = StreamConverter::<f32>::new(&fixed, CHANNELS).expect("converter");
-            let mut out = vec![0.0_f32; (sc.max_output_frames(BLOCK) + 16) * CHANNELS];
+            let id = format!("{a}-{b}-{ppm:+}ppm-{db}dB");
             group.bench_function(BenchmarkId::new("fixed", &id), |bch| {
-                bch.iter(|| {
-                    let p = sc
-                        .process_interleaved(black_box(&x), &mut out)
-                        .expect("process");
-                    black_box(p.frames_written)
-                })
+                bch.iter(|| black_box(p.run_fixed()))
             });
-            let mut gc = GlideConverter::<f32>::new(&glide, CHANNELS).expect("converter");
-            let mut out = vec![0.0_f32; (gc.max_output_frames(BLOCK) + 16) * CHANNELS];
             group.bench_function(BenchmarkId::new("any-ratio", &id), |bch| {
-                bch.iter(|| {
-                    let p = gc
-                        .process_interleaved(black_box(&x), &mut out)
-                        .expect("process");
-                    black_box(p.frames_written)
-                })
+                bch.iter(|| black_box(p.run_glide()))
             });
         }
     }
@@ -75,7 +168,17 @@ fn bench(c: &mut Criterion) {
 }
 
 fn main() {
+    println!(
+        "kernel: {}; cost per output frame, stereo, blocks of {BLOCK} input frames (CPU time)",
+        Kernel::detect().name()
+    );
+    summary::<f32>("f32");
+    summary::<f64>("f64");
+    if std::env::var_os("RERATE_SUMMARY_ONLY").is_some() {
+        return;
+    }
     let mut c = Criterion::default().configure_from_args();
-    bench(&mut c);
+    bench::<f32>(&mut c, "f32");
+    bench::<f64>(&mut c, "f64");
     c.final_summary();
 }

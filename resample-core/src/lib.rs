@@ -178,7 +178,8 @@ pub use engine::{
 };
 pub use error::{Error, Result};
 pub use filter::{
-    Design, DesignReport, FilterSpec, GlideDesign, GlideReport, Interpolation, Phase, StageChoice,
+    Design, DesignReport, FilterSpec, GlideBand, GlideDesign, GlideReport, Interpolation, Phase,
+    StageChoice,
     GROUP_DELAY_REF_HZ,
 };
 pub use filter::{

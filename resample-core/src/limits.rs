@@ -38,6 +38,10 @@ pub const MAX_GLIDE_RATIO: f64 = 16.0;
 pub const GLIDE_TABLE_LIMIT: u64 = 2 << 20;
 /// Most phases per input sample of an any-ratio table.
 pub const MAX_GLIDE_PHASES: usize = 1 << 14;
+/// Half-width of the band of ratios around the starting ratio (relative: +-0.1 %) for which
+/// an any-ratio design below ratio 1 gets a table of its own, read without stretching the
+/// kernel: wide enough for any pair of audio clocks (tens to hundreds of ppm).
+pub const GLIDE_BAND: f64 = 1e-3;
 /// How far under the requested stopband the measured interpolation error must stay, dB.
 pub const GLIDE_ERROR_MARGIN_DB: f64 = 3.0;
 

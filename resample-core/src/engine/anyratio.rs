@@ -6,7 +6,7 @@
 //! contract as [`crate::StreamConverter`].
 
 use super::stream::{check_interleaved, load_interleaved};
-use crate::kernel::{Kernel, KernelFns, Sample};
+use crate::kernel::{Blend, Kernel, KernelFns, Sample};
 use crate::limits::{MAX_GLIDE_RATIO, MIN_GLIDE_RATIO};
 use crate::{Error, GlideDesign, Interpolation, Progress, Result};
 
@@ -81,26 +81,92 @@ struct Shape {
     half: f64,
     len: f64,
     interp: Interpolation,
+    /// `1 / phases`.
+    inv_phases: f64,
 }
 
 impl Shape {
-    /// First input index and count of the inputs the output at `clock` reads.
-    #[inline]
-    fn span(&self, c: &Clock) -> (i64, usize) {
-        let rho = c.ratio().min(1.0);
-        let p = self.phases as f64;
-        if rho >= 1.0 {
-            let s = c.frac * p + self.half;
-            let whole = (s as i64).div_euclid(self.phases as i64); // s >= 0
-            (c.int + whole - (self.cols as i64 - 1), self.cols)
+    /// `(q div P, q mod P)` for `q >= 0`: a shift and a mask, P being a power of two in
+    /// every table designed (a division otherwise).
+    #[inline(always)]
+    fn split(&self, q: i64) -> (i64, usize) {
+        if self.phases.is_power_of_two() {
+            let shift = self.phases.trailing_zeros();
+            (q >> shift, (q as usize) & (self.phases - 1))
         } else {
-            // Taps where q = (t - i) rho P + half lies within (-2, len + 1).
-            let scale = rho * p;
-            // The first is negative (ceil = truncation), the second positive (floor =
-            // truncation): no library call per output.
-            let lo = (c.frac - (self.len + 1.0 - self.half) / scale) as i64;
-            let hi = (c.frac + (self.half + 2.0) / scale) as i64;
-            (c.int + lo, (hi - lo + 1).max(0) as usize)
+            // A band table's N: the quotient from a floating-point product, corrected by
+            // one step either way (q is far below 2^52), instead of an integer division.
+            let p = self.phases as i64;
+            let mut d = (q as f64 * self.inv_phases) as i64;
+            let mut r = q - d * p;
+            if r < 0 {
+                d -= 1;
+                r += p;
+            } else if r >= p {
+                d += 1;
+                r -= p;
+            }
+            (d, r as usize)
+        }
+    }
+
+    /// First input index and count of the inputs the output at `clock` reads from the rows
+    /// (no stretching).
+    #[inline]
+    fn rows_span(&self, c: &Clock) -> (i64, usize) {
+        let s = c.frac * self.phases as f64 + self.half;
+        let whole = self.split(s as i64).0; // s >= 0
+        (c.int + whole - (self.cols as i64 - 1), self.cols)
+    }
+
+    /// First input index and count of the inputs the output at `clock` reads with the kernel
+    /// stretched by `1 / ratio` (a ratio below 1).
+    #[inline]
+    fn stretched_span(&self, c: &Clock) -> (i64, usize) {
+        let rho = c.ratio().min(1.0);
+        // Taps where q = (t - i) rho P + half lies within (-2, len + 1).
+        let scale = rho * self.phases as f64;
+        // The first is negative (ceil = truncation), the second positive (floor =
+        // truncation): no library call per output.
+        let lo = (c.frac - (self.len + 1.0 - self.half) / scale) as i64;
+        let hi = (c.frac + (self.half + 2.0) / scale) as i64;
+        (c.int + lo, (hi - lo + 1).max(0) as usize)
+    }
+}
+
+/// A table's rows in `T` as the converter reads them: row `r` at
+/// `data[row0 + r stride..][..cols]`, each row starting on a 64-byte boundary (when the
+/// allocation allows) so that the kernels' loads of taps do not straddle cache lines.
+#[derive(Debug, Clone)]
+struct Table<T> {
+    data: Vec<T>,
+    row0: usize,
+    stride: usize,
+    shape: Shape,
+}
+
+impl<T: Sample> Table<T> {
+    /// Lay out `rows` (`phases + 3` rows of `shape.cols` taps).
+    fn new(rows: &[f64], shape: Shape) -> Self {
+        let cols = shape.cols;
+        let per_line = (64 / core::mem::size_of::<T>()).max(1);
+        let stride = cols.next_multiple_of(per_line);
+        let mut data = vec![T::zero(); (shape.phases + 3) * stride + per_line];
+        let misalign = (data.as_ptr() as usize % 64) / core::mem::size_of::<T>();
+        let row0 = (per_line - misalign) % per_line;
+        for (dst, src) in data[row0..]
+            .chunks_exact_mut(stride)
+            .zip(rows.chunks_exact(cols))
+        {
+            for (d, &v) in dst.iter_mut().zip(src) {
+                *d = T::from_f64_lossy(v);
+            }
+        }
+        Self {
+            data,
+            row0,
+            stride,
+            shape,
         }
     }
 }
@@ -112,7 +178,9 @@ impl Shape {
 /// [`GlideConverter::glide_to`] it moves linearly from the old to the new increment over the
 /// given number of outputs (it never steps, unless a glide of 0 frames is asked for). Below
 /// a ratio of 1 the kernel is stretched by `1 / ratio` (its stopband edge follows the
-/// output's Nyquist frequency) and its gain scaled back to 1. The output does not depend on
+/// output's Nyquist frequency) and its gain scaled back to 1, except inside the design's
+/// band table ([`crate::GlideBand`]: within 0.1 % of a starting ratio below 1), which is
+/// read like the main table, without stretching. The output does not depend on
 /// how the input is chunked, bit for bit; processing calls do not allocate, lock or panic.
 ///
 /// Each output needs input up to the kernel's look-ahead past its time
@@ -134,8 +202,10 @@ impl Shape {
 /// ```
 #[derive(Debug, Clone)]
 pub struct GlideConverter<T> {
-    /// Rows of the table in `T` (see [`GlideDesign`]).
-    rows: Vec<T>,
+    /// The table (see [`GlideDesign`]), read at ratios of 1 or more.
+    main: Table<T>,
+    /// The table of a band of ratios below 1 (lowest, highest ratio), read inside the band.
+    band: Option<(Table<T>, f64, f64)>,
     /// The prototype in tap order (times P), `FLAT_PAD` zeros before and after: prototype
     /// tap `q` at `flat[q + FLAT_PAD]`, for the stretched kernel's per-tap reads.
     flat: Vec<T>,
@@ -152,6 +222,8 @@ pub struct GlideConverter<T> {
     keep_back: i64,
     /// The taps of one output.
     taps: Vec<T>,
+    /// One output of every channel.
+    chan: Vec<T>,
     clock: Clock,
     start_step: f64,
     n_in: u64,
@@ -194,12 +266,15 @@ impl<T: Sample> GlideConverter<T> {
             half: design.half() as f64,
             len: design.len() as f64,
             interp: design.report().interpolation,
+            inv_phases: 1.0 / design.phases() as f64,
         };
         // The widest span, at the smallest ratio.
         let scale = MIN_GLIDE_RATIO * shape.phases as f64;
         let back = ((shape.len + 1.0 - shape.half) / scale).ceil() as usize + 2;
         let ahead = ((shape.half + 2.0) / scale).ceil() as usize + 2;
-        let widest = back + ahead + shape.cols + 2;
+        let band_cols = design.band().map_or(0, |b| b.cols);
+        let back = back.max(band_cols + 2);
+        let widest = (back + ahead + shape.cols + 2).max(band_cols + 4);
         let cap = widest + BLOCK;
         let mut flat = vec![T::zero(); design.len() + 2 * FLAT_PAD];
         // Row r holds phase r - 1 of column j (reversed): prototype tap j P + r - 1.
@@ -218,13 +293,21 @@ impl<T: Sample> GlideConverter<T> {
                 }
             }
         }
-        let rows = design
-            .rows()
-            .iter()
-            .map(|&v| T::from_f64_lossy(v))
-            .collect();
+        let main = Table::new(design.rows(), shape);
+        let band = design.band().map(|b| {
+            let shape = Shape {
+                phases: b.phases,
+                cols: b.cols,
+                half: b.half as f64,
+                len: b.len as f64,
+                interp: b.interp,
+                inv_phases: 1.0 / b.phases as f64,
+            };
+            (Table::new(&b.rows, shape), b.lowest, b.highest)
+        });
         let mut conv = Self {
-            rows,
+            main,
+            band,
             flat,
             shape,
             channels,
@@ -235,6 +318,7 @@ impl<T: Sample> GlideConverter<T> {
             fill: 0,
             keep_back: back as i64 + 1,
             taps: vec![T::zero(); widest],
+            chan: vec![T::zero(); channels],
             clock: Clock::new(1.0 / ratio),
             start_step: 1.0 / ratio,
             n_in: 0,
@@ -303,8 +387,31 @@ impl<T: Sample> GlideConverter<T> {
     /// The kernel's look-ahead at the current ratio, input frames: an output needs input
     /// this far past its own time (at ratios below 1 it grows as `1 / ratio`).
     pub fn latency_input_frames(&self) -> f64 {
-        let rho = self.clock.ratio().min(1.0);
-        self.shape.half / (self.shape.phases as f64 * rho)
+        self.look_ahead(self.clock.ratio())
+    }
+
+    /// The kernel's look-ahead at `ratio`, input frames.
+    fn look_ahead(&self, ratio: f64) -> f64 {
+        match self.table_for(ratio) {
+            Some(t) => t.shape.half / t.shape.phases as f64,
+            None => self.shape.half / (self.shape.phases as f64 * ratio.min(1.0)),
+        }
+    }
+
+    /// The table read (without stretching) at `ratio`: the main one from 1 up, the band's
+    /// inside its band; `None` below 1 elsewhere (the stretched kernel).
+    #[inline]
+    fn table_for(&self, ratio: f64) -> Option<&Table<T>> {
+        pick(&self.main, &self.band, ratio)
+    }
+
+    /// First input index and count of the inputs the output at `c` reads.
+    #[inline]
+    fn span_at(&self, c: &Clock) -> (i64, usize) {
+        match self.table_for(c.ratio()) {
+            Some(t) => t.shape.rows_span(c),
+            None => self.shape.stretched_span(c),
+        }
     }
 
     /// Input frames taken so far.
@@ -329,7 +436,7 @@ impl<T: Sample> GlideConverter<T> {
         let mut c = self.clock;
         let mut n = 0;
         loop {
-            let (lo, count) = self.shape.span(&c);
+            let (lo, count) = self.span_at(&c);
             if lo + count as i64 > avail {
                 return n;
             }
@@ -347,7 +454,7 @@ impl<T: Sample> GlideConverter<T> {
         let mut c = self.clock;
         let mut need = 0_i64;
         for _ in 0..output_frames {
-            let (lo, count) = self.shape.span(&c);
+            let (lo, count) = self.span_at(&c);
             need = need.max(lo + count as i64);
             c.advance();
         }
@@ -359,7 +466,7 @@ impl<T: Sample> GlideConverter<T> {
     /// ratios, plus what a shrinking look-ahead releases when the ratio rises below 1.
     pub fn max_output_frames(&self, input_frames: usize) -> usize {
         let r = self.ratio().max(self.target_ratio());
-        let look = |ratio: f64| self.shape.half / (self.shape.phases as f64 * ratio.min(1.0));
+        let look = |ratio: f64| self.look_ahead(ratio);
         let shrink = (look(self.ratio()) - look(self.target_ratio())).max(0.0);
         let n = ((input_frames as f64 + shrink) * r).ceil() + 2.0;
         if n >= usize::MAX as f64 {
@@ -531,7 +638,12 @@ impl<T: Sample> GlideConverter<T> {
             if self.flushing && self.clock.int >= self.n_in as i64 {
                 break;
             }
-            let (lo, count) = self.shape.span(&self.clock);
+            let ratio = self.clock.ratio();
+            let table = pick(&self.main, &self.band, ratio);
+            let (lo, count) = match table {
+                Some(t) => t.shape.rows_span(&self.clock),
+                None => self.shape.stretched_span(&self.clock),
+            };
             let end = lo + count as i64;
             if end > self.base + self.fill as i64 {
                 if !self.flushing {
@@ -553,10 +665,32 @@ impl<T: Sample> GlideConverter<T> {
                 continue;
             }
             let from = (lo - self.base) as usize;
-            self.fill_taps(count);
-            let taps = &self.taps[..count];
-            for (c, b) in self.hist.chunks_exact(self.cap).enumerate() {
-                store(done, c, self.fns.dot(taps, &b[from..from + count]));
+            if let Some(t) = table {
+                // Taps between two or four rows: the rows' dot products with every
+                // channel, weighted (the kernels' blend), no taps written out.
+                let (r0, w) = rows_at(&t.shape, &self.clock);
+                let sh = t.shape;
+                let b = Blend {
+                    rows: &t.data[t.row0 + r0 * t.stride..],
+                    cols: sh.cols,
+                    row_stride: t.stride,
+                    points: sh.interp.points(),
+                    weights: w,
+                    hist: &self.hist[from..],
+                    stride: self.cap,
+                    channels: self.channels,
+                };
+                let ok = self.fns.blend(&b, &mut self.chan).is_ok();
+                debug_assert!(ok, "blend sizes hold by construction");
+                for (c, &v) in self.chan.iter().enumerate() {
+                    store(done, c, v);
+                }
+            } else {
+                self.fill_taps(count);
+                let taps = &self.taps[..count];
+                for (c, b) in self.hist.chunks_exact(self.cap).enumerate() {
+                    store(done, c, self.fns.dot(taps, &b[from..from + count]));
+                }
             }
             done += 1;
             self.n_out += 1;
@@ -565,48 +699,17 @@ impl<T: Sample> GlideConverter<T> {
         done
     }
 
-    /// The taps of the output at the clock's position, oldest input first.
+    /// The taps of the output at the clock's position (a ratio below 1: the stretched
+    /// kernel), oldest input first.
     fn fill_taps(&mut self, count: usize) {
         let sh = self.shape;
         let c = &self.clock;
         let p = sh.phases as f64;
         let rho = c.ratio().min(1.0);
-        let cols = sh.cols;
-        let first = sh.interp.first();
-        if rho >= 1.0 {
-            let s = c.frac * p + sh.half;
-            let whole = trunc_floor(s);
-            let phase = (whole as i64).rem_euclid(sh.phases as i64) as usize;
-            let w = sh.interp.weights(s - whole);
-            // Row r holds phase r - 1.
-            let r0 = phase + 1 - first;
-            let row = |k: usize| &self.rows[(r0 + k) * cols..(r0 + k + 1) * cols];
-            let out = &mut self.taps[..count];
-            match sh.interp {
-                Interpolation::Linear => {
-                    let (w0, w1) = (T::from_f64_lossy(w[0]), T::from_f64_lossy(w[1]));
-                    for ((t, &a), &b) in out.iter_mut().zip(row(0)).zip(row(1)) {
-                        *t = w0 * a + w1 * b;
-                    }
-                }
-                Interpolation::Cubic => {
-                    let wt = w.map(T::from_f64_lossy);
-                    for ((((t, &a), &b), &d), &e) in out
-                        .iter_mut()
-                        .zip(row(0))
-                        .zip(row(1))
-                        .zip(row(2))
-                        .zip(row(3))
-                    {
-                        *t = wt[0] * a + wt[1] * b + wt[2] * d + wt[3] * e;
-                    }
-                }
-            }
-            return;
-        }
+        debug_assert!(rho < 1.0, "ratios of 1 or more read the rows (blend)");
         // Stretched kernel: tap k at its own position q_k = (t - lo - k) rho P + half, read
         // from the prototype in tap order.
-        let (lo, _) = sh.span(c);
+        let (lo, _) = sh.stretched_span(c);
         let scale = rho * p;
         let q0 = ((c.int - lo) as f64 + c.frac) * scale + sh.half;
         let gain = T::from_f64_lossy(rho);
@@ -636,6 +739,35 @@ impl<T: Sample> GlideConverter<T> {
             }
         }
     }
+}
+
+/// See [`GlideConverter::table_for`] (apart, for borrowing the fields one by one).
+#[inline]
+#[allow(clippy::type_complexity)]
+fn pick<'a, T>(
+    main: &'a Table<T>,
+    band: &'a Option<(Table<T>, f64, f64)>,
+    ratio: f64,
+) -> Option<&'a Table<T>> {
+    if ratio >= 1.0 {
+        return Some(main);
+    }
+    match band {
+        Some((t, lo, hi)) if ratio >= *lo && ratio <= *hi => Some(t),
+        _ => None,
+    }
+}
+
+/// The first row and the interpolation weights of the output at `c` in a table of shape
+/// `sh` read without stretching.
+#[inline]
+fn rows_at<T: Sample>(sh: &Shape, c: &Clock) -> (usize, [T; 4]) {
+    let s = c.frac * sh.phases as f64 + sh.half;
+    let whole = trunc_floor(s);
+    let phase = sh.split(whole as i64).1;
+    let w = sh.interp.weights(s - whole).map(T::from_f64_lossy);
+    // Row r holds phase r - 1.
+    (phase + 1 - sh.interp.first(), w)
 }
 
 /// `floor(x)` for `0 <= x < 2^63` by truncation (an instruction, where `f64::floor` may be a
@@ -683,6 +815,24 @@ fn planar_len(
 mod tests {
     use super::*;
     use crate::FilterSpec;
+
+    #[test]
+    fn phase_split_matches_integer_division() {
+        for phases in [64_usize, 212, 592, 1023] {
+            let sh = Shape {
+                phases,
+                cols: 1,
+                half: 0.0,
+                len: 1.0,
+                interp: Interpolation::Linear,
+                inv_phases: 1.0 / phases as f64,
+            };
+            let p = phases as i64;
+            for q in (0..200_000_i64).chain([p * 1_000_003 - 1, p * 1_000_003]) {
+                assert_eq!(sh.split(q), (q / p, (q % p) as usize), "{phases} {q}");
+            }
+        }
+    }
 
     #[test]
     fn clock_glide_ramps_the_increment() {

@@ -13,7 +13,7 @@ mod stages;
 pub mod window;
 
 pub use design::{Design, DesignReport, GROUP_DELAY_REF_HZ};
-pub use glide::{GlideDesign, GlideReport, Interpolation};
+pub use glide::{GlideBand, GlideDesign, GlideReport, Interpolation};
 pub use spec::{FilterSpec, Phase, StageChoice};
 pub use stages::{
     StagePlan, HALF_BAND_OVERHEAD_TAPS, OUTPUT_OVERHEAD_TAPS, SHORT_STAGE_MARGIN_DB,

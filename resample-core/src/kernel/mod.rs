@@ -2,9 +2,11 @@
 //! SIMD versions for x86_64 (AVX2 + FMA, AVX-512F) and aarch64 (NEON), and the choice of
 //! kernel, made once when a converter is built and stored with it as function pointers.
 //!
-//! A kernel has two entry points for each sample type:
+//! A kernel has three entry points for each sample type:
 //!
-//! * a single dot product ([`DotFn`]), and
+//! * a single dot product ([`DotFn`]),
+//! * the any-ratio engine's *blend* ([`KernelFns::blend`]): the dot products of two or four
+//!   table rows with each channel's inputs, weighted by the interpolation between them, and
 //! * *groups*: consecutive groups of a [`crate::table::GroupTable`] (a vector of taps per
 //!   input sample, one lane per output) against several inputs ([`KernelFns::span`], the
 //!   converters' inner loop; [`KernelFns::groups`] for one group). Each input sample is
@@ -48,6 +50,32 @@ pub type DotFn<T> = fn(&[T], &[T]) -> T;
 /// A span of groups against several inputs (see [`KernelFns::span`]). Only ever called
 /// through that method, which checks the sizes first.
 pub(crate) type GroupsFn<T> = fn(&GroupSpan<'_, T>, &[&[T]], &mut [T]);
+
+/// The any-ratio engine's interpolated dot products (see [`KernelFns::blend`]).
+pub(crate) type BlendFn<T> = fn(&Blend<'_, T>, &mut [T]);
+
+/// One output of the any-ratio engine for every channel, from `points` consecutive rows of
+/// its table: `rows[p row_stride..][..cols]` is row `p`, `weights[p]` its interpolation
+/// weight; channel `c`'s inputs are `hist[c stride..][..cols]`.
+#[derive(Debug, Clone, Copy)]
+pub struct Blend<'a, T> {
+    /// The rows, one after another.
+    pub rows: &'a [T],
+    /// Taps per row (inputs per channel).
+    pub cols: usize,
+    /// Distance between two rows in `rows` (at least `cols`).
+    pub row_stride: usize,
+    /// Rows read (1 to 4).
+    pub points: usize,
+    /// Their weights (unused ones ignored).
+    pub weights: [T; 4],
+    /// The inputs, channel after channel.
+    pub hist: &'a [T],
+    /// Distance between two channels' inputs in `hist`.
+    pub stride: usize,
+    /// Channels.
+    pub channels: usize,
+}
 
 /// Consecutive groups of a [`crate::table::GroupTable`] as one kernel call takes them
 /// ([`KernelFns::span`]): group `g` has taps `taps[g rows lanes..][..rows lanes]` (row `r`,
@@ -166,6 +194,7 @@ pub struct KernelFns<T> {
     // groups); the any-ratio engine, whose outputs each fall at a phase of their own, uses it.
     dot: DotFn<T>,
     groups: GroupsFn<T>,
+    blend: BlendFn<T>,
     lanes: usize,
 }
 
@@ -189,6 +218,7 @@ impl<T: Sample> KernelFns<T> {
             kernel,
             dot: T::dot_fn(kernel),
             groups: T::groups_fn(kernel),
+            blend: T::blend_fn(kernel),
             lanes: T::lanes(kernel),
         })
     }
@@ -202,6 +232,40 @@ impl<T: Sample> KernelFns<T> {
     #[inline]
     pub fn dot(&self, taps: &[T], x: &[T]) -> T {
         (self.dot)(taps, x)
+    }
+
+    /// The any-ratio engine's output for every channel: `out[c] = sum_p weights[p] (row p .
+    /// channel c's inputs)` for `p < points`, each row's dot product summed as two partial
+    /// sums (even and odd vectors in SIMD kernels; left to right in the scalar reference),
+    /// then weighted in row order. Each channel's value does not depend on the others.
+    /// [`Error::BufferShape`] if `points` is not 1 to 4, the row stride is under `cols`, the
+    /// rows are short of `(points - 1) row_stride + cols` taps, `hist` of `(channels - 1) stride + cols` inputs or `out` of `channels` values.
+    #[inline]
+    pub fn blend(&self, b: &Blend<'_, T>, out: &mut [T]) -> Result<()> {
+        let bad = |what: &'static str, expected: usize, got: usize| Error::BufferShape {
+            what,
+            expected,
+            got,
+        };
+        if !(1..=4).contains(&b.points) {
+            return Err(bad("blend rows (1 to 4)", 4, b.points));
+        }
+        let need = (b.points - 1) * b.row_stride + b.cols;
+        if b.row_stride < b.cols || b.rows.len() < need {
+            return Err(bad("blend taps (rows of cols taps)", need, b.rows.len()));
+        }
+        if b.channels == 0 {
+            return Err(bad("blend channels", 1, 0));
+        }
+        let need = (b.channels - 1) * b.stride + b.cols;
+        if b.hist.len() < need {
+            return Err(bad("blend inputs", need, b.hist.len()));
+        }
+        if out.len() < b.channels {
+            return Err(bad("blend output (one per channel)", b.channels, out.len()));
+        }
+        (self.blend)(b, out);
+        Ok(())
     }
 
     /// Lanes (outputs per group) this kernel's vectors hold: the width to build a
@@ -305,6 +369,9 @@ mod sealed {
         /// Lanes of that kernel's vectors for this type (32 bytes' worth for the scalar
         /// reference).
         fn lanes(kernel: super::Kernel) -> usize;
+
+        /// The blend function of a kernel for this type (scalar fallback if unavailable).
+        fn blend_fn(kernel: super::Kernel) -> super::BlendFn<Self>;
     }
 }
 
@@ -324,7 +391,7 @@ pub trait Sample:
 }
 
 macro_rules! impl_sample {
-    ($t:ty, $dot:ident, $groups:ident, $from:expr, $to:expr) => {
+    ($t:ty, $dot:ident, $groups:ident, $blend:ident, $from:expr, $to:expr) => {
         impl Sample for $t {
             fn dot_fn(kernel: Kernel) -> DotFn<Self> {
                 match kernel {
@@ -360,6 +427,18 @@ macro_rules! impl_sample {
                 }
             }
 
+            fn blend_fn(kernel: Kernel) -> BlendFn<Self> {
+                match kernel {
+                    #[cfg(target_arch = "x86_64")]
+                    Kernel::Avx2Fma if kernel.is_available() => x86::avx2::$blend,
+                    #[cfg(target_arch = "x86_64")]
+                    Kernel::Avx512 if kernel.is_available() => x86::avx512::$blend,
+                    #[cfg(target_arch = "aarch64")]
+                    Kernel::Neon if kernel.is_available() => arm::neon::$blend,
+                    _ => scalar::blend::<$t>,
+                }
+            }
+
             fn lanes(kernel: Kernel) -> usize {
                 let bytes = match kernel {
                     Kernel::Avx2Fma if kernel.is_available() => 32,
@@ -373,8 +452,15 @@ macro_rules! impl_sample {
     };
 }
 
-impl_sample!(f32, dot_f32, groups_f32, |v: f64| v as f32, f64::from);
-impl_sample!(f64, dot_f64, groups_f64, |v: f64| v, |v: f64| v);
+impl_sample!(
+    f32,
+    dot_f32,
+    groups_f32,
+    blend_f32,
+    |v: f64| v as f32,
+    f64::from
+);
+impl_sample!(f64, dot_f64, groups_f64, blend_f64, |v: f64| v, |v: f64| v);
 
 #[cfg(test)]
 mod tests;

@@ -371,3 +371,117 @@ fn simd_kernels_listed_on_this_machine() {
     let names: Vec<&str> = simd_kernels().iter().map(|k| k.name()).collect();
     eprintln!("SIMD kernels tested on this machine: {names:?}");
 }
+
+/// `blend` of every kernel against the scalar reference: two and four rows, one to five
+/// channels, row lengths around the vector widths, within [`tolerance`] of the terms' size
+/// (`sum_p |w_p| sum_k |row_p[k] x[k]|`); and each channel's value alone is the value it has
+/// among others, bit for bit.
+fn blend_agrees<T: Sample>() {
+    let mut rng = Rng(0x5DEE_CE66_D1CE_4E5B);
+    for kernel in Kernel::available() {
+        let fns = KernelFns::<T>::new(kernel).unwrap();
+        for points in [2, 4] {
+            for cols in [1, 7, 8, 15, 16, 17, 31, 33, 64, 145, 213] {
+                let row_stride = cols + (cols % 3);
+                let rows: Vec<T> = rng.vec((points - 1) * row_stride + cols);
+                let weights = [0.3, -0.2, 0.85, 0.05].map(T::from_f64_lossy);
+                for channels in 1..=5 {
+                    let stride = cols + 5;
+                    let hist: Vec<T> = rng.vec((channels - 1) * stride + cols);
+                    let b = Blend {
+                        rows: &rows,
+                        cols,
+                        row_stride,
+                        points,
+                        weights,
+                        hist: &hist,
+                        stride,
+                        channels,
+                    };
+                    let mut got = vec![T::zero(); channels];
+                    let mut want = vec![T::zero(); channels];
+                    fns.blend(&b, &mut got).unwrap();
+                    scalar::blend(&b, &mut want);
+                    for c in 0..channels {
+                        let x = &hist[c * stride..c * stride + cols];
+                        let scale: f64 = (0..points)
+                            .map(|p| {
+                                weights[p].to_f64_exact().abs()
+                                    * abs_dot(&rows[p * row_stride..p * row_stride + cols], x)
+                            })
+                            .sum();
+                        let (g, w) = (got[c].to_f64_exact(), want[c].to_f64_exact());
+                        assert!(
+                            (g - w).abs() <= tolerance::<T>() * scale.max(f64::MIN_POSITIVE),
+                            "{} points {points} cols {cols} ch {c}/{channels}: {g} vs {w}",
+                            kernel.name()
+                        );
+                        // The same channel alone.
+                        let one = Blend {
+                            hist: x,
+                            channels: 1,
+                            ..b
+                        };
+                        let mut alone = [T::zero()];
+                        fns.blend(&one, &mut alone).unwrap();
+                        assert_eq!(alone[0].to_f64_exact().to_bits(), g.to_bits());
+                    }
+                }
+            }
+        }
+    }
+}
+
+#[test]
+fn blend_agrees_with_scalar_f32() {
+    blend_agrees::<f32>();
+}
+
+#[test]
+fn blend_agrees_with_scalar_f64() {
+    blend_agrees::<f64>();
+}
+
+#[test]
+fn bad_blends_are_errors_not_panics() {
+    let rows = vec![0.0_f32; 40];
+    let hist = vec![0.0_f32; 40];
+    let ok = Blend {
+        rows: &rows,
+        cols: 10,
+        row_stride: 10,
+        points: 4,
+        weights: [0.25; 4],
+        hist: &hist,
+        stride: 20,
+        channels: 2,
+    };
+    for k in Kernel::available() {
+        let fns = KernelFns::<f32>::new(k).unwrap();
+        let mut out = [0.0_f32; 2];
+        assert!(fns.blend(&ok, &mut out).is_ok());
+        assert!(fns.blend(&ok, &mut out[..1]).is_err());
+        assert!(fns.blend(&Blend { points: 5, ..ok }, &mut out).is_err());
+        assert!(fns.blend(&Blend { points: 0, ..ok }, &mut out).is_err());
+        assert!(fns
+            .blend(
+                &Blend {
+                    row_stride: 11,
+                    ..ok
+                },
+                &mut out
+            )
+            .is_err());
+        assert!(fns
+            .blend(
+                &Blend {
+                    row_stride: 9,
+                    ..ok
+                },
+                &mut out
+            )
+            .is_err());
+        assert!(fns.blend(&Blend { channels: 3, ..ok }, &mut out).is_err());
+        assert!(fns.blend(&Blend { channels: 0, ..ok }, &mut out).is_err());
+    }
+}
