@@ -179,8 +179,7 @@ pub use engine::{
 pub use error::{Error, Result};
 pub use filter::{
     Design, DesignReport, FilterSpec, GlideBand, GlideDesign, GlideReport, Interpolation, Phase,
-    StageChoice,
-    GROUP_DELAY_REF_HZ,
+    StageChoice, GROUP_DELAY_REF_HZ,
 };
 pub use filter::{
     StagePlan, HALF_BAND_OVERHEAD_TAPS, OUTPUT_OVERHEAD_TAPS, SHORT_STAGE_MARGIN_DB,
