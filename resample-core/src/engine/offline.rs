@@ -153,7 +153,8 @@ fn segment<T: Sample>(
         base: start,
     };
     let mut planar = vec![T::zero(); frames * ins.len()];
-    render(table, fns, &history, first, frames, &mut planar)?;
+    let mut tmp = vec![T::zero(); super::render::TMP];
+    render(table, fns, &history, first, frames, &mut planar, &mut tmp)?;
     for (o, src) in outs.iter_mut().zip(planar.chunks_exact(frames)) {
         o.copy_from_slice(src);
     }

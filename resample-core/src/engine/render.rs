@@ -23,8 +23,9 @@ use crate::{Error, Result};
 /// Inputs handed to the kernel per call, at most.
 const BATCH: usize = 64;
 
-/// Values of the buffer a kernel call writes into (on the stack: 32 KB of `f64`).
-const TMP: usize = 4096;
+/// Values of the buffer a kernel call writes into (32 KB of `f64`); callers keep one and pass
+/// it to [`render`], so a short render call does not clear a fresh one.
+pub(crate) const TMP: usize = 4096;
 
 /// Whether [`render`] takes all the groups of a period in one span (their outputs fit its
 /// buffer).
@@ -76,8 +77,16 @@ pub(crate) fn render<T: Sample>(
     first: u64,
     frames: usize,
     out: &mut [T],
+    tmp: &mut [T],
 ) -> Result<()> {
     let lanes = table.lanes();
+    let Some(tmp) = tmp.get_mut(..TMP) else {
+        return Err(Error::BufferShape {
+            what: "render kernel buffer",
+            expected: TMP,
+            got: tmp.len(),
+        });
+    };
     let n_groups = table.groups();
     if lanes > TMP || out.len() < frames * hist.channels {
         return Err(Error::BufferShape {
@@ -99,7 +108,6 @@ pub(crate) fn render<T: Sample>(
     // dropped) only if periods are short next to the run, so that the extra work stays small
     // next to what running its groups alone would cost.
     let cut_whole = whole_periods(table) && period.saturating_mul(8) <= frames as u64;
-    let mut tmp = [T::zero(); TMP];
     let mut xs: [&[T]; BATCH] = [&[]; BATCH];
     // Channel and first output of each input in the batch.
     let mut dst = [(0usize, 0u64); BATCH];
@@ -165,8 +173,8 @@ pub(crate) fn render<T: Sample>(
                         xc[i] = window(table, hist, ga, gb, q, c)?;
                         dc[i] = (c, n0 + start);
                     }
-                    fns.span(&part, &xc[..c1 - c0], &mut tmp)?;
-                    keep(&run, &dc[..c1 - c0], &tmp, pw, n, out);
+                    fns.span(&part, &xc[..c1 - c0], tmp)?;
+                    keep(&run, &dc[..c1 - c0], tmp, pw, n, out);
                     c0 = c1;
                 }
                 continue;
@@ -177,15 +185,15 @@ pub(crate) fn render<T: Sample>(
                 dst[k] = (c, n0 + o_lo);
                 k += 1;
                 if k == per_call {
-                    fns.span(&span, &xs[..k], &mut tmp)?;
-                    keep(&run, &dst[..k], &tmp, width, valid, out);
+                    fns.span(&span, &xs[..k], tmp)?;
+                    keep(&run, &dst[..k], tmp, width, valid, out);
                     k = 0;
                 }
             }
         }
         if k > 0 {
-            fns.span(&span, &xs[..k], &mut tmp)?;
-            keep(&run, &dst[..k], &tmp, width, valid, out);
+            fns.span(&span, &xs[..k], tmp)?;
+            keep(&run, &dst[..k], tmp, width, valid, out);
         }
         ja = jb;
     }

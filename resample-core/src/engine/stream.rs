@@ -65,6 +65,8 @@ pub struct StreamConverter<T> {
     stride: usize,
     /// Kernel output, channel `c` at `scratch[c * n..(c + 1) * n]` for a block of `n`.
     scratch: Vec<T>,
+    /// The kernel's own output buffer for one call (see `render`).
+    tmp: Vec<T>,
     /// History kept from the start of a period rather than of a group (see `with_kernel`).
     periods: bool,
     /// Input index of `bufs[c][0]` (negative for the zero history before the start).
@@ -110,6 +112,7 @@ impl<T: Sample> StreamConverter<T> {
             cap,
             stride,
             scratch: vec![T::zero(); OUT_BLOCK * channels],
+            tmp: vec![T::zero(); super::render::TMP],
             table,
             periods,
             base: 0,
@@ -503,6 +506,7 @@ impl<T: Sample> StreamConverter<T> {
                 self.n_out,
                 n,
                 &mut self.scratch,
+                &mut self.tmp,
             );
             if ok.is_err() {
                 break; // cannot happen: the history holds every group of the run
