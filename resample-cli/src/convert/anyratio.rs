@@ -16,7 +16,7 @@ use std::time::Instant;
 
 use resample_core::{GlideConverter, GlideDesign, Kernel, Sample};
 
-use super::{Control, ConvertError, DesignCache, FileReport, Overs, Run, Settings, BLOCK_FRAMES};
+use super::{Control, ConvertError, DesignCache, FileReport, Run, Settings, BLOCK_FRAMES};
 use crate::audio::wav::metadata::carry;
 use crate::audio::wav::{Dither, NonFinite, Retiming, WavWriter, WriterOptions};
 use crate::audio::Input;
@@ -225,24 +225,7 @@ pub(super) fn convert_input(
     writer.set_chunks_after_data(after);
     let header_warning = reader.header_warning().map(str::to_owned);
     let frames_out = clock.output_len(frames_in, info.sample_rate, settings.out_rate);
-    if writer.frames() != frames_out {
-        return Err(ConvertError::Length {
-            written: writer.frames(),
-            expected: frames_out,
-        });
-    }
-    let stats = writer.stats();
-    if settings.refuse_clipping && stats.clipped > 0 {
-        drop(writer);
-        let over = Overs::new(&stats, settings.gain_db);
-        return Err(ConvertError::Clipped {
-            over: stats.clipped,
-            peak: crate::report::format::fmt_db(stats.peak_dbfs()),
-            headroom: over.headroom,
-            gain: over.gain,
-        });
-    }
-    let (levels, bytes) = writer.finish_in_memory()?;
+    let (levels, bytes) = super::finish_writer(writer, frames_out, settings)?;
     let dithered = levels.dithered > 0;
     let r = design.report();
     let report = FileReport {

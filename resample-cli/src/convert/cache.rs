@@ -31,31 +31,10 @@ impl DesignCache {
         passband: f64,
         phase: Phase,
     ) -> Result<Arc<Design>, resample_core::Error> {
-        let key = (
-            in_rate,
-            out_rate,
-            stopband_db.to_bits(),
-            passband.to_bits(),
-            phase,
-        );
+        let spec = spec(in_rate, out_rate, stopband_db, passband, phase);
         // Designing under the lock keeps two threads from designing the same filter; designs
         // take well under a second.
-        let mut map = match self.map.lock() {
-            Ok(g) => g,
-            Err(p) => p.into_inner(),
-        };
-        if let Some(d) = map.get(&key) {
-            return Ok(Arc::clone(d));
-        }
-        let d = Arc::new(
-            FilterSpec::new(in_rate, out_rate)
-                .stopband_db(stopband_db)
-                .passband(passband)
-                .phase(phase)
-                .design()?,
-        );
-        map.insert(key, Arc::clone(&d));
-        Ok(d)
+        memo(&self.map, spec, |s| s.design())
     }
 
     /// The any-ratio engine's table for these parameters (designed now if not seen before).
@@ -67,28 +46,47 @@ impl DesignCache {
         passband: f64,
         phase: Phase,
     ) -> Result<Arc<GlideDesign>, resample_core::Error> {
-        let key = (
-            in_rate,
-            out_rate,
-            stopband_db.to_bits(),
-            passband.to_bits(),
-            phase,
-        );
-        let mut map = match self.glides.lock() {
-            Ok(g) => g,
-            Err(p) => p.into_inner(),
-        };
-        if let Some(d) = map.get(&key) {
-            return Ok(Arc::clone(d));
-        }
-        let d = Arc::new(
-            FilterSpec::new(in_rate, out_rate)
-                .stopband_db(stopband_db)
-                .passband(passband)
-                .phase(phase)
-                .design_glide()?,
-        );
-        map.insert(key, Arc::clone(&d));
-        Ok(d)
+        let spec = spec(in_rate, out_rate, stopband_db, passband, phase);
+        memo(&self.glides, spec, |s| s.design_glide())
     }
+}
+
+/// The spec and its cache key.
+fn spec(
+    in_rate: u32,
+    out_rate: u32,
+    stopband_db: f64,
+    passband: f64,
+    phase: Phase,
+) -> (Key, FilterSpec) {
+    let key = (
+        in_rate,
+        out_rate,
+        stopband_db.to_bits(),
+        passband.to_bits(),
+        phase,
+    );
+    let spec = FilterSpec::new(in_rate, out_rate)
+        .stopband_db(stopband_db)
+        .passband(passband)
+        .phase(phase);
+    (key, spec)
+}
+
+/// The entry of `map` for the spec's key, made by `make` under the lock if missing.
+fn memo<D>(
+    map: &Mutex<HashMap<Key, Arc<D>>>,
+    (key, spec): (Key, FilterSpec),
+    make: impl FnOnce(&FilterSpec) -> Result<D, resample_core::Error>,
+) -> Result<Arc<D>, resample_core::Error> {
+    let mut map = match map.lock() {
+        Ok(g) => g,
+        Err(p) => p.into_inner(),
+    };
+    if let Some(d) = map.get(&key) {
+        return Ok(Arc::clone(d));
+    }
+    let d = Arc::new(make(&spec)?);
+    map.insert(key, Arc::clone(&d));
+    Ok(d)
 }

@@ -21,7 +21,8 @@ pub use memory::{run_engine, run_glide};
 
 use crate::audio::wav::metadata::carry;
 use crate::audio::wav::{
-    Dither, Encoding, MetadataPolicy, NonFinite, Retiming, WavError, WavWriter, WriterOptions,
+    Dither, Encoding, LevelStats, MetadataPolicy, NonFinite, Retiming, WavError, WavWriter,
+    WriterOptions,
 };
 use crate::audio::Input;
 use crate::quality::{default_stopband_db, precision_for, Precision};
@@ -274,25 +275,7 @@ fn convert_input(
     let header_warning = reader.header_warning().map(str::to_owned);
     let frames_in = reader.info().frames;
     let frames_out = design.pair().output_len(frames_in);
-    if writer.frames() != frames_out {
-        return Err(ConvertError::Length {
-            written: writer.frames(),
-            expected: frames_out,
-        });
-    }
-    let stats = writer.stats();
-    if settings.refuse_clipping && stats.clipped > 0 {
-        // Dropping the writer removes the unfinished output.
-        drop(writer);
-        let over = Overs::new(&stats, settings.gain_db);
-        return Err(ConvertError::Clipped {
-            over: stats.clipped,
-            peak: crate::report::format::fmt_db(stats.peak_dbfs()),
-            headroom: over.headroom,
-            gain: over.gain,
-        });
-    }
-    let (levels, bytes) = writer.finish_in_memory()?;
+    let (levels, bytes) = finish_writer(writer, frames_out, settings)?;
     // Dither is claimed only when some sample got it (not for silence).
     let dithered = levels.dithered > 0;
     let r = design.report();
@@ -353,6 +336,34 @@ pub fn coding_history_line(
         text.push_str("; 32-bit float");
     }
     format!("A=PCM,F={out_rate},W={}{mode},T={text}", out.bits())
+}
+
+/// Check the written length (`frames_out`) and, when clipping is refused, that nothing
+/// clipped; then complete the output. Dropping the writer on an error removes the
+/// unfinished output.
+pub(crate) fn finish_writer(
+    writer: WavWriter,
+    frames_out: u64,
+    settings: &Settings,
+) -> Result<(LevelStats, Vec<u8>), ConvertError> {
+    if writer.frames() != frames_out {
+        return Err(ConvertError::Length {
+            written: writer.frames(),
+            expected: frames_out,
+        });
+    }
+    let stats = writer.stats();
+    if settings.refuse_clipping && stats.clipped > 0 {
+        drop(writer);
+        let over = Overs::new(&stats, settings.gain_db);
+        return Err(ConvertError::Clipped {
+            over: stats.clipped,
+            peak: crate::report::format::fmt_db(stats.peak_dbfs()),
+            headroom: over.headroom,
+            gain: over.gain,
+        });
+    }
+    Ok(writer.finish_in_memory()?)
 }
 
 /// What the engines need besides the design.
