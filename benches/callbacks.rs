@@ -21,6 +21,10 @@ use std::time::{Duration, Instant};
 use criterion::{BenchmarkId, Criterion};
 use resample_core::{FilterSpec, StreamConverter};
 
+#[path = "cpu_time.rs"]
+mod cpu_time;
+use cpu_time::thread_cpu_seconds;
+
 const IN_RATE: u32 = 44_100;
 const OUT_RATE: u32 = 48_000;
 const STOPBAND_DB: f64 = 120.0;
@@ -63,14 +67,6 @@ impl Source {
             self.at = (self.at + k) % self.frames.len();
         }
     }
-}
-
-/// CPU time of this thread, seconds (`/proc/thread-self/schedstat`, Linux; updated at
-/// scheduler ticks, so only long spans are meaningful). `None` elsewhere.
-fn thread_cpu_seconds() -> Option<f64> {
-    let s = std::fs::read_to_string("/proc/thread-self/schedstat").ok()?;
-    let ns: f64 = s.split_whitespace().next()?.parse().ok()?;
-    Some(ns * 1e-9)
 }
 
 /// One output callback of `out.len() / CHANNELS` frames: ask for exactly that many output

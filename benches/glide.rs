@@ -20,6 +20,10 @@ use std::time::{Duration, Instant};
 use criterion::{BenchmarkId, Criterion, Throughput};
 use resample_core::{FilterSpec, GlideConverter, Kernel, Sample, StreamConverter};
 
+#[path = "cpu_time.rs"]
+mod cpu_time;
+use cpu_time::thread_cpu_seconds;
+
 const CHANNELS: usize = 2;
 const BLOCK: usize = 4096;
 /// (input rate, output rate, ppm the output clock runs fast).
@@ -30,12 +34,6 @@ fn input<T: Sample>() -> Vec<T> {
     (0..BLOCK * CHANNELS)
         .map(|k| T::from_f64_lossy(0.3 * (0.01 * k as f64).sin()))
         .collect()
-}
-
-fn thread_cpu_seconds() -> Option<f64> {
-    let s = std::fs::read_to_string("/proc/thread-self/schedstat").ok()?;
-    let ns: f64 = s.split_whitespace().next()?.parse().ok()?;
-    Some(ns * 1e-9)
 }
 
 /// Seconds per output frame of `f` (which returns the frames it wrote): one run repeating

@@ -23,6 +23,10 @@ use resample_core::internals::GroupTable;
 use resample_core::internals::{peak, KernelFns};
 use resample_core::{Kernel, Sample};
 
+#[path = "cpu_time.rs"]
+mod cpu_time;
+use cpu_time::thread_cpu_seconds;
+
 const TAPS: [usize; 5] = [16, 32, 64, 128, 256];
 const CHANNELS: [usize; 2] = [1, 2];
 /// Outputs per channel per run (the stream converter's block).
@@ -106,15 +110,6 @@ impl<T: Sample> Case<T> {
         }
         self.macs()
     }
-}
-
-/// CPU time this thread has run, seconds (Linux `schedstat`), so that figures taken on a
-/// machine shared with other work count only the time this thread was on a core. Falls
-/// back to wall time elsewhere.
-fn thread_cpu_seconds() -> Option<f64> {
-    let s = std::fs::read_to_string("/proc/thread-self/schedstat").ok()?;
-    let ns: f64 = s.split_whitespace().next()?.parse().ok()?;
-    Some(ns * 1e-9)
 }
 
 /// Best rate (units per second of CPU time) of `f` over five runs of at least 150 ms each

@@ -16,6 +16,10 @@ use std::time::{Duration, Instant};
 use criterion::{BenchmarkId, Criterion, Throughput};
 use resample_core::{ChainConverter, FilterSpec, Kernel, StageChoice, StagePlan};
 
+#[path = "cpu_time.rs"]
+mod cpu_time;
+use cpu_time::thread_cpu_seconds;
+
 const PAIRS: [(u32, u32); 5] = [
     (44_100, 48_000),
     (192_000, 44_100),
@@ -66,12 +70,6 @@ fn stream(input: &[Vec<f32>], conv: &mut ChainConverter<f32>) -> usize {
     }
     black_box(&out);
     written
-}
-
-fn thread_cpu_seconds() -> Option<f64> {
-    let s = std::fs::read_to_string("/proc/thread-self/schedstat").ok()?;
-    let ns: f64 = s.split_whitespace().next()?.parse().ok()?;
-    Some(ns * 1e-9)
 }
 
 /// Seconds per call of `f`, CPU time of this thread: best of three, each at least 300 ms.

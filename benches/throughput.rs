@@ -14,6 +14,10 @@ use std::time::{Duration, Instant};
 use criterion::{BenchmarkId, Criterion, Throughput};
 use resample_core::{offline, Design, FilterSpec, Kernel, StreamConverter};
 
+#[path = "cpu_time.rs"]
+mod cpu_time;
+use cpu_time::thread_cpu_seconds;
+
 const PAIRS: [(u32, u32); 3] = [(44_100, 48_000), (48_000, 44_100), (44_100, 16_000)];
 const DBS: [f64; 2] = [100.0, 140.0];
 const SECONDS: usize = 10;
@@ -60,12 +64,6 @@ fn stream(design: &Design, input: &[Vec<f32>], conv: &mut StreamConverter<f32>) 
     black_box(&out);
     let _ = design;
     written
-}
-
-fn thread_cpu_seconds() -> Option<f64> {
-    let s = std::fs::read_to_string("/proc/thread-self/schedstat").ok()?;
-    let ns: f64 = s.split_whitespace().next()?.parse().ok()?;
-    Some(ns * 1e-9)
 }
 
 /// Seconds per call of `f`: best of three measurements, each repeating `f` for at least
