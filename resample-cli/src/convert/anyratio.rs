@@ -104,6 +104,16 @@ pub fn route(
     if !settings.clock.is_zero() {
         return Some(Why::Clock(settings.clock));
     }
+    // Most pairs fit the table budget whatever the design turns out to be: then the fixed
+    // engine designs its filter while the input is being read. Only the others are designed
+    // here, before reading.
+    let spec = resample_core::FilterSpec::new(in_rate, settings.out_rate)
+        .stopband_db(stopband_db)
+        .passband(settings.passband)
+        .phase(settings.phase);
+    if spec.surely_fits_table_budget() {
+        return None;
+    }
     match designs.get(
         in_rate,
         settings.out_rate,

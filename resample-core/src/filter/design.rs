@@ -75,6 +75,49 @@ impl FilterSpec {
         design_kaiser(pair, *self)
     }
 
+    /// Whether [`FilterSpec::design`] surely cannot fail with [`Error::TableTooLarge`],
+    /// known without designing: `true` when the group table of the longest prototype the
+    /// design search may try for this rate pair and passband (the one Kaiser's formulas give
+    /// for the highest attenuation the search asks for) takes at most half the table budget
+    /// (the half covers the layout's dependence on the prototype's delay, which a
+    /// minimum-phase design moves). `false` means the design may or may not fit: only
+    /// designing tells. Invalid specs give `false` (designing reports why).
+    ///
+    /// A program that picks another engine for pairs over the budget can ask this first and
+    /// start reading its input while the filter is designed.
+    ///
+    /// ```
+    /// use resample_core::FilterSpec;
+    /// assert!(FilterSpec::new(44_100, 48_000).stopband_db(140.0).surely_fits_table_budget());
+    /// // 44100 -> 48001 has 48001 phases: its table may not fit.
+    /// assert!(!FilterSpec::new(44_100, 48_001).surely_fits_table_budget());
+    /// ```
+    pub fn surely_fits_table_budget(&self) -> bool {
+        let Ok(pair) = RatePair::new(self.in_rate(), self.out_rate()) else {
+            return false;
+        };
+        if !(MIN_STOPBAND_DB..=MAX_STOPBAND_DB).contains(&self.stopband_db)
+            || !(MIN_PASSBAND..=MAX_PASSBAND).contains(&self.passband)
+        {
+            return false;
+        }
+        if pair.is_identity() {
+            return true;
+        }
+        let nyq = pair.lower_nyquist();
+        let up = u64::from(pair.up());
+        let proto_rate = f64::from(pair.in_rate()) * up as f64;
+        let width = (nyq - self.passband * nyq) / (proto_rate / 2.0);
+        // The search gives up once its target passes MAX_STOPBAND_DB + 60 dB; its first
+        // target is the largest request plus the first attempt's margins.
+        let highest =
+            (MAX_STOPBAND_DB + 60.0).max(first_target(MAX_STOPBAND_DB + SURROGATE_MARGIN_DB));
+        let (taps, _) = kaiser_length(highest, width);
+        let half = taps / 2;
+        let bytes = table_bytes(2 * half + 1, up, pair.down().into(), half, 8);
+        bytes <= self.table_budget / 2
+    }
+
     /// Check the spec and check a prototype of the caller's own instead of designing one:
     /// `taps` at rate `L * in_rate` (L the reduced up factor of the rate pair), unity DC gain
     /// expected, `delay` the tap through which output 0 is aligned with input 0 (the centre,
@@ -706,6 +749,47 @@ mod tests {
             .table_budget_bytes(1000)
             .design();
         assert!(matches!(r, Err(Error::TableTooLarge { .. })));
+    }
+
+    #[test]
+    fn surely_fits_is_never_wrong() {
+        // For budgets around each design's real table size: whenever the bound says the
+        // table surely fits, designing never fails on the budget; and far above the real
+        // size it does say so (the bound is not uselessly loose).
+        let pairs = [
+            (44_100, 48_000),
+            (48_000, 44_100),
+            (8_000, 11_025),
+            (96_000, 44_100),
+        ];
+        for (i, o) in pairs {
+            for db in [60.0, 140.0] {
+                for phase in [Phase::Linear, Phase::Minimum] {
+                    let spec = FilterSpec::new(i, o).stopband_db(db).phase(phase);
+                    let real = spec.design().unwrap().report().table_bytes_f64;
+                    for budget in [real / 2, real, real * 2, real * 4, real * 8, real * 64] {
+                        let s = spec.table_budget_bytes(budget);
+                        if s.surely_fits_table_budget() {
+                            let r = s.design();
+                            assert!(
+                                !matches!(r, Err(Error::TableTooLarge { .. })),
+                                "{i} -> {o} {db} dB {phase:?} budget {budget}: {r:?}"
+                            );
+                        }
+                    }
+                    assert!(
+                        spec.table_budget_bytes(real * 64)
+                            .surely_fits_table_budget(),
+                        "{i} -> {o} {db} dB {phase:?}"
+                    );
+                }
+            }
+        }
+        assert!(!FilterSpec::new(44_100, 48_001).surely_fits_table_budget());
+        assert!(!FilterSpec::new(44_100, 48_000)
+            .stopband_db(5.0)
+            .surely_fits_table_budget());
+        assert!(FilterSpec::new(48_000, 48_000).surely_fits_table_budget());
     }
 
     #[test]
