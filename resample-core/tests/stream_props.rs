@@ -108,6 +108,34 @@ proptest! {
         prop_assert!(again.iter().zip(&want).all(|(p, q)| p.to_bits() == q.to_bits()));
     }
 
+    /// One infinite input sample spoils only the outputs whose window holds it: fed as
+    /// callbacks of any size, every output further than two filter lengths from it is
+    /// finite (the room past the newest input the groups read must hold zeros, never a
+    /// stale copy of an earlier input moved along with the history).
+    #[test]
+    fn a_bad_sample_stays_where_it_is(
+        pair in 0usize..common::PAIRS.len() - 1,
+        at in 0usize..6000,
+        chunks in proptest::collection::vec(1usize..300, 1..6),
+        outs in proptest::collection::vec(1usize..300, 1..6),
+    ) {
+        let (a, b) = common::PAIRS[pair];
+        let d = common::design_phase(a, b, 80.0, common::PHASES[0]);
+        let len = 12_000;
+        let mut x: Vec<f32> = noise(len, 7).iter().map(|&v| v as f32).collect();
+        x[at] = f32::INFINITY;
+        let mut conv = StreamConverter::<f32>::new(&d, 1).unwrap();
+        let y = stream_interleaved(&mut conv, &x, 1, &chunks, &outs);
+        // Output m sits at input time m a / b; the filter spans taps / L inputs around it.
+        let reach = 2.0 * (d.taps().len() as f64 / f64::from(d.pair().up()) + 64.0);
+        for (m, v) in y.iter().enumerate() {
+            let t = m as f64 * f64::from(a) / f64::from(b);
+            if (t - at as f64).abs() > reach {
+                prop_assert!(v.is_finite(), "output {} (input time {:.1}) is {}", m, t, v);
+            }
+        }
+    }
+
     /// Planar processing agrees bit for bit with interleaved processing.
     #[test]
     fn planar_equals_interleaved(

@@ -22,6 +22,8 @@ use crate::{Error, Result};
 
 /// Inputs handed to the kernel per call, at most.
 const BATCH: usize = 64;
+/// Channels handed to the kernel per call for the groups of a span cut by a run's ends.
+const PART: usize = 8;
 
 /// Values of the buffer a kernel call writes into (32 KB of `f64`); callers keep one and pass
 /// it to [`render`], so a short render call does not clear a fresh one.
@@ -111,6 +113,10 @@ pub(crate) fn render<T: Sample>(
     let mut xs: [&[T]; BATCH] = [&[]; BATCH];
     // Channel and first output of each input in the batch.
     let mut dst = [(0usize, 0u64); BATCH];
+    // The same for the groups of a span cut by the run's ends (a few channels a call: short
+    // arrays, cleared once per call of `render`).
+    let mut xc: [&[T]; PART] = [&[]; PART];
+    let mut dc = [(0usize, 0u64); PART];
     let mut ja = 0;
     while ja < n_groups {
         let jb = (ja + span_max).min(n_groups);
@@ -163,12 +169,10 @@ pub(crate) fn render<T: Sample>(
                 let start = ga as u64 * w;
                 let n = ((gb as u64 * w).min(period) - start) as usize;
                 let pw = (gb - ga) * lanes;
-                let most = (TMP / pw).clamp(1, BATCH);
+                let most = (TMP / pw).clamp(1, PART);
                 let mut c0 = 0;
                 while c0 < hist.channels {
                     let c1 = (c0 + most).min(hist.channels);
-                    let mut xc: [&[T]; BATCH] = [&[]; BATCH];
-                    let mut dc = [(0usize, 0u64); BATCH];
                     for (i, c) in (c0..c1).enumerate() {
                         xc[i] = window(table, hist, ga, gb, q, c)?;
                         dc[i] = (c, n0 + start);

@@ -73,6 +73,9 @@ pub struct StreamConverter<T> {
     base: i64,
     /// Valid samples per channel buffer.
     fill: usize,
+    /// Samples `fill..zeroed` of every channel buffer are known to be zero (the room past
+    /// the newest input that groups read is cleared only where it is not).
+    zeroed: usize,
     /// Input frames received.
     n_in: u64,
     /// Output frames produced.
@@ -117,6 +120,7 @@ impl<T: Sample> StreamConverter<T> {
             periods,
             base: 0,
             fill: 0,
+            zeroed: 0,
             n_in: 0,
             n_out: 0,
             next_i: 0,
@@ -135,6 +139,7 @@ impl<T: Sample> StreamConverter<T> {
         }
         self.base = -(hist as i64);
         self.fill = hist;
+        self.zeroed = hist;
         self.n_in = 0;
         self.n_out = 0;
         self.next_i = self.table.delay() / self.table.up();
@@ -416,6 +421,7 @@ impl<T: Sample> StreamConverter<T> {
             }
             load(&mut self.hist, self.stride, self.fill, read, take);
             self.fill += take;
+            self.zeroed = self.zeroed.max(self.fill);
             self.n_in += take as u64;
             read += take;
         }
@@ -437,10 +443,13 @@ impl<T: Sample> StreamConverter<T> {
             return;
         }
         let drop = (rel as usize).min(self.fill);
+        // The known zeros past the input move along with it.
+        let zeroed = self.zeroed.max(self.fill);
         for b in self.hist.chunks_exact_mut(self.stride) {
-            b.copy_within(drop..self.fill, 0);
+            b.copy_within(drop..zeroed, 0);
         }
         self.fill -= drop;
+        self.zeroed = zeroed - drop;
         self.base += drop as i64;
         if self.fill == 0 {
             self.base = start;
@@ -473,10 +482,12 @@ impl<T: Sample> StreamConverter<T> {
                 let end = self.base + self.fill as i64;
                 let need = (self.next_i as i64 + 1 - end).max(0) as usize;
                 let k = need.min(self.cap - self.fill);
+                let from = self.zeroed.max(self.fill);
                 for b in self.hist.chunks_exact_mut(self.stride) {
-                    b[self.fill..self.fill + k].fill(T::zero());
+                    b[from.min(self.fill + k)..self.fill + k].fill(T::zero());
                 }
                 self.fill += k;
+                self.zeroed = self.zeroed.max(self.fill);
                 continue;
             }
             // Outputs whose newest input is present: next_p + k M < (end - next_i) L.
@@ -488,10 +499,15 @@ impl<T: Sample> StreamConverter<T> {
             if n == 0 {
                 break; // cannot happen: next_i < end and max > done
             }
-            // Groups that stick out past the newest input read zeros there.
+            // Groups that stick out past the newest input read zeros there (cleared where
+            // not known to be zero already).
             let (fill, rows) = (self.fill, self.table.rows());
-            for b in self.hist.chunks_exact_mut(self.stride) {
-                b[fill..fill + rows].fill(T::zero());
+            if self.zeroed < fill + rows {
+                let from = self.zeroed.max(fill);
+                for b in self.hist.chunks_exact_mut(self.stride) {
+                    b[from..fill + rows].fill(T::zero());
+                }
+                self.zeroed = fill + rows;
             }
             let hist = History {
                 data: &self.hist,
