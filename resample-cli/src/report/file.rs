@@ -149,7 +149,7 @@ impl FileReport {
         );
         if let Some(a) = &self.any_ratio {
             text.push_str(&format!(
-                "\n  {} engine: {}; true input rate {} Hz, ratio {:.9}; {} phases, {} \
+                "\n  {} engine: {}\n  true input rate {} Hz, ratio {:.9}\n  table of {} phases, {} \
                  interpolation ({} dB error)",
                 crate::convert::ANY_RATIO_ENGINE,
                 a.why.words(),
