@@ -46,6 +46,11 @@ fn read_planar(path: &Path) -> Result<Planar> {
             }
         }
     }
+    // A header its writer never completed was read to the end of the file: say so, as
+    // `convert` does.
+    if let Some(w) = reader.header_warning() {
+        crate::report::print::err_line(&format!("rerate: warning: {}: {w}", path.display()));
+    }
     Ok(Planar {
         rate: info.sample_rate,
         channels,

@@ -332,6 +332,52 @@ fn grade_agrees_with_verify_and_fails_a_bad_converter() {
 }
 
 #[test]
+fn grade_of_an_unfinished_header_warns_and_measures_the_whole_file() {
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    let out = rerate(
+        d,
+        &["sweep", "--rate", "44.1k", "-o", "s.wav", "--seconds", "2"],
+    );
+    assert_eq!(out.status.code(), Some(0));
+    let (_, x) = read_wav(&d.join("s.wav"));
+    let design = FilterSpec::new(44_100, 48_000)
+        .stopband_db(100.0)
+        .design()
+        .unwrap();
+    write_wav(&d.join("done.wav"), 48_000, &offline::convert(&design, &x));
+    // The same file as a recorder that stopped before completing its header leaves it: the
+    // RIFF and data sizes still at the streaming marker.
+    let mut bytes = std::fs::read(d.join("done.wav")).unwrap();
+    bytes[4..8].copy_from_slice(&u32::MAX.to_le_bytes());
+    let data = bytes.windows(4).position(|w| w == b"data").unwrap();
+    bytes[data + 4..data + 8].copy_from_slice(&u32::MAX.to_le_bytes());
+    std::fs::write(d.join("open.wav"), &bytes).unwrap();
+    let args = |f: &'static str| {
+        [
+            "grade",
+            f,
+            "--source-rate",
+            "44.1k",
+            "--seconds",
+            "2",
+            "--json",
+        ]
+    };
+    let done = rerate(d, &args("done.wav"));
+    let open = rerate(d, &args("open.wav"));
+    assert_eq!(done.status.code(), Some(0));
+    assert_eq!(open.status.code(), Some(0));
+    assert!(String::from_utf8_lossy(&done.stderr).is_empty());
+    let err = String::from_utf8_lossy(&open.stderr);
+    assert!(
+        err.contains("warning: open.wav") && err.contains("completed"),
+        "{err}"
+    );
+    assert_eq!(json(&open)["rejection_db"], json(&done)["rejection_db"]);
+}
+
+#[test]
 fn grade_refuses_a_file_that_is_not_wav() {
     let dir = tempfile::tempdir().unwrap();
     std::fs::write(dir.path().join("junk.wav"), b"RIFF....not really").unwrap();
