@@ -461,16 +461,24 @@ fn cos_sin_sums(h: &[f64], w: f64, start: usize) -> (f64, f64) {
         }
         let mut zc: [f64; LANES] = std::array::from_fn(|i| c0 * offsets[i].1 - s0 * offsets[i].0);
         let mut zs: [f64; LANES] = std::array::from_fn(|i| s0 * offsets[i].1 + c0 * offsets[i].0);
-        for row in block.chunks(LANES) {
-            for (i, &x) in row.iter().enumerate() {
-                re[i] += x * zc[i];
-                im[i] += x * zs[i];
+        // Whole rows with a fixed trip count (the compiler keeps the lanes in vector
+        // registers), then the short last row: each lane's operations in the same order.
+        let rows = block.chunks_exact(LANES);
+        let last = rows.remainder();
+        for row in rows {
+            for i in 0..LANES {
+                re[i] += row[i] * zc[i];
+                im[i] += row[i] * zs[i];
             }
             for i in 0..LANES {
                 let nc = zc[i] * c8 - zs[i] * s8;
                 zs[i] = zs[i] * c8 + zc[i] * s8;
                 zc[i] = nc;
             }
+        }
+        for (i, &x) in last.iter().enumerate() {
+            re[i] += x * zc[i];
+            im[i] += x * zs[i];
         }
     }
     (re.iter().sum(), im.iter().sum())
