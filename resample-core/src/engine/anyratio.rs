@@ -6,7 +6,8 @@
 //! contract as [`crate::StreamConverter`].
 
 use super::stream::{check_interleaved, load_interleaved};
-use crate::kernel::{Blend, Kernel, KernelFns, Sample};
+use crate::kernel::glide::cubic_coefficients;
+use crate::kernel::{glide_block_len, glide_chunk, GlideRun, Kernel, KernelFns, Sample};
 use crate::limits::{MAX_GLIDE_RATIO, MIN_GLIDE_RATIO};
 use crate::{Error, GlideDesign, Interpolation, Progress, Result};
 
@@ -16,6 +17,9 @@ const FLAT_PAD: usize = 4;
 
 /// Input frames buffered per channel beyond the kernel's widest span.
 const BLOCK: usize = 4096;
+
+/// Outputs computed by one call of the kernels' run ([`KernelFns::glide_run`]).
+const RUN: usize = 64;
 
 /// Where the next output falls on the input's time axis, and how fast it moves: the state
 /// every output's position is computed from, advanced by the same operations whatever the
@@ -114,9 +118,19 @@ impl Shape {
     /// (no stretching).
     #[inline]
     fn rows_span(&self, c: &Clock) -> (i64, usize) {
-        let s = c.frac * self.phases as f64 + self.half;
-        let whole = self.split(s as i64).0; // s >= 0
+        let (whole, _, _) = self.position(c);
         (c.int + whole - (self.cols as i64 - 1), self.cols)
+    }
+
+    /// Where the output at `clock` falls in the table read without stretching: whole input
+    /// samples past `clock.int` of its newest input, the phase interval (between phases
+    /// `p` and `p + 1`) and the position in it (0 to 1).
+    #[inline(always)]
+    fn position(&self, c: &Clock) -> (i64, usize, f64) {
+        let s = c.frac * self.phases as f64 + self.half;
+        let whole = trunc_floor(s); // s >= 0
+        let (q, phase) = self.split(whole as i64);
+        (q, phase, s - whole)
     }
 
     /// First input index and count of the inputs the output at `clock` reads with the kernel
@@ -134,38 +148,59 @@ impl Shape {
     }
 }
 
-/// A table's rows in `T` as the converter reads them: row `r` at
-/// `data[row0 + r stride..][..cols]`, each row starting on a 64-byte boundary (when the
-/// allocation allows) so that the kernels' loads of taps do not straddle cache lines.
+/// A table in `T` as the converter reads it: the coefficient layout of the kernels' runs
+/// ([`GlideRun`]): phase interval `p` (between phases `p` and `p + 1`) at
+/// `data[row0 + p block..][..block]`, polynomial coefficients in the position between the
+/// two phases (linear: the phase's taps and the difference to the next; cubic: the
+/// Lagrange cubic through phases `p - 1 .. p + 2` in powers of the position, C. W. Farrow,
+/// "A continuously variable digital delay element", Proc. IEEE ISCAS 1988), each block
+/// starting on a 64-byte boundary (when the allocation allows).
 #[derive(Debug, Clone)]
 struct Table<T> {
     data: Vec<T>,
     row0: usize,
-    stride: usize,
+    block: usize,
     shape: Shape,
 }
 
 impl<T: Sample> Table<T> {
-    /// Lay out `rows` (`phases + 3` rows of `shape.cols` taps).
+    /// Lay out `rows` (`phases + 3` rows of `shape.cols` taps, row `r` holding phase `r - 1`)
+    /// as blocks of coefficients.
     fn new(rows: &[f64], shape: Shape) -> Self {
         let cols = shape.cols;
-        let per_line = (64 / core::mem::size_of::<T>()).max(1);
-        let stride = cols.next_multiple_of(per_line);
-        let mut data = vec![T::zero(); (shape.phases + 3) * stride + per_line];
+        let order = shape.interp.order();
+        let chunk = glide_chunk::<T>();
+        let block = glide_block_len::<T>(cols, order);
+        let mut data = vec![T::zero(); shape.phases * block + chunk];
         let misalign = (data.as_ptr() as usize % 64) / core::mem::size_of::<T>();
-        let row0 = (per_line - misalign) % per_line;
-        for (dst, src) in data[row0..]
-            .chunks_exact_mut(stride)
-            .zip(rows.chunks_exact(cols))
+        let row0 = (chunk - misalign) % chunk;
+        let row = |r: usize, w: usize| rows[r * cols + w];
+        for (p, dst) in data[row0..]
+            .chunks_exact_mut(block)
+            .take(shape.phases)
+            .enumerate()
         {
-            for (d, &v) in dst.iter_mut().zip(src) {
-                *d = T::from_f64_lossy(v);
+            for w in 0..cols {
+                let at = (w / chunk) * (order + 1) * chunk + w % chunk;
+                let c: [f64; 4] = match shape.interp {
+                    // Rows p + 1 and p + 2 hold phases p and p + 1.
+                    Interpolation::Linear => {
+                        let (y0, y1) = (row(p + 1, w), row(p + 2, w));
+                        [y0, y1 - y0, 0.0, 0.0]
+                    }
+                    Interpolation::Cubic => {
+                        cubic_coefficients([row(p, w), row(p + 1, w), row(p + 2, w), row(p + 3, w)])
+                    }
+                };
+                for (r, &v) in c.iter().enumerate().take(order + 1) {
+                    dst[at + r * chunk] = T::from_f64_lossy(v);
+                }
             }
         }
         Self {
             data,
             row0,
-            stride,
+            block,
             shape,
         }
     }
@@ -222,8 +257,13 @@ pub struct GlideConverter<T> {
     keep_back: i64,
     /// The taps of one output.
     taps: Vec<T>,
-    /// One output of every channel.
-    chan: Vec<T>,
+    /// The run in preparation: per output its block in the table, its first input in
+    /// `hist` and its position between the block's phases; and the run's outputs
+    /// (`RUN` of every channel).
+    run_blocks: Vec<usize>,
+    run_starts: Vec<usize>,
+    run_fracs: Vec<T>,
+    run_out: Vec<T>,
     clock: Clock,
     start_step: f64,
     n_in: u64,
@@ -318,7 +358,10 @@ impl<T: Sample> GlideConverter<T> {
             fill: 0,
             keep_back: back as i64 + 1,
             taps: vec![T::zero(); widest],
-            chan: vec![T::zero(); channels],
+            run_blocks: vec![0; RUN],
+            run_starts: vec![0; RUN],
+            run_fracs: vec![T::zero(); RUN],
+            run_out: vec![T::zero(); RUN * channels],
             clock: Clock::new(1.0 / ratio),
             start_step: 1.0 / ratio,
             n_in: 0,
@@ -640,6 +683,64 @@ impl<T: Sample> GlideConverter<T> {
             }
             let ratio = self.clock.ratio();
             let table = pick(&self.main, &self.band, ratio);
+            if let Some(t) = table {
+                // A run of outputs read from this table, whose input is present: the
+                // taps of each interpolated once and shared by the channels (the kernels'
+                // run), the positions prepared here.
+                let limit = (max - done).min(RUN);
+                let mut k = 0;
+                let end_of_input = self.base + self.fill as i64;
+                while k < limit {
+                    let c = &self.clock;
+                    if self.flushing && c.int >= self.n_in as i64 {
+                        break;
+                    }
+                    // Without a glide the ratio, and so the table, stays (the first
+                    // output's was picked above).
+                    let gliding = c.done < c.frames;
+                    if gliding
+                        && k > 0
+                        && !pick(&self.main, &self.band, c.ratio())
+                            .is_some_and(|u| core::ptr::eq(u, t))
+                    {
+                        break;
+                    }
+                    let (q, phase, frac) = t.shape.position(c);
+                    let lo = c.int + q - (t.shape.cols as i64 - 1);
+                    if lo + t.shape.cols as i64 > end_of_input {
+                        break;
+                    }
+                    self.run_blocks[k] = t.row0 + phase * t.block;
+                    self.run_starts[k] = (lo - self.base) as usize;
+                    self.run_fracs[k] = T::from_f64_lossy(frac);
+                    k += 1;
+                    self.clock.advance();
+                }
+                if k > 0 {
+                    let run = GlideRun {
+                        table: &t.data,
+                        cols: t.shape.cols,
+                        order: t.shape.interp.order(),
+                        hist: &self.hist,
+                        stride: self.cap,
+                        channels: self.channels,
+                        blocks: &self.run_blocks[..k],
+                        starts: &self.run_starts[..k],
+                        fracs: &self.run_fracs[..k],
+                    };
+                    let ok = self.fns.glide_run(&run, &mut self.run_out).is_ok();
+                    debug_assert!(ok, "run sizes hold by construction");
+                    let ch = self.channels;
+                    for (i, o) in self.run_out.chunks_exact(ch).take(k).enumerate() {
+                        for (c, &v) in o.iter().enumerate() {
+                            store(done + i, c, v);
+                        }
+                    }
+                    done += k;
+                    self.n_out += k as u64;
+                    continue;
+                }
+            }
             let (lo, count) = match table {
                 Some(t) => t.shape.rows_span(&self.clock),
                 None => self.shape.stretched_span(&self.clock),
@@ -664,33 +765,14 @@ impl<T: Sample> GlideConverter<T> {
                 self.fill += k;
                 continue;
             }
+            if table.is_some() {
+                break; // cannot happen: a table's output with its input present ran above
+            }
             let from = (lo - self.base) as usize;
-            if let Some(t) = table {
-                // Taps between two or four rows: the rows' dot products with every
-                // channel, weighted (the kernels' blend), no taps written out.
-                let (r0, w) = rows_at(&t.shape, &self.clock);
-                let sh = t.shape;
-                let b = Blend {
-                    rows: &t.data[t.row0 + r0 * t.stride..],
-                    cols: sh.cols,
-                    row_stride: t.stride,
-                    points: sh.interp.points(),
-                    weights: w,
-                    hist: &self.hist[from..],
-                    stride: self.cap,
-                    channels: self.channels,
-                };
-                let ok = self.fns.blend(&b, &mut self.chan).is_ok();
-                debug_assert!(ok, "blend sizes hold by construction");
-                for (c, &v) in self.chan.iter().enumerate() {
-                    store(done, c, v);
-                }
-            } else {
-                self.fill_taps(count);
-                let taps = &self.taps[..count];
-                for (c, b) in self.hist.chunks_exact(self.cap).enumerate() {
-                    store(done, c, self.fns.dot(taps, &b[from..from + count]));
-                }
+            self.fill_taps(count);
+            let taps = &self.taps[..count];
+            for (c, b) in self.hist.chunks_exact(self.cap).enumerate() {
+                store(done, c, self.fns.dot(taps, &b[from..from + count]));
             }
             done += 1;
             self.n_out += 1;
@@ -756,18 +838,6 @@ fn pick<'a, T>(
         Some((t, lo, hi)) if ratio >= *lo && ratio <= *hi => Some(t),
         _ => None,
     }
-}
-
-/// The first row and the interpolation weights of the output at `c` in a table of shape
-/// `sh` read without stretching.
-#[inline]
-fn rows_at<T: Sample>(sh: &Shape, c: &Clock) -> (usize, [T; 4]) {
-    let s = c.frac * sh.phases as f64 + sh.half;
-    let whole = trunc_floor(s);
-    let phase = sh.split(whole as i64).1;
-    let w = sh.interp.weights(s - whole).map(T::from_f64_lossy);
-    // Row r holds phase r - 1.
-    (phase + 1 - sh.interp.first(), w)
 }
 
 /// `floor(x)` for `0 <= x < 2^63` by truncation (an instruction, where `f64::floor` may be a
