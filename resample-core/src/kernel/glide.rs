@@ -167,6 +167,8 @@ macro_rules! glide_kernels {
             /// The CPU supports `$feat`; `g.fits(out.len())`; `g.order == O`;
             /// `c0 + C <= g.channels`.
             #[target_feature(enable = $feat)]
+            // One vector per chunk for 512-bit vectors: `v % S` is then always 0.
+            #[allow(clippy::modulo_one)]
             unsafe fn run_impl<const O: usize, const C: usize>(
                 g: &GlideRun<'_, $t>,
                 c0: usize,

@@ -2,11 +2,15 @@
 //! SIMD versions for x86_64 (AVX2 + FMA, AVX-512F) and aarch64 (NEON), and the choice of
 //! kernel, made once when a converter is built and stored with it as function pointers.
 //!
-//! A kernel has three entry points for each sample type:
+//! A kernel has four entry points for each sample type:
 //!
 //! * a single dot product ([`DotFn`]),
-//! * the any-ratio engine's *blend* ([`KernelFns::blend`]): the dot products of two or four
-//!   table rows with each channel's inputs, weighted by the interpolation between them, and
+//! * the any-ratio engine's *runs* ([`KernelFns::glide_run`], `glide.rs`): for each of
+//!   several outputs its taps interpolated once from a table of polynomial coefficients,
+//!   then shared by every channel's dot product (what the engine uses),
+//! * the *blend* ([`KernelFns::blend`]): the dot products of two or four table rows with
+//!   each channel's inputs, weighted by the interpolation between them (the engine's
+//!   earlier path, kept for comparison), and
 //! * *groups*: consecutive groups of a [`crate::table::GroupTable`] (a vector of taps per
 //!   input sample, one lane per output) against several inputs ([`KernelFns::span`], the
 //!   converters' inner loop; [`KernelFns::groups`] for one group). Each input sample is
