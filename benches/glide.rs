@@ -1,5 +1,6 @@
 //! Cost per output frame of the any-ratio converter (`GlideConverter`) against the fixed
-//! engine (`StreamConverter`) at the same stopband, in the same run: stereo interleaved,
+//! engine (`StreamConverter`) at the same stopband, in the same run: stereo (and, in the
+//! summary, mono) interleaved,
 //! `f32` and `f64`, blocks of 4096 input frames, 44.1 kHz -> 48 kHz x (1 + 100 ppm) (ratio
 //! above 1: taps between two or four table rows) and 48 kHz -> 44.1 kHz x (1 - 250 ppm)
 //! (ratio below 1, a drifting clock: the table of the nominal ratio's band), at 100 and
@@ -24,14 +25,13 @@ use resample_core::{FilterSpec, GlideConverter, Kernel, Sample, StreamConverter}
 mod cpu_time;
 use cpu_time::thread_cpu_seconds;
 
-const CHANNELS: usize = 2;
 const BLOCK: usize = 4096;
 /// (input rate, output rate, ppm the output clock runs fast).
 const CASES: [(u32, u32, f64); 2] = [(44_100, 48_000, 100.0), (48_000, 44_100, -250.0)];
 const DBS: [f64; 2] = [100.0, 140.0];
 
-fn input<T: Sample>() -> Vec<T> {
-    (0..BLOCK * CHANNELS)
+fn input<T: Sample>(channels: usize) -> Vec<T> {
+    (0..BLOCK * channels)
         .map(|k| T::from_f64_lossy(0.3 * (0.01 * k as f64).sin()))
         .collect()
 }
@@ -60,7 +60,7 @@ struct Pair<T> {
     x: Vec<T>,
 }
 
-fn pair<T: Sample>(a: u32, b: u32, ppm: f64, db: f64) -> (Pair<T>, String) {
+fn pair<T: Sample>(a: u32, b: u32, ppm: f64, db: f64, channels: usize) -> (Pair<T>, String) {
     let spec = FilterSpec::new(a, b).stopband_db(db);
     let fixed = spec.design().expect("design");
     let glide = spec.design_glide().expect("glide design");
@@ -88,8 +88,8 @@ fn pair<T: Sample>(a: u32, b: u32, ppm: f64, db: f64) -> (Pair<T>, String) {
         "fixed {} taps per phase; any-ratio at {ratio:.7}: {table}",
         fixed.report().taps_per_phase
     );
-    let fixed = StreamConverter::<T>::new(&fixed, CHANNELS).expect("converter");
-    let glide = GlideConverter::<T>::with_kernel(&glide, CHANNELS, ratio, Kernel::detect())
+    let fixed = StreamConverter::<T>::new(&fixed, channels).expect("converter");
+    let glide = GlideConverter::<T>::with_kernel(&glide, channels, ratio, Kernel::detect())
         .expect("converter");
     let n = fixed
         .max_output_frames(BLOCK)
@@ -98,8 +98,8 @@ fn pair<T: Sample>(a: u32, b: u32, ppm: f64, db: f64) -> (Pair<T>, String) {
     let p = Pair {
         fixed,
         glide,
-        out: vec![T::zero(); n * CHANNELS],
-        x: input(),
+        out: vec![T::zero(); n * channels],
+        x: input(channels),
     };
     (p, about)
 }
@@ -122,17 +122,18 @@ impl<T: Sample> Pair<T> {
     }
 }
 
-fn summary<T: Sample>(name: &str) {
+fn summary<T: Sample>(name: &str, channels: usize) {
+    let layout = if channels == 1 { "mono" } else { "stereo" };
     for (a, b, ppm) in CASES {
         for db in DBS {
-            let (mut p, about) = pair::<T>(a, b, ppm, db);
+            let (mut p, about) = pair::<T>(a, b, ppm, db, channels);
             let (mut f, mut g) = (f64::INFINITY, f64::INFINITY);
             for _ in 0..3 {
                 f = f.min(secs_per_output(|| p.run_fixed()));
                 g = g.min(secs_per_output(|| p.run_glide()));
             }
             println!(
-                "{name} {a} -> {b} x (1 {ppm:+} ppm) {db} dB: fixed {:.2} ns, any-ratio {:.2} ns \
+                "{name} {layout} {a} -> {b} x (1 {ppm:+} ppm) {db} dB: fixed {:.2} ns, any-ratio {:.2} ns \
                  per output frame: {:.2}x  ({about})",
                 1e9 * f,
                 1e9 * g,
@@ -150,7 +151,7 @@ fn bench<T: Sample>(c: &mut Criterion, name: &str) {
         .measurement_time(Duration::from_secs(3));
     for (a, b, ppm) in CASES {
         for db in DBS {
-            let (mut p, _) = pair::<T>(a, b, ppm, db);
+            let (mut p, _) = pair::<T>(a, b, ppm, db, 2);
             let frames_out = (BLOCK as u64 * u64::from(b)) / u64::from(a);
             group.throughput(Throughput::Elements(frames_out));
             let id = format!("{a}-{b}-{ppm:+}ppm-{db}dB");
@@ -167,11 +168,13 @@ fn bench<T: Sample>(c: &mut Criterion, name: &str) {
 
 fn main() {
     println!(
-        "kernel: {}; cost per output frame, stereo, blocks of {BLOCK} input frames (CPU time)",
+        "kernel: {}; cost per output frame, blocks of {BLOCK} input frames (CPU time)",
         Kernel::detect().name()
     );
-    summary::<f32>("f32");
-    summary::<f64>("f64");
+    summary::<f32>("f32", 2);
+    summary::<f64>("f64", 2);
+    summary::<f32>("f32", 1);
+    summary::<f64>("f64", 1);
     if std::env::var_os("RERATE_SUMMARY_ONLY").is_some() {
         return;
     }

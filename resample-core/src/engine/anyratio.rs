@@ -6,7 +6,8 @@
 //! contract as [`crate::StreamConverter`].
 
 use super::stream::{check_interleaved, load_interleaved};
-use crate::kernel::{Blend, Kernel, KernelFns, Sample};
+use crate::kernel::glide::cubic_coefficients;
+use crate::kernel::{glide_block_len, glide_chunk, GlideRun, Kernel, KernelFns, Sample};
 use crate::limits::{MAX_GLIDE_RATIO, MIN_GLIDE_RATIO};
 use crate::{Error, GlideDesign, Interpolation, Progress, Result};
 
@@ -17,17 +18,28 @@ const FLAT_PAD: usize = 4;
 /// Input frames buffered per channel beyond the kernel's widest span.
 const BLOCK: usize = 4096;
 
+/// Outputs computed by one call of the kernels' run ([`KernelFns::glide_run`]).
+const RUN: usize = 64;
+
+/// `2^-64`: the unit of the clock's fixed-point fractions.
+const FRAC_UNIT: f64 = 1.0 / 18_446_744_073_709_551_616.0;
+
 /// Where the next output falls on the input's time axis, and how fast it moves: the state
 /// every output's position is computed from, advanced by the same operations whatever the
-/// chunking.
+/// chunking. The position and the increment are held in fixed point (whole input samples
+/// and a 64-bit fraction), so that an advance is an integer addition with carry and not a
+/// chain of floating-point roundings and conversions from one output to the next.
 #[derive(Debug, Clone, Copy, PartialEq)]
 struct Clock {
     /// Whole input samples of the next output's time.
     int: i64,
-    /// Fraction of an input sample, `0 <= frac < 1`.
-    frac: f64,
+    /// Fraction of an input sample, units of `2^-64`.
+    frac: u64,
     /// Input samples per output (the phase increment) of the next step.
     step: f64,
+    /// `step` in fixed point: whole samples and fraction (units of `2^-64`).
+    step_int: i64,
+    step_frac: u64,
     /// Increment at the start of the glide in progress.
     from: f64,
     /// Increment at its end.
@@ -37,12 +49,27 @@ struct Clock {
     frames: u64,
 }
 
+/// An increment (`0 < step <= 16`) in fixed point: whole samples and fraction.
+#[inline]
+fn fixed(step: f64) -> (i64, u64) {
+    let whole = trunc_floor(step);
+    // `(step - whole) 2^64` is below 2^64 (saturating at the top for a fraction that
+    // rounds up to it).
+    (
+        whole as i64,
+        ((step - whole) * 18_446_744_073_709_551_616.0) as u64,
+    )
+}
+
 impl Clock {
     fn new(step: f64) -> Self {
+        let (step_int, step_frac) = fixed(step);
         Self {
             int: 0,
-            frac: 0.0,
+            frac: 0,
             step,
+            step_int,
+            step_frac,
             from: step,
             to: step,
             done: 0,
@@ -50,20 +77,33 @@ impl Clock {
         }
     }
 
+    /// Set the increment (and its fixed-point form).
+    #[inline]
+    fn set_step(&mut self, step: f64) {
+        self.step = step;
+        (self.step_int, self.step_frac) = fixed(step);
+    }
+
+    /// The fraction of an input sample as a float (0 to 1).
+    #[inline]
+    fn frac_f64(&self) -> f64 {
+        self.frac as f64 * FRAC_UNIT
+    }
+
     /// Move to the next output.
     #[inline]
     fn advance(&mut self) {
-        let t = self.frac + self.step;
-        let whole = trunc_floor(t);
-        self.int += whole as i64;
-        self.frac = t - whole;
+        let (frac, carry) = self.frac.overflowing_add(self.step_frac);
+        self.frac = frac;
+        self.int += self.step_int + i64::from(carry);
         if self.done < self.frames {
             self.done += 1;
-            self.step = if self.done == self.frames {
+            let step = if self.done == self.frames {
                 self.to
             } else {
                 self.from + (self.to - self.from) * (self.done as f64 / self.frames as f64)
             };
+            self.set_step(step);
         }
     }
 
@@ -81,32 +121,22 @@ struct Shape {
     half: f64,
     len: f64,
     interp: Interpolation,
-    /// `1 / phases`.
-    inv_phases: f64,
+    /// `half` as whole input samples and phases: `half = half_q phases + half_r`.
+    half_q: i64,
+    half_r: usize,
 }
 
 impl Shape {
-    /// `(q div P, q mod P)` for `q >= 0`: a shift and a mask, P being a power of two in
-    /// every table designed (a division otherwise).
-    #[inline(always)]
-    fn split(&self, q: i64) -> (i64, usize) {
-        if self.phases.is_power_of_two() {
-            let shift = self.phases.trailing_zeros();
-            (q >> shift, (q as usize) & (self.phases - 1))
-        } else {
-            // A band table's N: the quotient from a floating-point product, corrected by
-            // one step either way (q is far below 2^52), instead of an integer division.
-            let p = self.phases as i64;
-            let mut d = (q as f64 * self.inv_phases) as i64;
-            let mut r = q - d * p;
-            if r < 0 {
-                d -= 1;
-                r += p;
-            } else if r >= p {
-                d += 1;
-                r -= p;
-            }
-            (d, r as usize)
+    /// The geometry of a table of `phases` phases, prototype `len` taps, centre tap `half`.
+    fn new(phases: usize, cols: usize, half: usize, len: usize, interp: Interpolation) -> Self {
+        Self {
+            phases,
+            cols,
+            half: half as f64,
+            len: len as f64,
+            interp,
+            half_q: (half / phases) as i64,
+            half_r: half % phases,
         }
     }
 
@@ -114,9 +144,25 @@ impl Shape {
     /// (no stretching).
     #[inline]
     fn rows_span(&self, c: &Clock) -> (i64, usize) {
-        let s = c.frac * self.phases as f64 + self.half;
-        let whole = self.split(s as i64).0; // s >= 0
+        let (whole, _, _) = self.position(c);
         (c.int + whole - (self.cols as i64 - 1), self.cols)
+    }
+
+    /// Where the output at `clock` falls in the table read without stretching: whole input
+    /// samples past `clock.int` of its newest input, the phase interval (between phases
+    /// `p` and `p + 1`) and the position in it (0 to 1).
+    #[inline(always)]
+    fn position(&self, c: &Clock) -> (i64, usize, f64) {
+        // frac P + half: the product's high word is the phase below the position (below
+        // P), its low word the position past it; then the centre tap added.
+        let m = u128::from(c.frac) * self.phases as u128;
+        let below = (m >> 64) as usize + self.half_r;
+        let at = (m as u64) as f64 * FRAC_UNIT;
+        if below >= self.phases {
+            (self.half_q + 1, below - self.phases, at)
+        } else {
+            (self.half_q, below, at)
+        }
     }
 
     /// First input index and count of the inputs the output at `clock` reads with the kernel
@@ -128,44 +174,66 @@ impl Shape {
         let scale = rho * self.phases as f64;
         // The first is negative (ceil = truncation), the second positive (floor =
         // truncation): no library call per output.
-        let lo = (c.frac - (self.len + 1.0 - self.half) / scale) as i64;
-        let hi = (c.frac + (self.half + 2.0) / scale) as i64;
+        let frac = c.frac_f64();
+        let lo = (frac - (self.len + 1.0 - self.half) / scale) as i64;
+        let hi = (frac + (self.half + 2.0) / scale) as i64;
         (c.int + lo, (hi - lo + 1).max(0) as usize)
     }
 }
 
-/// A table's rows in `T` as the converter reads them: row `r` at
-/// `data[row0 + r stride..][..cols]`, each row starting on a 64-byte boundary (when the
-/// allocation allows) so that the kernels' loads of taps do not straddle cache lines.
+/// A table in `T` as the converter reads it: the coefficient layout of the kernels' runs
+/// ([`GlideRun`]): phase interval `p` (between phases `p` and `p + 1`) at
+/// `data[row0 + p block..][..block]`, polynomial coefficients in the position between the
+/// two phases (linear: the phase's taps and the difference to the next; cubic: the
+/// Lagrange cubic through phases `p - 1 .. p + 2` in powers of the position, C. W. Farrow,
+/// "A continuously variable digital delay element", Proc. IEEE ISCAS 1988), each block
+/// starting on a 64-byte boundary (when the allocation allows).
 #[derive(Debug, Clone)]
 struct Table<T> {
     data: Vec<T>,
     row0: usize,
-    stride: usize,
+    block: usize,
     shape: Shape,
 }
 
 impl<T: Sample> Table<T> {
-    /// Lay out `rows` (`phases + 3` rows of `shape.cols` taps).
+    /// Lay out `rows` (`phases + 3` rows of `shape.cols` taps, row `r` holding phase `r - 1`)
+    /// as blocks of coefficients.
     fn new(rows: &[f64], shape: Shape) -> Self {
         let cols = shape.cols;
-        let per_line = (64 / core::mem::size_of::<T>()).max(1);
-        let stride = cols.next_multiple_of(per_line);
-        let mut data = vec![T::zero(); (shape.phases + 3) * stride + per_line];
+        let order = shape.interp.order();
+        let chunk = glide_chunk::<T>();
+        let block = glide_block_len::<T>(cols, order);
+        let mut data = vec![T::zero(); shape.phases * block + chunk];
         let misalign = (data.as_ptr() as usize % 64) / core::mem::size_of::<T>();
-        let row0 = (per_line - misalign) % per_line;
-        for (dst, src) in data[row0..]
-            .chunks_exact_mut(stride)
-            .zip(rows.chunks_exact(cols))
+        let row0 = (chunk - misalign) % chunk;
+        let row = |r: usize, w: usize| rows[r * cols + w];
+        for (p, dst) in data[row0..]
+            .chunks_exact_mut(block)
+            .take(shape.phases)
+            .enumerate()
         {
-            for (d, &v) in dst.iter_mut().zip(src) {
-                *d = T::from_f64_lossy(v);
+            for w in 0..cols {
+                let at = (w / chunk) * (order + 1) * chunk + w % chunk;
+                let c: [f64; 4] = match shape.interp {
+                    // Rows p + 1 and p + 2 hold phases p and p + 1.
+                    Interpolation::Linear => {
+                        let (y0, y1) = (row(p + 1, w), row(p + 2, w));
+                        [y0, y1 - y0, 0.0, 0.0]
+                    }
+                    Interpolation::Cubic => {
+                        cubic_coefficients([row(p, w), row(p + 1, w), row(p + 2, w), row(p + 3, w)])
+                    }
+                };
+                for (r, &v) in c.iter().enumerate().take(order + 1) {
+                    dst[at + r * chunk] = T::from_f64_lossy(v);
+                }
             }
         }
         Self {
             data,
             row0,
-            stride,
+            block,
             shape,
         }
     }
@@ -222,8 +290,13 @@ pub struct GlideConverter<T> {
     keep_back: i64,
     /// The taps of one output.
     taps: Vec<T>,
-    /// One output of every channel.
-    chan: Vec<T>,
+    /// The run in preparation: per output its block in the table, its first input in
+    /// `hist` and its position between the block's phases; and the run's outputs
+    /// (`RUN` of every channel).
+    run_blocks: Vec<usize>,
+    run_starts: Vec<usize>,
+    run_fracs: Vec<T>,
+    run_out: Vec<T>,
     clock: Clock,
     start_step: f64,
     n_in: u64,
@@ -260,14 +333,13 @@ impl<T: Sample> GlideConverter<T> {
         }
         check_ratio(ratio)?;
         let fns = KernelFns::new(kernel)?;
-        let shape = Shape {
-            phases: design.phases(),
-            cols: design.cols(),
-            half: design.half() as f64,
-            len: design.len() as f64,
-            interp: design.report().interpolation,
-            inv_phases: 1.0 / design.phases() as f64,
-        };
+        let shape = Shape::new(
+            design.phases(),
+            design.cols(),
+            design.half(),
+            design.len(),
+            design.report().interpolation,
+        );
         // The widest span, at the smallest ratio.
         let scale = MIN_GLIDE_RATIO * shape.phases as f64;
         let back = ((shape.len + 1.0 - shape.half) / scale).ceil() as usize + 2;
@@ -295,14 +367,7 @@ impl<T: Sample> GlideConverter<T> {
         }
         let main = Table::new(design.rows(), shape);
         let band = design.band().map(|b| {
-            let shape = Shape {
-                phases: b.phases,
-                cols: b.cols,
-                half: b.half as f64,
-                len: b.len as f64,
-                interp: b.interp,
-                inv_phases: 1.0 / b.phases as f64,
-            };
+            let shape = Shape::new(b.phases, b.cols, b.half, b.len, b.interp);
             (Table::new(&b.rows, shape), b.lowest, b.highest)
         });
         let mut conv = Self {
@@ -318,7 +383,10 @@ impl<T: Sample> GlideConverter<T> {
             fill: 0,
             keep_back: back as i64 + 1,
             taps: vec![T::zero(); widest],
-            chan: vec![T::zero(); channels],
+            run_blocks: vec![0; RUN],
+            run_starts: vec![0; RUN],
+            run_fracs: vec![T::zero(); RUN],
+            run_out: vec![T::zero(); RUN * channels],
             clock: Clock::new(1.0 / ratio),
             start_step: 1.0 / ratio,
             n_in: 0,
@@ -378,7 +446,7 @@ impl<T: Sample> GlideConverter<T> {
         c.done = 0;
         c.frames = frames;
         if frames == 0 {
-            c.step = to;
+            c.set_step(to);
             c.from = to;
         }
         Ok(())
@@ -426,7 +494,7 @@ impl<T: Sample> GlideConverter<T> {
 
     /// Time of the next output, in input frames since the first input frame.
     pub fn next_output_time(&self) -> f64 {
-        self.clock.int as f64 + self.clock.frac
+        self.clock.int as f64 + self.clock.frac_f64()
     }
 
     /// Output frames that `input_frames` more input frames would make ready (before any
@@ -640,6 +708,64 @@ impl<T: Sample> GlideConverter<T> {
             }
             let ratio = self.clock.ratio();
             let table = pick(&self.main, &self.band, ratio);
+            if let Some(t) = table {
+                // A run of outputs read from this table, whose input is present: the
+                // taps of each interpolated once and shared by the channels (the kernels'
+                // run), the positions prepared here.
+                let limit = (max - done).min(RUN);
+                let mut k = 0;
+                let end_of_input = self.base + self.fill as i64;
+                while k < limit {
+                    let c = &self.clock;
+                    if self.flushing && c.int >= self.n_in as i64 {
+                        break;
+                    }
+                    // Without a glide the ratio, and so the table, stays (the first
+                    // output's was picked above).
+                    let gliding = c.done < c.frames;
+                    if gliding
+                        && k > 0
+                        && !pick(&self.main, &self.band, c.ratio())
+                            .is_some_and(|u| core::ptr::eq(u, t))
+                    {
+                        break;
+                    }
+                    let (q, phase, frac) = t.shape.position(c);
+                    let lo = c.int + q - (t.shape.cols as i64 - 1);
+                    if lo + t.shape.cols as i64 > end_of_input {
+                        break;
+                    }
+                    self.run_blocks[k] = t.row0 + phase * t.block;
+                    self.run_starts[k] = (lo - self.base) as usize;
+                    self.run_fracs[k] = T::from_f64_lossy(frac);
+                    k += 1;
+                    self.clock.advance();
+                }
+                if k > 0 {
+                    let run = GlideRun {
+                        table: &t.data,
+                        cols: t.shape.cols,
+                        order: t.shape.interp.order(),
+                        hist: &self.hist,
+                        stride: self.cap,
+                        channels: self.channels,
+                        blocks: &self.run_blocks[..k],
+                        starts: &self.run_starts[..k],
+                        fracs: &self.run_fracs[..k],
+                    };
+                    let ok = self.fns.glide_run(&run, &mut self.run_out).is_ok();
+                    debug_assert!(ok, "run sizes hold by construction");
+                    let ch = self.channels;
+                    for (i, o) in self.run_out.chunks_exact(ch).take(k).enumerate() {
+                        for (c, &v) in o.iter().enumerate() {
+                            store(done + i, c, v);
+                        }
+                    }
+                    done += k;
+                    self.n_out += k as u64;
+                    continue;
+                }
+            }
             let (lo, count) = match table {
                 Some(t) => t.shape.rows_span(&self.clock),
                 None => self.shape.stretched_span(&self.clock),
@@ -664,33 +790,14 @@ impl<T: Sample> GlideConverter<T> {
                 self.fill += k;
                 continue;
             }
+            if table.is_some() {
+                break; // cannot happen: a table's output with its input present ran above
+            }
             let from = (lo - self.base) as usize;
-            if let Some(t) = table {
-                // Taps between two or four rows: the rows' dot products with every
-                // channel, weighted (the kernels' blend), no taps written out.
-                let (r0, w) = rows_at(&t.shape, &self.clock);
-                let sh = t.shape;
-                let b = Blend {
-                    rows: &t.data[t.row0 + r0 * t.stride..],
-                    cols: sh.cols,
-                    row_stride: t.stride,
-                    points: sh.interp.points(),
-                    weights: w,
-                    hist: &self.hist[from..],
-                    stride: self.cap,
-                    channels: self.channels,
-                };
-                let ok = self.fns.blend(&b, &mut self.chan).is_ok();
-                debug_assert!(ok, "blend sizes hold by construction");
-                for (c, &v) in self.chan.iter().enumerate() {
-                    store(done, c, v);
-                }
-            } else {
-                self.fill_taps(count);
-                let taps = &self.taps[..count];
-                for (c, b) in self.hist.chunks_exact(self.cap).enumerate() {
-                    store(done, c, self.fns.dot(taps, &b[from..from + count]));
-                }
+            self.fill_taps(count);
+            let taps = &self.taps[..count];
+            for (c, b) in self.hist.chunks_exact(self.cap).enumerate() {
+                store(done, c, self.fns.dot(taps, &b[from..from + count]));
             }
             done += 1;
             self.n_out += 1;
@@ -711,7 +818,7 @@ impl<T: Sample> GlideConverter<T> {
         // from the prototype in tap order.
         let (lo, _) = sh.stretched_span(c);
         let scale = rho * p;
-        let q0 = ((c.int - lo) as f64 + c.frac) * scale + sh.half;
+        let q0 = ((c.int - lo) as f64 + c.frac_f64()) * scale + sh.half;
         let gain = T::from_f64_lossy(rho);
         let flat = &self.flat;
         let last = flat.len() as i64 - 4;
@@ -756,18 +863,6 @@ fn pick<'a, T>(
         Some((t, lo, hi)) if ratio >= *lo && ratio <= *hi => Some(t),
         _ => None,
     }
-}
-
-/// The first row and the interpolation weights of the output at `c` in a table of shape
-/// `sh` read without stretching.
-#[inline]
-fn rows_at<T: Sample>(sh: &Shape, c: &Clock) -> (usize, [T; 4]) {
-    let s = c.frac * sh.phases as f64 + sh.half;
-    let whole = trunc_floor(s);
-    let phase = sh.split(whole as i64).1;
-    let w = sh.interp.weights(s - whole).map(T::from_f64_lossy);
-    // Row r holds phase r - 1.
-    (phase + 1 - sh.interp.first(), w)
 }
 
 /// `floor(x)` for `0 <= x < 2^63` by truncation (an instruction, where `f64::floor` may be a
@@ -817,21 +912,43 @@ mod tests {
     use crate::FilterSpec;
 
     #[test]
-    fn phase_split_matches_integer_division() {
-        for phases in [64_usize, 212, 592, 1023] {
-            let sh = Shape {
-                phases,
-                cols: 1,
-                half: 0.0,
-                len: 1.0,
-                interp: Interpolation::Linear,
-                inv_phases: 1.0 / phases as f64,
-            };
-            let p = phases as i64;
-            for q in (0..200_000_i64).chain([p * 1_000_003 - 1, p * 1_000_003]) {
-                assert_eq!(sh.split(q), (q / p, (q % p) as usize), "{phases} {q}");
+    fn position_matches_exact_arithmetic() {
+        // frac P + half in exact integer arithmetic (u128): the whole part split into
+        // (whole samples, phase), the rest the position between phases.
+        for (phases, half) in [
+            (64_usize, 4_000_usize),
+            (212, 25_011),
+            (592, 47_000),
+            (1023, 5),
+        ] {
+            let sh = Shape::new(phases, 1, half, 2 * half + 1, Interpolation::Linear);
+            let mut frac = 0x9E37_79B9_7F4A_7C15_u64;
+            for i in 0..20_000_u64 {
+                frac = frac.wrapping_mul(6_364_136_223_846_793_005).wrapping_add(i);
+                let c = Clock {
+                    frac,
+                    ..Clock::new(1.0)
+                };
+                let m = u128::from(frac) * phases as u128;
+                let whole = (m >> 64) as usize + half;
+                let (q, phase, at) = sh.position(&c);
+                assert_eq!((q, phase), ((whole / phases) as i64, whole % phases));
+                assert_eq!(at, (m as u64) as f64 / 2f64.powi(64));
             }
         }
+    }
+
+    #[test]
+    fn fixed_point_advance_tracks_the_time() {
+        // 10^6 steps of 1 / 1.0885442 input samples: the fixed-point time against the
+        // product computed in f64 (common practice, no source).
+        let step = 1.0 / 1.088_544_2;
+        let mut c = Clock::new(step);
+        for _ in 0..1_000_000 {
+            c.advance();
+        }
+        let t = c.int as f64 + c.frac_f64();
+        assert!((t - 1e6 * step).abs() < 1e-6, "{t} vs {}", 1e6 * step);
     }
 
     #[test]
@@ -843,6 +960,7 @@ mod tests {
         let mut steps = vec![];
         for _ in 0..6 {
             steps.push(c.step);
+            assert_eq!(fixed(c.step), (c.step_int, c.step_frac));
             c.advance();
         }
         assert_eq!(steps, [1.0, 1.25, 1.5, 1.75, 2.0, 2.0]);

@@ -116,9 +116,10 @@ pub struct GlideReport {
     pub linear_error_db: f64,
     /// Positions between phases the error was measured at.
     pub error_positions: usize,
-    /// Bytes of the table in `f32`.
+    /// Bytes of the table in `f32` as the converter holds it: per phase interval the
+    /// `order + 1` polynomial coefficients of every tap (columns padded to 64 bytes).
     pub table_bytes_f32: u64,
-    /// Bytes of the table in `f64`.
+    /// Bytes of the table in `f64` (the same layout).
     pub table_bytes_f64: u64,
     /// Passband edge as a fraction of the lower Nyquist frequency of the current ratio.
     pub passband_fraction: f64,
@@ -356,8 +357,12 @@ fn columns(len: usize, phases: usize) -> usize {
     (len + 2).div_ceil(phases) + 1
 }
 
-fn bytes(phases: usize, cols: usize, size: u64) -> u64 {
-    ((phases + 3) * cols) as u64 * size
+/// Bytes of the table as the converter holds it for samples of `size` bytes: per phase
+/// interval the `order + 1` polynomial coefficients of every tap, the columns padded to
+/// whole 64-byte chunks (the kernels' run layout, `kernel/glide.rs`).
+fn bytes(phases: usize, cols: usize, size: u64, interp: Interpolation) -> u64 {
+    let chunk = (64 / size) as usize;
+    (phases * interp.points() * cols.next_multiple_of(chunk)) as u64 * size
 }
 
 impl FilterSpec {
@@ -416,11 +421,12 @@ impl GlideDesign {
         // Minimum phase: a linear table of more than 128 phases has not met its request on
         // the cases measured (see the loop below), so cubic is tried first there.
         let lin_ok = spec.phase == Phase::Linear || lin <= 128;
-        let (mut interp, mut phases) = if lin_ok && bytes(lin, cols_est, 8) <= GLIDE_TABLE_LIMIT {
-            (Interpolation::Linear, lin)
-        } else {
-            (Interpolation::Cubic, smallest(Interpolation::Cubic))
-        };
+        let (mut interp, mut phases) =
+            if lin_ok && bytes(lin, cols_est, 8, Interpolation::Linear) <= GLIDE_TABLE_LIMIT {
+                (Interpolation::Linear, lin)
+            } else {
+                (Interpolation::Cubic, smallest(Interpolation::Cubic))
+            };
         let minimum = spec.phase == Phase::Minimum;
         let mut made: Option<(usize, Design)> = None;
         let mut last_err = f64::INFINITY;
@@ -466,7 +472,9 @@ impl GlideDesign {
             }
             last_err = err;
             phases *= 2;
-            if interp == Interpolation::Linear && bytes(phases, g.cols, 8) > GLIDE_TABLE_LIMIT {
+            if interp == Interpolation::Linear
+                && bytes(phases, g.cols, 8, interp) > GLIDE_TABLE_LIMIT
+            {
                 interp = Interpolation::Cubic;
             }
         }
@@ -558,8 +566,8 @@ impl GlideDesign {
             interpolation_error_db: err,
             linear_error_db: lin_err,
             error_positions: positions,
-            table_bytes_f32: bytes(phases, cols, 4),
-            table_bytes_f64: bytes(phases, cols, 8),
+            table_bytes_f32: bytes(phases, cols, 4, interp),
+            table_bytes_f64: bytes(phases, cols, 8, interp),
             passband_fraction: spec.passband,
             delay_input_frames: half as f64 / phases as f64,
             phase: design.spec().phase_response(),
@@ -625,7 +633,7 @@ impl GlideDesign {
             .design()?;
         let interp = self.report.interpolation;
         let t = Self::from_design(&self.spec, &design, n, interp);
-        if bytes(n, t.cols, 8) > GLIDE_TABLE_LIMIT
+        if bytes(n, t.cols, 8, interp) > GLIDE_TABLE_LIMIT
             || t.report.interpolation_error_db > -(self.spec.stopband_db + GLIDE_ERROR_MARGIN_DB)
         {
             return Ok(());

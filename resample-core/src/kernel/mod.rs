@@ -2,11 +2,15 @@
 //! SIMD versions for x86_64 (AVX2 + FMA, AVX-512F) and aarch64 (NEON), and the choice of
 //! kernel, made once when a converter is built and stored with it as function pointers.
 //!
-//! A kernel has three entry points for each sample type:
+//! A kernel has four entry points for each sample type:
 //!
 //! * a single dot product ([`DotFn`]),
-//! * the any-ratio engine's *blend* ([`KernelFns::blend`]): the dot products of two or four
-//!   table rows with each channel's inputs, weighted by the interpolation between them, and
+//! * the any-ratio engine's *runs* ([`KernelFns::glide_run`], `glide.rs`): for each of
+//!   several outputs its taps interpolated once from a table of polynomial coefficients,
+//!   then shared by every channel's dot product (what the engine uses),
+//! * the *blend* ([`KernelFns::blend`]): the dot products of two or four table rows with
+//!   each channel's inputs, weighted by the interpolation between them (the engine's
+//!   earlier path, kept for comparison), and
 //! * *groups*: consecutive groups of a [`crate::table::GroupTable`] (a vector of taps per
 //!   input sample, one lane per output) against several inputs ([`KernelFns::span`], the
 //!   converters' inner loop; [`KernelFns::groups`] for one group). Each input sample is
@@ -29,6 +33,8 @@ mod arm {
     //! Kernels for aarch64.
     pub(super) mod neon;
 }
+// The any-ratio engine's run kernel (interpolated taps shared by the channels).
+pub(crate) mod glide;
 #[cfg(feature = "internals")]
 pub mod peak;
 pub mod scalar;
@@ -42,6 +48,8 @@ mod x86 {
 
 use num_traits::{Float, FromPrimitive};
 
+pub use glide::{glide_block_len, glide_chunk, GlideRun};
+
 use crate::{Error, Result};
 
 /// A dot product of two slices (taps, samples); extra elements of the longer one are ignored.
@@ -53,6 +61,9 @@ pub(crate) type GroupsFn<T> = fn(&GroupSpan<'_, T>, &[&[T]], &mut [T]);
 
 /// The any-ratio engine's interpolated dot products (see [`KernelFns::blend`]).
 pub(crate) type BlendFn<T> = fn(&Blend<'_, T>, &mut [T]);
+
+/// The any-ratio engine's runs of outputs (see [`KernelFns::glide_run`]).
+pub(crate) type GlideRunFn<T> = fn(&GlideRun<'_, T>, &mut [T]);
 
 /// One output of the any-ratio engine for every channel, from `points` consecutive rows of
 /// its table: `rows[p row_stride..][..cols]` is row `p`, `weights[p]` its interpolation
@@ -194,7 +205,11 @@ pub struct KernelFns<T> {
     // groups); the any-ratio engine, whose outputs each fall at a phase of their own, uses it.
     dot: DotFn<T>,
     groups: GroupsFn<T>,
+    // The blend of table rows is kept for the benches and tests (the engine runs
+    // `glide_run`).
+    #[cfg_attr(not(any(test, feature = "internals")), allow(dead_code))]
     blend: BlendFn<T>,
+    glide_run: GlideRunFn<T>,
     lanes: usize,
 }
 
@@ -219,6 +234,7 @@ impl<T: Sample> KernelFns<T> {
             dot: T::dot_fn(kernel),
             groups: T::groups_fn(kernel),
             blend: T::blend_fn(kernel),
+            glide_run: T::glide_run_fn(kernel),
             lanes: T::lanes(kernel),
         })
     }
@@ -241,6 +257,7 @@ impl<T: Sample> KernelFns<T> {
     /// [`Error::BufferShape`] if `points` is not 1 to 4, the row stride is under `cols`, the
     /// rows are short of `(points - 1) row_stride + cols` taps, `hist` of `(channels - 1) stride + cols` inputs or `out` of `channels` values.
     #[inline]
+    #[cfg_attr(not(any(test, feature = "internals")), allow(dead_code))]
     pub fn blend(&self, b: &Blend<'_, T>, out: &mut [T]) -> Result<()> {
         let bad = |what: &'static str, expected: usize, got: usize| Error::BufferShape {
             what,
@@ -265,6 +282,28 @@ impl<T: Sample> KernelFns<T> {
             return Err(bad("blend output (one per channel)", b.channels, out.len()));
         }
         (self.blend)(b, out);
+        Ok(())
+    }
+
+    /// The any-ratio engine's outputs of a run ([`GlideRun`]): for output `k`, the taps
+    /// interpolated from its block of the coefficient table at its position (Horner's
+    /// rule, in the order of [`GlideRun::order`]), then for each channel `c` the dot
+    /// product with its inputs, `out[k channels + c]`. Each row's sum is taken as two
+    /// partial sums (even and odd vectors in SIMD kernels; left to right in the scalar
+    /// reference); an output's value depends neither on the other outputs of the run nor
+    /// on the other channels. [`Error::BufferShape`] if the order is not 1 or 3, the per-output slices differ in length, a block
+    /// or an input reaches past its slice, or `out` holds fewer than `outputs channels`
+    /// values.
+    #[inline]
+    pub fn glide_run(&self, g: &GlideRun<'_, T>, out: &mut [T]) -> Result<()> {
+        if !g.fits(out.len()) {
+            return Err(Error::BufferShape {
+                what: "glide run (order 1 or 3, blocks and inputs inside their slices, one output per output and channel)",
+                expected: g.blocks.len() * g.channels,
+                got: out.len(),
+            });
+        }
+        (self.glide_run)(g, out);
         Ok(())
     }
 
@@ -372,6 +411,9 @@ mod sealed {
 
         /// The blend function of a kernel for this type (scalar fallback if unavailable).
         fn blend_fn(kernel: super::Kernel) -> super::BlendFn<Self>;
+
+        /// The any-ratio run function of a kernel for this type (scalar fallback).
+        fn glide_run_fn(kernel: super::Kernel) -> super::GlideRunFn<Self>;
     }
 }
 
@@ -391,7 +433,7 @@ pub trait Sample:
 }
 
 macro_rules! impl_sample {
-    ($t:ty, $dot:ident, $groups:ident, $blend:ident, $from:expr, $to:expr) => {
+    ($t:ty, $dot:ident, $groups:ident, $blend:ident, $run:ident, $from:expr, $to:expr) => {
         impl Sample for $t {
             fn dot_fn(kernel: Kernel) -> DotFn<Self> {
                 match kernel {
@@ -439,6 +481,18 @@ macro_rules! impl_sample {
                 }
             }
 
+            fn glide_run_fn(kernel: Kernel) -> GlideRunFn<Self> {
+                match kernel {
+                    #[cfg(target_arch = "x86_64")]
+                    Kernel::Avx2Fma if kernel.is_available() => x86::avx2::$run,
+                    #[cfg(target_arch = "x86_64")]
+                    Kernel::Avx512 if kernel.is_available() => x86::avx512::$run,
+                    #[cfg(target_arch = "aarch64")]
+                    Kernel::Neon if kernel.is_available() => arm::neon::$run,
+                    _ => glide::glide_run::<$t>,
+                }
+            }
+
             fn lanes(kernel: Kernel) -> usize {
                 let bytes = match kernel {
                     Kernel::Avx2Fma if kernel.is_available() => 32,
@@ -457,10 +511,19 @@ impl_sample!(
     dot_f32,
     groups_f32,
     blend_f32,
+    glide_run_f32,
     |v: f64| v as f32,
     f64::from
 );
-impl_sample!(f64, dot_f64, groups_f64, blend_f64, |v: f64| v, |v: f64| v);
+impl_sample!(
+    f64,
+    dot_f64,
+    groups_f64,
+    blend_f64,
+    glide_run_f64,
+    |v: f64| v,
+    |v: f64| v
+);
 
 #[cfg(test)]
 mod tests;

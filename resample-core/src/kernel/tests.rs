@@ -485,3 +485,189 @@ fn bad_blends_are_errors_not_panics() {
         assert!(fns.blend(&Blend { channels: 0, ..ok }, &mut out).is_err());
     }
 }
+
+/// `glide_run` of every kernel against the scalar reference: linear and cubic tables, one to
+/// five channels, taps per output around the vector widths, runs of one to seven outputs
+/// at random blocks and positions, within [`tolerance`] of the terms' size; and each
+/// output's value alone (a run of one, one channel) is its value in the run, bit for bit.
+fn glide_run_agrees<T: Sample>() {
+    let mut rng = Rng(0x2545_F491_4F6C_DD1D);
+    let chunk = glide_chunk::<T>();
+    for kernel in Kernel::available() {
+        let fns = KernelFns::<T>::new(kernel).unwrap();
+        for order in [1, 3] {
+            for cols in [1, 7, 8, 15, 16, 17, 33, 145, 213] {
+                let block = glide_block_len::<T>(cols, order);
+                let phases = 5;
+                let mut table: Vec<T> = rng.vec(phases * block);
+                // Padding past `cols` is zero in a real table.
+                for b in table.chunks_exact_mut(block) {
+                    for (i, v) in b.iter_mut().enumerate() {
+                        if (i / ((order + 1) * chunk)) * chunk + i % chunk >= cols {
+                            *v = T::zero();
+                        }
+                    }
+                }
+                for channels in 1..=5 {
+                    let stride = cols + 9;
+                    let hist: Vec<T> = rng.vec(channels * stride);
+                    for outputs in 1..=7 {
+                        let blocks: Vec<usize> =
+                            (0..outputs).map(|k| (k * 3 % phases) * block).collect();
+                        let starts: Vec<usize> = (0..outputs).map(|k| k % 9).collect();
+                        let fracs: Vec<T> = (0..outputs)
+                            .map(|_| T::from_f64_lossy(0.5 * (rng.next() + 1.0)))
+                            .collect();
+                        let g = GlideRun {
+                            table: &table,
+                            cols,
+                            order,
+                            hist: &hist,
+                            stride,
+                            channels,
+                            blocks: &blocks,
+                            starts: &starts,
+                            fracs: &fracs,
+                        };
+                        let mut got = vec![T::nan(); outputs * channels];
+                        let mut want = vec![T::nan(); outputs * channels];
+                        fns.glide_run(&g, &mut got).unwrap();
+                        glide::glide_run(&g, &mut want);
+                        for k in 0..outputs {
+                            // The interpolated taps, in f64, for the size of the terms.
+                            let f = fracs[k].to_f64_exact();
+                            let taps: Vec<f64> = (0..cols)
+                                .map(|j| {
+                                    let at =
+                                        blocks[k] + (j / chunk) * (order + 1) * chunk + j % chunk;
+                                    (0..=order).rev().fold(0.0, |t, r| {
+                                        t * f + table[at + r * chunk].to_f64_exact()
+                                    })
+                                })
+                                .collect();
+                            for c in 0..channels {
+                                let x = &hist[starts[k] + c * stride..][..cols];
+                                let scale: f64 = taps
+                                    .iter()
+                                    .zip(x)
+                                    .map(|(t, v)| (t * v.to_f64_exact()).abs())
+                                    .sum::<f64>()
+                                    * 4.0;
+                                let (gv, wv) = (
+                                    got[k * channels + c].to_f64_exact(),
+                                    want[k * channels + c].to_f64_exact(),
+                                );
+                                assert!(
+                                    (gv - wv).abs() <= tolerance::<T>() * scale.max(f64::MIN_POSITIVE),
+                                    "{} order {order} cols {cols} ch {c}/{channels} out {k}/{outputs}: {gv} vs {wv}",
+                                    kernel.name()
+                                );
+                                let one = GlideRun {
+                                    hist: &hist[c * stride..],
+                                    channels: 1,
+                                    blocks: &blocks[k..=k],
+                                    starts: &starts[k..=k],
+                                    fracs: &fracs[k..=k],
+                                    ..g
+                                };
+                                let mut alone = [T::nan()];
+                                fns.glide_run(&one, &mut alone).unwrap();
+                                assert_eq!(alone[0].to_f64_exact().to_bits(), gv.to_bits());
+                            }
+                        }
+                    }
+                }
+            }
+        }
+    }
+}
+
+#[test]
+fn glide_run_agrees_with_scalar_f32() {
+    glide_run_agrees::<f32>();
+}
+
+#[test]
+fn glide_run_agrees_with_scalar_f64() {
+    glide_run_agrees::<f64>();
+}
+
+#[test]
+fn bad_glide_runs_are_errors_not_panics() {
+    let table = vec![0.0_f32; glide_block_len::<f32>(10, 3) * 2];
+    let hist = vec![0.0_f32; 40];
+    let ok = GlideRun {
+        table: &table,
+        cols: 10,
+        order: 3,
+        hist: &hist,
+        stride: 20,
+        channels: 2,
+        blocks: &[0, glide_block_len::<f32>(10, 3)],
+        starts: &[0, 10],
+        fracs: &[0.5, 0.25],
+    };
+    for k in Kernel::available() {
+        let fns = KernelFns::<f32>::new(k).unwrap();
+        let mut out = [0.0_f32; 4];
+        assert!(fns.glide_run(&ok, &mut out).is_ok());
+        assert!(fns.glide_run(&ok, &mut out[..3]).is_err());
+        assert!(fns
+            .glide_run(&GlideRun { order: 2, ..ok }, &mut out)
+            .is_err());
+        assert!(fns
+            .glide_run(&GlideRun { order: 1, ..ok }, &mut out)
+            .is_ok());
+        assert!(fns
+            .glide_run(&GlideRun { channels: 3, ..ok }, &mut out)
+            .is_err());
+        assert!(fns
+            .glide_run(&GlideRun { channels: 0, ..ok }, &mut out)
+            .is_err());
+        assert!(fns
+            .glide_run(
+                &GlideRun {
+                    starts: &[0, 11],
+                    ..ok
+                },
+                &mut out
+            )
+            .is_err());
+        assert!(fns
+            .glide_run(
+                &GlideRun {
+                    blocks: &[0, glide_block_len::<f32>(10, 3) + 1],
+                    ..ok
+                },
+                &mut out
+            )
+            .is_err());
+        assert!(fns
+            .glide_run(
+                &GlideRun {
+                    fracs: &[0.5],
+                    ..ok
+                },
+                &mut out
+            )
+            .is_err());
+    }
+}
+
+#[test]
+fn cubic_coefficients_are_the_lagrange_weights() {
+    // The polynomial of `glide::cubic_coefficients` at position `a` equals the Lagrange
+    // weights of `Interpolation::weights` applied to the same four rows (both expand the
+    // basis on the nodes -1, 0, 1, 2; common practice, no source).
+    let y = [0.3, -1.2, 2.5, 0.7];
+    let c = glide::cubic_coefficients(y);
+    for a in [0.0, 0.1, 0.5, 0.787, 0.999] {
+        let w = crate::Interpolation::Cubic.weights(a);
+        let lagrange: f64 = w.iter().zip(y).map(|(w, y)| w * y).sum();
+        let horner = ((c[3] * a + c[2]) * a + c[1]) * a + c[0];
+        assert!(
+            (lagrange - horner).abs() < 1e-14,
+            "{a}: {lagrange} vs {horner}"
+        );
+    }
+}

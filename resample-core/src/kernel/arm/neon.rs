@@ -156,3 +156,24 @@ simd_kernels!("neon", crate::kernel::neon_detected, f64, v64, k64);
 
 pub(crate) use k32::{blend as blend_f32, dot as dot_f32, span as groups_f32};
 pub(crate) use k64::{blend as blend_f64, dot as dot_f64, span as groups_f64};
+
+// The any-ratio engine's run kernel (`kernel/glide.rs`). Compiled for aarch64 only and not
+// yet run on NEON hardware: the same macro body as the x86 kernels, no prefetch hint.
+crate::kernel::glide::glide_kernels!(
+    "neon",
+    crate::kernel::neon_detected,
+    f32,
+    v32,
+    g32,
+    crate::kernel::glide::prefetch
+);
+crate::kernel::glide::glide_kernels!(
+    "neon",
+    crate::kernel::neon_detected,
+    f64,
+    v64,
+    g64,
+    crate::kernel::glide::prefetch
+);
+pub(crate) use g32::glide_run as glide_run_f32;
+pub(crate) use g64::glide_run as glide_run_f64;

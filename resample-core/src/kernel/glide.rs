@@ -1,0 +1,276 @@
+//! The any-ratio engine's kernel for runs of outputs ([`GlideRun`], [`super::KernelFns::glide_run`]):
+//! each output's taps are interpolated once from a table stored as polynomial coefficients
+//! in the position between two phases (linear: the phase and the difference to the next;
+//! cubic: the Lagrange cubic through four phases in Horner form, the polynomial structure of
+//! C. W. Farrow, "A continuously variable digital delay element", Proc. IEEE ISCAS 1988),
+//! then shared by every channel. Per tap that is `order + channels` multiply-adds, where
+//! weighting the dot products of `order + 1` table rows costs `(order + 1) channels`.
+//!
+//! Table layout ([`glide_chunk`], [`glide_block_len`]): one block per phase interval; inside
+//! a block the taps go in chunks of 64 bytes, and each chunk holds its `order + 1`
+//! coefficient vectors one after another (`c0` first), so one output reads one contiguous
+//! stream. Columns are padded with zeros to whole chunks.
+//!
+//! Every output is computed by the same sequence of operations whatever run it belongs to,
+//! so the engine's output does not depend on how its input is chunked.
+
+use num_traits::Float;
+
+/// Elements of `T` in one chunk of the coefficient layout (64 bytes).
+pub const fn glide_chunk<T>() -> usize {
+    64 / core::mem::size_of::<T>()
+}
+
+/// Length in elements of one phase interval's block: `order + 1` coefficient rows of `cols`
+/// taps padded to whole chunks.
+pub const fn glide_block_len<T>(cols: usize, order: usize) -> usize {
+    let chunk = glide_chunk::<T>();
+    cols.div_ceil(chunk) * chunk * (order + 1)
+}
+
+/// Consecutive outputs of the any-ratio engine, all read from one table in coefficient
+/// layout (see the module documentation): output `k`'s block starts at `table[blocks[k]..]`,
+/// its position between the block's two phases is `fracs[k]` (0 to 1), and channel `c`'s
+/// inputs are `hist[starts[k] + c stride..][..cols]`.
+#[derive(Debug, Clone, Copy)]
+pub struct GlideRun<'a, T> {
+    /// The table: blocks of [`glide_block_len`]`(cols, order)` values.
+    pub table: &'a [T],
+    /// Taps per output (inputs per channel).
+    pub cols: usize,
+    /// Polynomial order: 1 (linear) or 3 (cubic).
+    pub order: usize,
+    /// The inputs, channel after channel.
+    pub hist: &'a [T],
+    /// Distance between two channels' inputs in `hist`.
+    pub stride: usize,
+    /// Channels.
+    pub channels: usize,
+    /// Per output: where its block starts in `table`.
+    pub blocks: &'a [usize],
+    /// Per output: where its first input (channel 0) is in `hist`.
+    pub starts: &'a [usize],
+    /// Per output: its position between the two phases of its block.
+    pub fracs: &'a [T],
+}
+
+impl<T> GlideRun<'_, T> {
+    /// Whether every read the run implies is inside its slices and `out` holds
+    /// `outputs channels` values (see [`super::KernelFns::glide_run`]).
+    pub(crate) fn fits(&self, out_len: usize) -> bool {
+        let n = self.blocks.len();
+        let block = glide_block_len::<T>(self.cols, self.order);
+        (self.order == 1 || self.order == 3)
+            && self.channels >= 1
+            && self.cols >= 1
+            && self.starts.len() == n
+            && self.fracs.len() == n
+            && out_len >= n * self.channels
+            && self
+                .blocks
+                .iter()
+                .all(|&b| b.checked_add(block).is_some_and(|e| e <= self.table.len()))
+            && self.starts.iter().all(|&s| {
+                s.checked_add((self.channels - 1) * self.stride + self.cols)
+                    .is_some_and(|e| e <= self.hist.len())
+            })
+    }
+}
+
+/// The scalar reference: for output `k` the taps `t_j = (..(c_order f + c_(order-1)) f ..) f
+/// + c_0` (Horner, in order), then for each channel `sum_j t_j x_j` accumulated left to
+/// right; `out[k channels + c]`. Stops if the run does not fit (the caller checks first).
+pub(crate) fn glide_run<T: Float>(g: &GlideRun<'_, T>, out: &mut [T]) {
+    if !g.fits(out.len()) {
+        return;
+    }
+    let chunk = glide_chunk::<T>();
+    let rows = g.order + 1;
+    for (k, o) in out
+        .chunks_exact_mut(g.channels)
+        .take(g.blocks.len())
+        .enumerate()
+    {
+        let block = &g.table[g.blocks[k]..];
+        let f = g.fracs[k];
+        for (c, y) in o.iter_mut().enumerate() {
+            let x = &g.hist[g.starts[k] + c * g.stride..][..g.cols];
+            let mut acc = T::zero();
+            for (j, &v) in x.iter().enumerate() {
+                let at = (j / chunk) * rows * chunk + j % chunk;
+                let mut t = block[at + g.order * chunk];
+                for r in (0..g.order).rev() {
+                    t = t * f + block[at + r * chunk];
+                }
+                acc = acc + t * v;
+            }
+            *y = acc;
+        }
+    }
+}
+
+/// Rows `y_(p-1), y_p, y_(p+1), y_(p+2)` of a table (phases `p - 1 .. p + 2`) as the
+/// coefficients `c_0 .. c_3` of the cubic Lagrange polynomial through them in the position
+/// `f` between phases `p` and `p + 1` (nodes -1, 0, 1, 2): `t(f) = c_0 + c_1 f + c_2 f^2 +
+/// c_3 f^3` (the basis polynomials expanded; common practice, no source).
+pub(crate) fn cubic_coefficients(y: [f64; 4]) -> [f64; 4] {
+    let [ym, y0, y1, y2] = y;
+    [
+        y0,
+        -ym / 3.0 - y0 / 2.0 + y1 - y2 / 6.0,
+        ym / 2.0 - y0 + y1 / 2.0,
+        -ym / 6.0 + y0 / 2.0 - y1 / 2.0 + y2 / 6.0,
+    ]
+}
+
+/// Generate the run kernel for one instruction set and sample type, as a module `$m` with
+/// `glide_run`; `$v` is the sibling vector vocabulary module (see `simd.rs`), `$pf` a
+/// prefetch hint function `fn(*const $t)`.
+macro_rules! glide_kernels {
+    ($feat:literal, $detect:path, $t:ty, $v:ident, $m:ident, $pf:path) => {
+        /// The run kernel of the any-ratio engine for one sample type.
+        pub(crate) mod $m {
+            use super::$v;
+            use $crate::kernel::glide::{glide_block_len, glide_chunk, GlideRun};
+
+            /// See [`crate::kernel::KernelFns::glide_run`].
+            pub(crate) fn glide_run(g: &GlideRun<'_, $t>, out: &mut [$t]) {
+                if !$detect() || !g.fits(out.len()) {
+                    return $crate::kernel::glide::glide_run(g, out);
+                }
+                let mut c = 0;
+                while c < g.channels {
+                    let left = g.channels - c;
+                    // Safety: the CPU features were detected and the run's reads and
+                    // writes checked (`fits`) just above; channels `c..c + C` exist.
+                    unsafe {
+                        c += match (g.order, left) {
+                            (1, 1) => run_impl::<1, 1>(g, c, out),
+                            (1, 2) => run_impl::<1, 2>(g, c, out),
+                            (1, 3) => run_impl::<1, 3>(g, c, out),
+                            (1, _) => run_impl::<1, 4>(g, c, out),
+                            (_, 1) => run_impl::<3, 1>(g, c, out),
+                            (_, 2) => run_impl::<3, 2>(g, c, out),
+                            (_, 3) => run_impl::<3, 3>(g, c, out),
+                            _ => run_impl::<3, 4>(g, c, out),
+                        };
+                    }
+                }
+            }
+
+            /// Channels `c0..c0 + C` of every output of the run, polynomial order `O`: per
+            /// vector of taps the Horner steps, then one multiply-add per channel into two
+            /// accumulators (even and odd vectors), added and summed at the end. The next
+            /// output's block is prefetched while this one is computed. Returns `C`.
+            ///
+            /// # Safety
+            /// The CPU supports `$feat`; `g.fits(out.len())`; `g.order == O`;
+            /// `c0 + C <= g.channels`.
+            #[target_feature(enable = $feat)]
+            // One vector per chunk for 512-bit vectors: `v % S` is then always 0.
+            #[allow(clippy::modulo_one)]
+            unsafe fn run_impl<const O: usize, const C: usize>(
+                g: &GlideRun<'_, $t>,
+                c0: usize,
+                out: &mut [$t],
+            ) -> usize {
+                use $v::*;
+                const CH: usize = glide_chunk::<$t>();
+                // Vectors per chunk.
+                const S: usize = CH / $v::W;
+                let n = g.cols;
+                let (full, tail) = (n / W, n % W);
+                let block = glide_block_len::<$t>(n, O);
+                let table = g.table.as_ptr();
+                let hist = g.hist.as_ptr();
+                let o = out.as_mut_ptr();
+                let outputs = g.blocks.len();
+                // Safety: every block read is inside `table` and every input read inside
+                // `hist` (`fits`: the block's length from its start, `cols` inputs from
+                // each channel's start), the last partial vector of inputs masked; the
+                // output index `k channels + c0 + c` is below `outputs channels`. The
+                // prefetches are hints that cannot fault, at addresses inside the table.
+                unsafe {
+                    for k in 0..outputs {
+                        if k + 1 < outputs {
+                            let next = table.add(g.blocks[k + 1]);
+                            let mut l = 0;
+                            while l < block.min(8 * CH) {
+                                $pf(next.add(l));
+                                l += CH;
+                            }
+                        }
+                        let blk = table.add(g.blocks[k]);
+                        let f = splat(g.fracs.as_ptr().add(k));
+                        let x: [*const $t; C] =
+                            core::array::from_fn(|c| hist.add(g.starts[k] + (c0 + c) * g.stride));
+                        let mut a = [zero(); C];
+                        let mut b = [zero(); C];
+                        // Vector `v` of taps: chunk `v / S`, sub-vector `v % S`.
+                        let at = |v: usize| blk.add((v / S) * (O + 1) * CH + (v % S) * W);
+                        let taps = |p: *const $t| {
+                            let mut t = load(p.add(O * CH));
+                            let mut r = O;
+                            while r > 0 {
+                                r -= 1;
+                                t = fma(load(p.add(r * CH)), t, f);
+                            }
+                            t
+                        };
+                        let mut v = 0;
+                        while v + 2 <= full {
+                            let t0 = taps(at(v));
+                            let t1 = taps(at(v + 1));
+                            for c in 0..C {
+                                a[c] = fma(a[c], t0, load(x[c].add(v * W)));
+                                b[c] = fma(b[c], t1, load(x[c].add(v * W + W)));
+                            }
+                            v += 2;
+                        }
+                        if v < full {
+                            let t0 = taps(at(v));
+                            for c in 0..C {
+                                a[c] = fma(a[c], t0, load(x[c].add(v * W)));
+                            }
+                            v += 1;
+                        }
+                        if tail > 0 {
+                            // The padded taps past `cols` are zero; the inputs are masked.
+                            let t = taps(at(v));
+                            if v % 2 == 0 {
+                                for c in 0..C {
+                                    a[c] = fma(a[c], t, partial(x[c].add(v * W), tail));
+                                }
+                            } else {
+                                for c in 0..C {
+                                    b[c] = fma(b[c], t, partial(x[c].add(v * W), tail));
+                                }
+                            }
+                        }
+                        for c in 0..C {
+                            *o.add(k * g.channels + c0 + c) = hsum(add(a[c], b[c]));
+                        }
+                    }
+                }
+                C
+            }
+        }
+    };
+}
+
+pub(crate) use glide_kernels;
+
+/// A prefetch hint into the first-level cache (x86_64: `prefetcht0`).
+#[cfg(target_arch = "x86_64")]
+#[inline(always)]
+pub(crate) fn prefetch<T>(p: *const T) {
+    use core::arch::x86_64::{_mm_prefetch, _MM_HINT_T0};
+    // Safety: a prefetch is a hint; it never faults, whatever the address (SSE, part of
+    // the x86_64 baseline).
+    unsafe { _mm_prefetch::<_MM_HINT_T0>(p.cast::<i8>()) }
+}
+
+/// No prefetch hint on other architectures (the hardware's own prefetcher serves).
+#[cfg(not(target_arch = "x86_64"))]
+#[inline(always)]
+pub(crate) fn prefetch<T>(_p: *const T) {}
