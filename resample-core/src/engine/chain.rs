@@ -106,7 +106,7 @@ impl<T: Sample> Stage<T> {
     fn new(plan: &StagePlan, i: usize, channels: usize, kernel: Kernel) -> Result<Self> {
         let d = &plan.stages()[i];
         Ok(if plan.half_band_stage() == Some(i) {
-            Stage::Half(HalfBand::new(d, channels))
+            Stage::Half(HalfBand::new(d, channels, kernel))
         } else {
             Stage::Poly(StreamConverter::with_kernel(d, channels, kernel)?)
         })
@@ -224,8 +224,9 @@ impl<T: Sample> ChainConverter<T> {
         Self::with_kernel(plan, channels, Kernel::detect())
     }
 
-    /// A converter using a given kernel for the polyphase stage(s) (the half-band stage
-    /// has a kernel of its own).
+    /// A converter using a given kernel for every stage: the polyphase stage(s) run its
+    /// group kernels, the half-band stage its half-band kernel (`Kernel::Scalar` forces the
+    /// scalar reference for both).
     pub fn with_kernel(plan: &StagePlan, channels: usize, kernel: Kernel) -> Result<Self> {
         if channels == 0 || channels > crate::MAX_CHANNELS {
             return Err(Error::ChannelsOutOfRange { channels });

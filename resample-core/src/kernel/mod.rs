@@ -29,6 +29,8 @@ mod arm {
     //! Kernels for aarch64.
     pub(super) mod neon;
 }
+// The half-band stage's kernel (scalar reference, AVX2 + FMA, AVX-512F).
+pub(crate) mod halfband;
 #[cfg(feature = "internals")]
 pub mod peak;
 pub mod scalar;
@@ -377,7 +379,15 @@ mod sealed {
 
 /// A sample type the converters work in: `f32` or `f64`.
 pub trait Sample:
-    Float + FromPrimitive + Default + core::fmt::Debug + Send + Sync + 'static + sealed::GroupKernels
+    Float
+    + FromPrimitive
+    + Default
+    + core::fmt::Debug
+    + Send
+    + Sync
+    + 'static
+    + sealed::GroupKernels
+    + halfband::HalfBandKernels
 {
     /// The dot product of `kernel` for this type. Falls back to the scalar reference if the
     /// kernel is not available on this CPU.
