@@ -337,8 +337,8 @@ impl<T: Sample> HalfBand<T> {
                 // Not yet in the planes (cannot happen outside flushing).
                 break;
             }
-            for ch in 0..self.channels {
-                let out = &mut output[ch].as_mut()[at + done..at + done + nb];
+            for (ch, o) in output.iter_mut().enumerate().take(self.channels) {
+                let out = &mut o.as_mut()[at + done..at + done + nb];
                 if self.down {
                     let e0 = ch * cap + (m0 as i64 - self.pb) as usize;
                     let o0 = ch * cap + (m0 as i64 - k as i64 - self.pb) as usize;

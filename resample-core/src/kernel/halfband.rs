@@ -173,9 +173,9 @@ macro_rules! halfband_simd {
                     a = $mul(c, unsafe { $load(mid.add(j)) });
                 }
                 for (t, &gt) in g.iter().enumerate() {
+                    let (hi, lo) = (j + k + t, j + k - 1 - t);
                     // Safety: the highest read is j + k + t + W - 1 <= n + 2k - 2.
-                    let s =
-                        unsafe { $add($load(odd.add(j + k + t)), $load(odd.add(j + k - 1 - t))) };
+                    let s = unsafe { $add($load(odd.add(hi)), $load(odd.add(lo))) };
                     a = $fmadd($set1(gt), s, a);
                 }
                 // Safety: j + W <= n.
