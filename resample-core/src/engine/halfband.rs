@@ -389,7 +389,20 @@ impl<T: Sample> HalfBand<T> {
         input: &[I],
         output: &mut [O],
     ) -> Progress {
-        let frames_in = input.first().map_or(0, |c| c.as_ref().len());
+        self.process_from(input, 0, output)
+    }
+
+    /// [`HalfBand::process`] of `input[ch][from..]`: the chain hands its caller's planar
+    /// input straight to a first half-band stage (no copy into a queue first).
+    pub(super) fn process_from<I: AsRef<[T]>, O: AsMut<[T]>>(
+        &mut self,
+        input: &[I],
+        from: usize,
+        output: &mut [O],
+    ) -> Progress {
+        let frames_in = input
+            .first()
+            .map_or(0, |c| c.as_ref().len().saturating_sub(from));
         let frames_out = output.first_mut().map_or(0, |c| c.as_mut().len());
         let mut read = 0;
         let mut written = 0;
@@ -405,7 +418,7 @@ impl<T: Sample> HalfBand<T> {
                 }
             }
             let take = self.room().min(frames_in - read);
-            self.take_input(input, read, take);
+            self.take_input(input, from + read, take);
             read += take;
         }
         Progress {
