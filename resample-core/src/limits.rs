@@ -54,6 +54,15 @@ pub const DEFAULT_LOOP_RAD_S: f64 = 0.2;
 /// way): more than any pair of audio clocks drifts apart, so a stalled producer cannot run
 /// the ratio away.
 pub const MAX_CORRECTION: f64 = 2000e-6;
+/// Default window of the drift follower's peak hold, seconds: the loop acts on the highest
+/// fill measured over about the last second. A write can only arrive late, never early, so
+/// the highest fill is the one least shortened by late arrivals; one second holds a hundred
+/// 10 ms writes (its low-frequency noise is a few times lower than a mean's) and adds little
+/// lag for a loop of 0.2 rad/s (two seconds and more destabilise it; measured in
+/// `tests/two_clocks.rs`).
+pub const DEFAULT_PEAK_HOLD_S: f64 = 1.0;
+/// Longest peak-hold window the drift follower accepts, seconds.
+pub const MAX_PEAK_HOLD_S: f64 = 10.0;
 
 /// Largest clock correction a file conversion accepts, parts per million either way: the
 /// input's true rate is its header rate times `1 + ppm / 1e6`. Crystal clocks of audio

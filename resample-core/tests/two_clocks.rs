@@ -1,12 +1,17 @@
 //! The drift follower and the any-ratio converter between two simulated clock domains: a
 //! producer at 48000 x (1 + e) Hz delivering 480-frame bursts with timing jitter, a
 //! consumer at 48000 Hz pulling 128-frame callbacks, e = +-300 ppm plus a slow +-50 ppm
-//! wander (a sine of period 10 minutes). After settling the fill (averaged over 200 ms)
-//! stays within +-64 frames of its target with no underrun or overrun, the ratio's mean
-//! error against the true clock ratio is under 1 ppm, and a 1 kHz tone keeps THD+N under
-//! -110 dB (f32). The scenario is this project's
-//! own simulation (demo data); crystal clocks of audio devices commonly differ by tens to
-//! about a hundred ppm (common practice, no source), so 300 ppm is a hard case.
+//! wander (a sine of period 10 minutes). Ten simulated minutes each way: the fill settles
+//! within seconds; after `SETTLE_S` the fill (without the arrival jitter, averaged over
+//! 200 ms) stays within +-64 frames of its
+//! target with no underrun or overrun, every one-minute mean of the ratio error against
+//! the true clock ratio is under 1 ppm, and a 1 kHz tone keeps THD+N under -110 dB (f32).
+//! The scenario is this project's own simulation (demo data); crystal clocks of audio
+//! devices commonly differ by tens to about a hundred ppm (common practice, no source), so
+//! 300 ppm is a hard case.
+//!
+//! `cargo test --release -p resample-core --test two_clocks -- --nocapture` prints the
+//! figures.
 
 use std::collections::VecDeque;
 
@@ -21,14 +26,24 @@ const WANDER_PERIOD_S: f64 = 600.0;
 const WANDER: f64 = 50e-6;
 const JITTER_S: f64 = 0.002;
 const TONE_HZ: f64 = 1000.0;
+/// Seconds after the consumer starts from which the steady state is checked: the loop
+/// (0.2 rad/s, critically damped) has found a 300 ppm step within about 10 s; its last
+/// tenths of a ppm take until about a minute (a one-minute mean from 30 s measured 0.8 ppm
+/// without any jitter).
+const SETTLE_S: f64 = 60.0;
 /// Output frames of one THD+N analysis.
 const ANALYSIS: usize = 1 << 16;
 
 /// Results of one run.
 #[derive(Debug, Default)]
 struct Outcome {
+    /// Last time (since the start) a 200 ms mean of the fill was off by more than 64 frames.
     settled_s: f64,
+    /// Worst 200 ms mean of the fill against the target after settling, frames.
     worst_fill_dev: f64,
+    /// Mean of the fill the follower was given (lowered by the lateness of the last burst)
+    /// against the true fill, frames.
+    measured_offset: f64,
     /// Worst instantaneous ratio error, ppm.
     worst_ratio_ppm: f64,
     /// Mean ratio error over the steady state, ppm.
@@ -102,12 +117,26 @@ fn thd_n_db(y: &[f32]) -> f64 {
 /// Run the two clocks for `seconds` with the producer `e0` fast; checks start `settle_s`
 /// after the consumer starts.
 fn simulate(e0: f64, seconds: f64, settle_s: f64, seed: u64) -> Outcome {
+    simulate_with(
+        e0,
+        seconds,
+        settle_s,
+        seed,
+        resample_core::limits::DEFAULT_PEAK_HOLD_S,
+    )
+}
+
+/// [`simulate`] with the follower's peak hold set to `hold_s` seconds.
+fn simulate_with(e0: f64, seconds: f64, settle_s: f64, seed: u64, hold_s: f64) -> Outcome {
     let g = FilterSpec::new(48_000, 48_000)
         .stopband_db(120.0)
         .design_glide()
         .unwrap();
     let mut conv = GlideConverter::<f32>::new(&g, 1).unwrap();
-    let mut follower = DriftFollower::new(48_000, 48_000, TARGET).unwrap();
+    let mut follower = DriftFollower::new(48_000, 48_000, TARGET)
+        .unwrap()
+        .with_peak_hold(hold_s)
+        .unwrap();
     let mut fifo: VecDeque<f32> = VecDeque::with_capacity(CAPACITY);
     let mut rng = seed | 1;
     let mut jitter = || {
@@ -139,6 +168,7 @@ fn simulate(e0: f64, seconds: f64, settle_s: f64, seed: u64) -> Outcome {
     let mut o = Outcome::default();
     let mut started: Option<f64> = None;
     let mut window = (0.0, 0usize);
+    let mut offset = (0.0, 0_u64);
     let mut next_analysis = settle_s;
     let mut last_bad = 0.0_f64;
     let mut sum_ppm = (0.0, 0_u64);
@@ -173,6 +203,11 @@ fn simulate(e0: f64, seconds: f64, settle_s: f64, seed: u64) -> Outcome {
         let pending = conv.input_frames() as f64 - conv.next_output_time();
         let fill =
             follower.fill_between_writes(fifo.len() as f64 + pending, BURST, t - last_arrival);
+        // The true fill: what `fill_between_writes` would measure if every burst arrived
+        // the moment its last frame was made (the producer's frames made by now, less the
+        // burst being spread, less the consumer's position), averaged below over 200 ms
+        // windows (20 burst periods)...
+        let true_fill = produced(e0, t) - BURST as f64 - conv.next_output_time();
         let ratio = follower.update(fill, CALLBACK);
         conv.glide_to(ratio, CALLBACK as u64).unwrap();
         let need = conv.input_frames_for_output(CALLBACK as u64) as usize;
@@ -190,9 +225,10 @@ fn simulate(e0: f64, seconds: f64, settle_s: f64, seed: u64) -> Outcome {
             }
             history.push_back(v);
         }
-        // The fill averaged over 200 ms windows (20 burst periods), and the ratio error
-        // against the true clock ratio 1 / (1 + e).
-        window.0 += fill;
+        // ... and the ratio error against the true clock ratio 1 / (1 + e).
+        offset.0 += fill - true_fill;
+        offset.1 += 1;
+        window.0 += true_fill;
         window.1 += 1;
         let since = t - start;
         let ratio_ppm = (ratio * (1.0 + drift(e0, t)) - 1.0) * 1e6;
@@ -232,20 +268,22 @@ fn simulate(e0: f64, seconds: f64, settle_s: f64, seed: u64) -> Outcome {
         }
     }
     o.settled_s = last_bad;
+    o.measured_offset = offset.0 / offset.1.max(1) as f64;
     o.bias_ppm = sum_ppm.0 / sum_ppm.1.max(1) as f64;
     o
 }
 
-fn check(e0: f64, seconds: f64, seed: u64, bias_limit_ppm: f64) {
-    let settle = 30.0;
-    let o = simulate(e0, seconds, settle, seed);
+fn check(e0: f64, seconds: f64, seed: u64) -> Outcome {
+    let o = simulate(e0, seconds, SETTLE_S, seed);
     eprintln!(
-        "e = {:+.0} ppm, {seconds} s: settled after {:.1} s; after {settle} s: fill within \
-         {:.1} frames of {TARGET}, ratio error: mean {:+.3} ppm, worst minute {:.3} ppm, worst \
+        "e = {:+.0} ppm, {seconds} s: fill settled after {:.1} s; after {SETTLE_S} s: fill \
+         within {:.1} frames of {TARGET} (the follower's input {:+.1} frames off on \
+         average), ratio error: mean {:+.3} ppm, worst one-minute mean {:.3} ppm, worst \
          instant {:.1} ppm; THD+N {:.1} dB ({} analyses), underruns {}, overruns {}",
         e0 * 1e6,
         o.settled_s,
         o.worst_fill_dev,
+        o.measured_offset,
         o.bias_ppm,
         o.worst_minute_ppm,
         o.worst_ratio_ppm,
@@ -255,28 +293,41 @@ fn check(e0: f64, seconds: f64, seed: u64, bias_limit_ppm: f64) {
         o.overruns
     );
     assert_eq!((o.underruns, o.overruns), (0, 0));
-    assert!(o.settled_s < settle, "{o:?}");
+    assert!(o.settled_s < SETTLE_S, "{o:?}");
     assert!(o.worst_fill_dev <= 64.0, "{o:?}");
-    assert!(o.bias_ppm.abs() < bias_limit_ppm, "{o:?}");
-    // Timing jitter of up to 2 ms (96 frames) moves the fill, and so the ratio, at random:
-    // a minute's mean is within a few ppm (stated, not a target of the issue).
-    assert!(o.worst_minute_ppm < 4.0, "{o:?}");
     assert!(o.analyses > 0 && o.worst_thdn_db < -110.0, "{o:?}");
+    o
 }
 
 #[test]
-fn follower_holds_the_fill_for_two_minutes() {
-    // Over 90 s of steady state the jitter-driven wander of the fill (a few frames) still
-    // shows in the mean ratio error; the ten-minute run holds it under 1 ppm.
-    for (e0, seed) in [(-300e-6, 12), (300e-6, 11)] {
-        check(e0, 120.0, seed, 3.0);
-    }
-}
-
-#[test]
-#[ignore = "ten simulated minutes per sign (about a minute of CPU); run with --ignored"]
-fn follower_holds_the_fill_for_ten_minutes() {
+fn follower_holds_the_fill_and_the_ratio_for_ten_minutes() {
     for (e0, seed) in [(300e-6, 21), (-300e-6, 22)] {
-        check(e0, 600.0, seed, 1.0);
+        let o = check(e0, 600.0, seed);
+        // Issue 12: steady-state ratio error under 1 ppm, here for every one-minute mean
+        // (nine minutes after settling), not only the mean over all of them.
+        assert!(o.worst_minute_ppm < 1.0, "{o:?}");
+        assert!(o.bias_ppm.abs() < 1.0, "{o:?}");
     }
+}
+
+#[test]
+fn follower_holds_other_jitter_draws() {
+    // Other random arrival times, four simulated minutes each (three one-minute means).
+    for (e0, seed) in [(300e-6, 5), (-300e-6, 6), (120e-6, 7), (-45e-6, 8)] {
+        let o = check(e0, 240.0, seed);
+        assert!(o.worst_minute_ppm < 1.0, "{o:?}");
+    }
+}
+
+#[test]
+fn without_the_peak_hold_a_minute_is_off_by_more() {
+    // The same ten minutes with the follower acting on every fill as measured (the loop
+    // before the peak hold): the arrival jitter's slow part moves a minute's mean ratio by
+    // more than 1 ppm. Shows that the per-minute check above can fail.
+    let o = simulate_with(300e-6, 600.0, SETTLE_S, 21, 0.0);
+    eprintln!(
+        "without the peak hold, +300 ppm: worst one-minute mean {:.3} ppm",
+        o.worst_minute_ppm
+    );
+    assert!(o.worst_minute_ppm > 1.0, "{o:?}");
 }

@@ -106,7 +106,7 @@ impl<T: Sample> Stage<T> {
     fn new(plan: &StagePlan, i: usize, channels: usize, kernel: Kernel) -> Result<Self> {
         let d = &plan.stages()[i];
         Ok(if plan.half_band_stage() == Some(i) {
-            Stage::Half(HalfBand::new(d, channels))
+            Stage::Half(HalfBand::new(d, channels, kernel))
         } else {
             Stage::Poly(StreamConverter::with_kernel(d, channels, kernel)?)
         })
@@ -194,7 +194,8 @@ enum Inner<T> {
 /// `m` at input time `m M / L`; no allocation, lock or panic in the processing calls. With
 /// one stage it is that stage's [`StreamConverter`]. With two, a call takes the input
 /// through small planar queues (copies, 4096 frames a channel, allocated at construction)
-/// between the stages; frames read may wait in the queues until their outputs are ready.
+/// between the stages (planar input to a first half-band stage goes straight into its own
+/// even and odd planes); frames read may wait in the queues until their outputs are ready.
 ///
 /// ```
 /// use resample_core::{ChainConverter, FilterSpec, StageChoice};
@@ -224,8 +225,9 @@ impl<T: Sample> ChainConverter<T> {
         Self::with_kernel(plan, channels, Kernel::detect())
     }
 
-    /// A converter using a given kernel for the polyphase stage(s) (the half-band stage
-    /// has a kernel of its own).
+    /// A converter using a given kernel for every stage: the polyphase stage(s) run its
+    /// group kernels, the half-band stage its half-band kernel (`Kernel::Scalar` forces the
+    /// scalar reference for both).
     pub fn with_kernel(plan: &StagePlan, channels: usize, kernel: Kernel) -> Result<Self> {
         if channels == 0 || channels > crate::MAX_CHANNELS {
             return Err(Error::ChannelsOutOfRange { channels });
@@ -453,6 +455,13 @@ impl<T: Sample> ChainConverter<T> {
         if t.flushing {
             return Err(Error::InputAfterFlush);
         }
+        if matches!(t.a, Stage::Half(_)) {
+            // A first half-band stage takes the caller's planes itself (it splits them into
+            // its even and odd planes as it reads): no copy through the input queue.
+            return t.run_direct(input, frames_in, frames_out, |q, at, n| {
+                store_planar(q, output, at, n)
+            });
+        }
         t.run(
             frames_in,
             frames_out,
@@ -593,6 +602,47 @@ impl<T: Sample> Two<T> {
                     read += take;
                     self.n_in += take as u64;
                     continue;
+                }
+            }
+            break;
+        }
+        Ok(Progress {
+            frames_read: read,
+            frames_written: written,
+        })
+    }
+
+    /// [`Two::run`] for a first half-band stage fed straight from the caller's planar
+    /// `input` (the input queue stays empty).
+    fn run_direct<I: AsRef<[T]>>(
+        &mut self,
+        input: &[I],
+        frames_in: usize,
+        frames_out: usize,
+        mut store: impl FnMut(&Queue<T>, usize, usize),
+    ) -> Result<Progress> {
+        let mut read = 0;
+        let mut written = 0;
+        loop {
+            written += self.deliver(u64::MAX, frames_out - written, written, &mut store);
+            if self.output.pending() > 0 {
+                break; // the caller's buffer is full
+            }
+            if self.step()? {
+                continue;
+            }
+            if read < frames_in {
+                self.mid.compact();
+                if self.mid.room() > 0 {
+                    if let Stage::Half(h) = &mut self.a {
+                        let p = h.process_from(input, read, &mut self.mid.lanes);
+                        self.mid.put(p.frames_written);
+                        read += p.frames_read;
+                        self.n_in += p.frames_read as u64;
+                        if p.frames_read + p.frames_written > 0 {
+                            continue;
+                        }
+                    }
                 }
             }
             break;

@@ -10,11 +10,17 @@
 //! * 1:2 (gain 2): `y[2i] = 2 h[c] x[i]`, `y[2i + 1] = sum_t 2 g_t (x[i + t + 1] + x[i - t])`.
 //!
 //! Both are the polyphase sum `y[m] = L sum_j h[j] x[(m M + c - j) / L]` of the prototype
-//! (terms with a zero tap left out). Each output is computed by the same operations in the
-//! same order wherever it falls in a block, so the output does not depend on chunking.
+//! (terms with a zero tap left out). The stage keeps its input as planes, per channel: the
+//! even and the odd samples apart for 2:1 (split once as they arrive), the input itself for
+//! 1:2, so the samples every output's pairs meet are contiguous and the kernel
+//! (`kernel::halfband`: scalar reference, AVX2 + FMA, AVX-512F, chosen once at
+//! construction) reads them in place; 2:1 outputs are written straight into the caller's
+//! output. Each output is computed by the same operations in the same order wherever it
+//! falls in a block, so the output does not depend on chunking.
 
 use super::stream::Progress;
-use crate::kernel::Sample;
+use crate::kernel::halfband::{run, HalfBandFn, HalfBandJob};
+use crate::kernel::{Kernel, Sample};
 use crate::Design;
 
 /// Input frames buffered per channel beyond the filter's reach.
@@ -30,26 +36,31 @@ pub(super) struct HalfBand<T> {
     centre: T,
     g: Vec<T>,
     channels: usize,
-    /// Planar history: channel `c` at `hist[c * cap..][..fill]`, input index `base` first.
-    hist: Vec<T>,
+    f: HalfBandFn<T>,
+    /// 2:1: the even samples, channel `c` at `ev[c * cap..]` (plane index `p` holds
+    /// `x[2p]`); unused for 1:2.
+    ev: Vec<T>,
+    /// 2:1: the odd samples (`p` holds `x[2p + 1]`); 1:2: the input (`p` holds `x[p]`).
+    od: Vec<T>,
     cap: usize,
-    base: u64,
-    fill: usize,
+    /// Plane index at position 0 (negative at first: the zeros before the input).
+    pb: i64,
+    /// Positions filled in `ev` and `od` (zeros before the start and, flushing, after the
+    /// end included).
+    len_e: usize,
+    len_o: usize,
     n_in: u64,
     n_out: u64,
     flushing: bool,
-    /// Gathered input of a block (even samples for 2:1), the odd samples (2:1) or the
-    /// input around the block (1:2), and the outputs of a block (one or two rows).
-    even: Vec<T>,
-    odd: Vec<T>,
-    acc: Vec<T>,
+    /// 1:2: the odd outputs of a block.
     acc2: Vec<T>,
 }
 
 impl<T: Sample> HalfBand<T> {
     /// The stage for a half-band design (2:1 or 1:2; zeros at even distances from the
-    /// centre, which the caller guarantees: `FilterSpec::plan` makes them).
-    pub(super) fn new(design: &Design, channels: usize) -> Self {
+    /// centre, which the caller guarantees: `FilterSpec::plan` makes them), with the
+    /// half-band kernel of `kernel` (the scalar reference if it cannot run here).
+    pub(super) fn new(design: &Design, channels: usize, kernel: Kernel) -> Self {
         let pair = design.pair();
         let down = pair.down() == 2;
         let gain = f64::from(pair.up());
@@ -59,24 +70,35 @@ impl<T: Sample> HalfBand<T> {
         let g = (0..k)
             .map(|t| T::from_f64_lossy(gain * h.get(c + 2 * t + 1).copied().unwrap_or(0.0)))
             .collect();
-        let cap = BLOCK + 2 * k + 2;
-        Self {
+        let kernel = if kernel.is_available() {
+            kernel
+        } else {
+            Kernel::Scalar
+        };
+        let cap = if down {
+            BLOCK / 2 + OUT_BLOCK + 2 * k + 2
+        } else {
+            BLOCK + OUT_BLOCK / 2 + 2 * k + 2
+        };
+        let mut s = Self {
             down,
             centre: T::from_f64_lossy(gain * h[c]),
             g,
             channels,
-            hist: vec![T::zero(); cap * channels],
+            f: T::halfband_fn(kernel),
+            ev: vec![T::zero(); if down { cap * channels } else { 0 }],
+            od: vec![T::zero(); cap * channels],
             cap,
-            base: 0,
-            fill: 0,
+            pb: 0,
+            len_e: 0,
+            len_o: 0,
             n_in: 0,
             n_out: 0,
             flushing: false,
-            even: vec![T::zero(); OUT_BLOCK + 2],
-            odd: vec![T::zero(); OUT_BLOCK + 2 * k + 2],
-            acc: vec![T::zero(); OUT_BLOCK + 2],
-            acc2: vec![T::zero(); OUT_BLOCK + 2],
-        }
+            acc2: vec![T::zero(); OUT_BLOCK / 2 + 2],
+        };
+        s.reset();
+        s
     }
 
     fn k(&self) -> u64 {
@@ -84,8 +106,17 @@ impl<T: Sample> HalfBand<T> {
     }
 
     pub(super) fn reset(&mut self) {
-        self.base = 0;
-        self.fill = 0;
+        // The zeros before the first input: K odd samples (2:1) or K - 1 samples (1:2).
+        let k = self.g.len();
+        let lead = if self.down { k } else { k - 1 };
+        self.pb = -(lead as i64);
+        self.len_e = lead;
+        self.len_o = lead;
+        for p in [&mut self.ev, &mut self.od] {
+            for b in p.chunks_exact_mut(self.cap) {
+                b[..lead].fill(T::zero());
+            }
+        }
         self.n_in = 0;
         self.n_out = 0;
         self.flushing = false;
@@ -145,7 +176,7 @@ impl<T: Sample> HalfBand<T> {
 
     /// Convert whole planar channels (the offline path; the same outputs as streaming).
     pub(super) fn convert_whole<I: AsRef<[T]>>(design: &Design, input: &[I]) -> Vec<Vec<T>> {
-        let mut h = Self::new(design, input.len());
+        let mut h = Self::new(design, input.len(), Kernel::detect());
         let n = input.first().map_or(0, |c| c.as_ref().len());
         let total = usize::try_from(h.total(n as u64)).unwrap_or(usize::MAX);
         let mut out = vec![vec![T::zero(); total]; input.len()];
@@ -172,143 +203,178 @@ impl<T: Sample> HalfBand<T> {
         out
     }
 
-    /// Sample `i` of channel `ch` (zero before the start and after the end).
-    #[inline]
-    fn x(&self, ch: usize, i: i64) -> T {
-        if i < 0 || i as u64 >= self.n_in {
-            return T::zero();
-        }
-        let at = (i as u64 - self.base) as usize;
-        self.hist[ch * self.cap + at]
-    }
-
-    /// Oldest input the next output reads.
-    fn oldest_needed(&self) -> u64 {
-        let k = self.k();
+    /// Oldest plane index the next output reads.
+    fn oldest_needed(&self) -> i64 {
+        let k = self.g.len() as i64;
         if self.down {
-            (2 * self.n_out).saturating_sub((2 * k).saturating_sub(1))
+            self.n_out as i64 - k
         } else {
-            (self.n_out / 2).saturating_sub(k.saturating_sub(1))
+            (self.n_out / 2) as i64 - (k - 1)
         }
     }
 
+    /// Drop the plane positions no output will read again.
     fn make_room(&mut self) {
-        let start = self.oldest_needed().max(self.base);
-        let drop = ((start - self.base) as usize).min(self.fill);
+        let drop = usize::try_from(self.oldest_needed() - self.pb)
+            .unwrap_or(0)
+            .min(self.len_o);
         if drop == 0 {
             return;
         }
-        for b in self.hist.chunks_exact_mut(self.cap) {
-            b.copy_within(drop..self.fill, 0);
+        let (le, lo) = (self.len_e, self.len_o);
+        for b in self.ev.chunks_exact_mut(self.cap) {
+            b.copy_within(drop..le, 0);
         }
-        self.fill -= drop;
-        self.base += drop as u64;
-    }
-
-    /// `out[q] = x(ch, first + q * step)` for every `q`, read straight from the history
-    /// where all of it is there.
-    fn gather(&self, ch: usize, first: i64, step: usize, out: &mut [T]) {
-        let last = first + ((out.len().max(1) - 1) * step) as i64;
-        if first >= self.base as i64 && (last as u64) < self.n_in {
-            let at = ch * self.cap + (first as u64 - self.base) as usize;
-            let src = &self.hist[at..];
-            for (q, o) in out.iter_mut().enumerate() {
-                *o = src[q * step];
-            }
-        } else {
-            for (q, o) in out.iter_mut().enumerate() {
-                *o = self.x(ch, first + (q * step) as i64);
-            }
+        for b in self.od.chunks_exact_mut(self.cap) {
+            b.copy_within(drop..lo, 0);
         }
-    }
-
-    /// `acc[j] += g_t (odd[j + K + t] + odd[j + K - 1 - t])` for every tap pair, in order
-    /// of `t` (16 outputs at a time held in registers; the tail one by one, by the same
-    /// operations in the same order).
-    fn pairs(g: &[T], odd: &[T], acc: &mut [T]) {
-        const W: usize = 16;
-        let k = g.len();
-        let n = acc.len();
-        let whole = n - n % W;
-        for j0 in (0..whole).step_by(W) {
-            let mut a = [T::zero(); W];
-            a.copy_from_slice(&acc[j0..j0 + W]);
-            for (t, &gt) in g.iter().enumerate() {
-                let hi = &odd[j0 + k + t..j0 + k + t + W];
-                let lo = &odd[j0 + k - 1 - t..j0 + k - 1 - t + W];
-                for l in 0..W {
-                    a[l] = a[l] + gt * (hi[l] + lo[l]);
-                }
-            }
-            acc[j0..j0 + W].copy_from_slice(&a);
-        }
-        for j in whole..n {
-            let mut a = acc[j];
-            for (t, &gt) in g.iter().enumerate() {
-                a = a + gt * (odd[j + k + t] + odd[j + k - 1 - t]);
-            }
-            acc[j] = a;
-        }
-    }
-
-    /// Compute outputs `m0..m0 + nb` of channel `ch` into `acc[..nb]`.
-    fn block(&mut self, ch: usize, m0: u64, nb: usize) {
-        let k = self.g.len();
-        let ki = k as i64;
-        let mut even = std::mem::take(&mut self.even);
-        let mut odd = std::mem::take(&mut self.odd);
-        let mut acc = std::mem::take(&mut self.acc);
         if self.down {
-            self.gather(ch, 2 * m0 as i64, 2, &mut even[..nb]);
-            self.gather(ch, 2 * (m0 as i64 - ki) + 1, 2, &mut odd[..nb + 2 * k - 1]);
-            let centre = self.centre;
-            for (a, &e) in acc[..nb].iter_mut().zip(&even[..nb]) {
-                *a = centre * e;
-            }
-            Self::pairs(&self.g, &odd[..nb + 2 * k - 1], &mut acc[..nb]);
-        } else {
-            // Inputs i0..=i1 serve outputs m0..m0 + nb (outputs 2i and 2i + 1).
-            let i0 = m0 / 2;
-            let i1 = (m0 + nb as u64 - 1) / 2;
-            let ni = (i1 - i0 + 1) as usize;
-            self.gather(ch, i0 as i64 - (ki - 1), 1, &mut odd[..ni + 2 * k - 1]);
-            let centre = self.centre;
-            let mut acc2 = std::mem::take(&mut self.acc2);
-            for (a, &e) in acc[..ni].iter_mut().zip(&odd[k - 1..k - 1 + ni]) {
-                *a = centre * e;
-            }
-            for b in &mut acc2[..ni] {
-                *b = T::zero();
-            }
-            Self::pairs(&self.g, &odd[..ni + 2 * k - 1], &mut acc2[..ni]);
-            // Outputs in order into `even` (scratch), then back to `acc`.
-            for (p, e) in even[..nb].iter_mut().enumerate() {
-                let m = m0 + p as u64;
-                let j = (m / 2 - i0) as usize;
-                *e = if m % 2 == 0 { acc[j] } else { acc2[j] };
-            }
-            acc[..nb].copy_from_slice(&even[..nb]);
-            self.acc2 = acc2;
+            self.len_e -= drop;
         }
-        self.even = even;
-        self.odd = odd;
-        self.acc = acc;
+        self.len_o -= drop;
+        self.pb += drop as i64;
+    }
+
+    /// Input frames the planes can take now.
+    fn room(&self) -> usize {
+        if self.down {
+            2 * (self.cap - self.len_e.max(self.len_o))
+        } else {
+            self.cap - self.len_o
+        }
+    }
+
+    /// Take `src[..]` of every channel into the planes (split into even and odd for 2:1).
+    fn take_input<I: AsRef<[T]>>(&mut self, input: &[I], from: usize, n: usize) {
+        let cap = self.cap;
+        if self.down {
+            let first_odd = self.n_in % 2 == 1;
+            let (le, lo) = (self.len_e, self.len_o);
+            let mut ne = 0;
+            let mut no = 0;
+            for (ch, src) in input.iter().enumerate() {
+                let mut x = &src.as_ref()[from..from + n];
+                let e = &mut self.ev[ch * cap + le..(ch + 1) * cap];
+                let o = &mut self.od[ch * cap + lo..(ch + 1) * cap];
+                let mut oi = 0;
+                if first_odd && !x.is_empty() {
+                    o[0] = x[0];
+                    x = &x[1..];
+                    oi = 1;
+                }
+                let pairs = x.chunks_exact(2);
+                let rest = pairs.remainder();
+                let np = pairs.len();
+                for ((pe, po), p) in e.iter_mut().zip(o[oi..].iter_mut()).zip(pairs) {
+                    *pe = p[0];
+                    *po = p[1];
+                }
+                if let Some(&v) = rest.first() {
+                    e[np] = v;
+                }
+                ne = np + rest.len();
+                no = np + oi;
+            }
+            self.len_e += ne;
+            self.len_o += no;
+        } else {
+            let lo = self.len_o;
+            for (ch, src) in input.iter().enumerate() {
+                self.od[ch * cap + lo..ch * cap + lo + n]
+                    .copy_from_slice(&src.as_ref()[from..from + n]);
+            }
+            self.len_o += n;
+        }
+        self.n_in += n as u64;
+    }
+
+    /// Flushing: zeros after the end so that the odd plane (the input for 1:2) reaches plane
+    /// index `last`; false if there is no room even after dropping what is read.
+    fn pad_to(&mut self, last: i64) -> bool {
+        let want = usize::try_from(last - self.pb + 1).unwrap_or(0);
+        if want <= self.len_o {
+            return true;
+        }
+        if want > self.cap {
+            self.make_room();
+        }
+        let want = usize::try_from(last - self.pb + 1).unwrap_or(0);
+        if want > self.cap {
+            return false;
+        }
+        let lo = self.len_o;
+        for b in self.od.chunks_exact_mut(self.cap) {
+            b[lo..want].fill(T::zero());
+        }
+        self.len_o = want;
+        true
     }
 
     /// Compute outputs while their input is present (or, flushing, until the total), at
-    /// most `max`; `store(frame, channel, values)` takes each block.
-    fn produce(&mut self, max: usize, store: &mut impl FnMut(usize, usize, &[T])) -> usize {
+    /// most `max`, into `output[ch][at..]`.
+    fn produce<O: AsMut<[T]>>(&mut self, output: &mut [O], at: usize, max: usize) -> usize {
         let limit = if self.flushing {
             self.total(self.n_in)
         } else {
             self.ready(self.n_in)
         };
+        let k = self.g.len();
+        let cap = self.cap;
         let mut done = 0;
         while done < max && self.n_out < limit {
             let nb = ((limit - self.n_out).min((max - done) as u64) as usize).min(OUT_BLOCK);
-            for ch in 0..self.channels {
-                self.block(ch, self.n_out, nb);
-                store(done, ch, &self.acc[..nb]);
+            let m0 = self.n_out;
+            // The last plane index the block reads.
+            let last = if self.down {
+                (m0 + nb as u64) as i64 + k as i64 - 2
+            } else {
+                ((m0 + nb as u64 - 1) / 2) as i64 + k as i64
+            };
+            if self.flushing && !self.pad_to(last) {
+                break;
+            }
+            if last - self.pb >= self.len_o as i64 {
+                // Not yet in the planes (cannot happen outside flushing).
+                break;
+            }
+            for (ch, o) in output.iter_mut().enumerate().take(self.channels) {
+                let out = &mut o.as_mut()[at + done..at + done + nb];
+                if self.down {
+                    let e0 = ch * cap + (m0 as i64 - self.pb) as usize;
+                    let o0 = ch * cap + (m0 as i64 - k as i64 - self.pb) as usize;
+                    let job = HalfBandJob {
+                        centre: self.centre,
+                        mid: Some(&self.ev[e0..e0 + nb]),
+                        g: &self.g,
+                        odd: &self.od[o0..o0 + nb + 2 * k - 1],
+                    };
+                    let ok = run(self.f, &job, out);
+                    debug_assert!(ok);
+                } else {
+                    let i0 = m0 / 2;
+                    let i1 = (m0 + nb as u64 - 1) / 2;
+                    let ni = (i1 - i0 + 1) as usize;
+                    let x0 = ch * cap + (i0 as i64 - (k as i64 - 1) - self.pb) as usize;
+                    let x = &self.od[x0..x0 + ni + 2 * k - 1];
+                    let job = HalfBandJob {
+                        centre: self.centre,
+                        mid: None,
+                        g: &self.g,
+                        odd: x,
+                    };
+                    let ok = run(self.f, &job, &mut self.acc2[..ni]);
+                    debug_assert!(ok);
+                    let centre = self.centre;
+                    for (p, o) in out.iter_mut().enumerate() {
+                        let m = m0 + p as u64;
+                        let j = (m / 2 - i0) as usize;
+                        *o = if m % 2 == 0 {
+                            centre * x[j + k - 1]
+                        } else {
+                            self.acc2[j]
+                        };
+                    }
+                }
             }
             self.n_out += nb as u64;
             done += nb;
@@ -323,34 +389,36 @@ impl<T: Sample> HalfBand<T> {
         input: &[I],
         output: &mut [O],
     ) -> Progress {
-        let frames_in = input.first().map_or(0, |c| c.as_ref().len());
+        self.process_from(input, 0, output)
+    }
+
+    /// [`HalfBand::process`] of `input[ch][from..]`: the chain hands its caller's planar
+    /// input straight to a first half-band stage (no copy into a queue first).
+    pub(super) fn process_from<I: AsRef<[T]>, O: AsMut<[T]>>(
+        &mut self,
+        input: &[I],
+        from: usize,
+        output: &mut [O],
+    ) -> Progress {
+        let frames_in = input
+            .first()
+            .map_or(0, |c| c.as_ref().len().saturating_sub(from));
         let frames_out = output.first_mut().map_or(0, |c| c.as_mut().len());
         let mut read = 0;
         let mut written = 0;
         loop {
-            let at0 = written;
-            written += self.produce(
-                frames_out - written,
-                &mut |at: usize, ch: usize, v: &[T]| {
-                    output[ch].as_mut()[at0 + at..at0 + at + v.len()].copy_from_slice(v);
-                },
-            );
+            written += self.produce(output, written, frames_out - written);
             if written == frames_out || read == frames_in {
                 break;
             }
-            if self.fill == self.cap {
+            if self.room() == 0 {
                 self.make_room();
-                if self.fill == self.cap {
+                if self.room() == 0 {
                     break;
                 }
             }
-            let take = (self.cap - self.fill).min(frames_in - read);
-            for (ch, src) in input.iter().enumerate() {
-                let at = ch * self.cap + self.fill;
-                self.hist[at..at + take].copy_from_slice(&src.as_ref()[read..read + take]);
-            }
-            self.fill += take;
-            self.n_in += take as u64;
+            let take = self.room().min(frames_in - read);
+            self.take_input(input, from + read, take);
             read += take;
         }
         Progress {
@@ -363,8 +431,6 @@ impl<T: Sample> HalfBand<T> {
     pub(super) fn flush<O: AsMut<[T]>>(&mut self, output: &mut [O]) -> usize {
         self.flushing = true;
         let frames_out = output.first_mut().map_or(0, |c| c.as_mut().len());
-        self.produce(frames_out, &mut |at: usize, ch: usize, v: &[T]| {
-            output[ch].as_mut()[at..at + v.len()].copy_from_slice(v);
-        })
+        self.produce(output, 0, frames_out)
     }
 }

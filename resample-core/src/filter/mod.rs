@@ -16,6 +16,6 @@ pub use design::{Design, DesignReport, GROUP_DELAY_REF_HZ};
 pub use glide::{GlideBand, GlideDesign, GlideReport, Interpolation};
 pub use spec::{FilterSpec, Phase, StageChoice};
 pub use stages::{
-    StagePlan, HALF_BAND_OVERHEAD_TAPS, OUTPUT_OVERHEAD_TAPS, SHORT_STAGE_MARGIN_DB,
-    TWO_STAGE_MAX_COST_FRACTION,
+    StagePlan, HALF_BAND_OVERHEAD_TAPS, HALF_BAND_UP_OVERHEAD_TAPS, OUTPUT_OVERHEAD_TAPS,
+    SHORT_STAGE_MARGIN_DB, TWO_STAGE_MAX_COST_FRACTION,
 };

@@ -34,12 +34,20 @@ pub const TWO_STAGE_MAX_COST_FRACTION: f64 = 1.0 / 1.4;
 /// bookkeeping): calibrated on the `stages` bench (see benches/README.md).
 pub const OUTPUT_OVERHEAD_TAPS: f64 = 8.0;
 
-/// Work of the half-band stage and of the queues between the stages per frame at the
-/// half-band stage's higher rate, besides its tap pairs, in the cost model's units (one
-/// unit: one tap of the polyphase kernels). Calibrated on the `stages` bench
-/// (benches/README.md): the half-band stage is plain Rust (no SIMD kernel of its own) and
-/// cost there 70 to 150 units per frame, so two stages did not pay for any pair measured.
-pub const HALF_BAND_OVERHEAD_TAPS: f64 = 100.0;
+/// Work of a 2:1 half-band stage and of the queues between the stages per frame of its
+/// input, besides its tap pairs, in the cost model's units (one unit: one tap of the
+/// polyphase kernels). Calibrated on the `stages` bench (benches/README.md): with the
+/// half-band kernel (`kernel::halfband`) and its even/odd planes, the measured two-stage
+/// times of 192k -> 44.1k, 48k -> 8k and 48k -> 16k at 120 and 140 dB fit 19 to 43 units;
+/// 35 keeps the automatic choice to the cases measured at 1.4x or more (it was 100 with
+/// the plain-Rust stage, when two stages paid for no pair).
+pub const HALF_BAND_OVERHEAD_TAPS: f64 = 35.0;
+
+/// The same for a 1:2 half-band stage (the last stage of an up-sampling), per frame of its
+/// output: the odd outputs' pairs, the even outputs' centre tap, the interleaving and the
+/// queues. Calibrated on the `stages` bench's 8k -> 48k (82 to 91 units fit); two stages
+/// do not pay there.
+pub const HALF_BAND_UP_OVERHEAD_TAPS: f64 = 90.0;
 
 /// Most extra dB asked of the polyphase stage so that the two ripples fit the allowance.
 const MAX_RIPPLE_STEPS: usize = 8;
@@ -99,10 +107,19 @@ fn modelled(in_rate: u32, out_rate: u32, f_pass: f64, f_stop: f64, db: f64) -> O
 /// Modelled cost of a half-band stage between `2 mid` and `mid` passing up to `nyq`, per
 /// frame of its higher rate: its pairs of nonzero taps (the taps are symmetric, every other
 /// one is zero: about a quarter of the taps per frame of the lower rate) plus the overhead.
-fn half_band_cost(mid: f64, nyq: f64, db: f64) -> f64 {
+fn half_band_cost(mid: f64, nyq: f64, db: f64, overhead: f64) -> f64 {
     let width = (mid - 2.0 * nyq) / mid;
     let (taps, _) = kaiser_length(db, width);
-    taps as f64 / 8.0 + HALF_BAND_OVERHEAD_TAPS
+    taps as f64 / 8.0 + overhead
+}
+
+/// The calibrated overhead of a half-band stage: 2:1 (first stage) or 1:2 (last).
+fn half_band_overhead(short_first: bool) -> f64 {
+    if short_first {
+        HALF_BAND_OVERHEAD_TAPS
+    } else {
+        HALF_BAND_UP_OVERHEAD_TAPS
+    }
 }
 
 /// The two-stage layout for a rate pair, if it has one: the rates in the middle and
@@ -139,7 +156,7 @@ impl FilterSpec {
     /// Check the spec and choose one stage or two, then design the stages. With
     /// [`StageChoice::Auto`] (the default) two stages are chosen when the modelled cost
     /// (multiply-adds and calibrated overheads per input frame: [`OUTPUT_OVERHEAD_TAPS`],
-    /// [`HALF_BAND_OVERHEAD_TAPS`]) of two is at most [`TWO_STAGE_MAX_COST_FRACTION`] of
+    /// [`HALF_BAND_OVERHEAD_TAPS`], [`HALF_BAND_UP_OVERHEAD_TAPS`]) of two is at most [`TWO_STAGE_MAX_COST_FRACTION`] of
     /// one; [`StageChoice::Single`] and [`StageChoice::Two`] force the choice. Two stages
     /// need linear phase and a rate pair with more than 2:1 between the rates and the
     /// higher one even.
@@ -161,7 +178,12 @@ impl FilterSpec {
             let (a_rate, b_rate) = (self.in_rate(), self.out_rate());
             let mid = f64::from(l.mid);
             // The half-band stage per frame of the higher of its two rates.
-            let short = half_band_cost(mid, nyq, a + SHORT_STAGE_MARGIN_DB);
+            let short = half_band_cost(
+                mid,
+                nyq,
+                a + SHORT_STAGE_MARGIN_DB,
+                half_band_overhead(l.short_first),
+            );
             let cost = if l.short_first {
                 let long = modelled(l.mid, b_rate, f_pass, nyq, a)?;
                 short + 0.5 * long
@@ -350,7 +372,7 @@ impl StagePlan {
                 if self.half_band == Some(i) {
                     // Per frame of the higher rate: half the pairs of nonzero taps.
                     let pairs = (r.total_taps / 2).div_ceil(2) as f64;
-                    a.max(b) / in_rate * (0.5 * pairs + HALF_BAND_OVERHEAD_TAPS)
+                    a.max(b) / in_rate * (0.5 * pairs + half_band_overhead(i == 0))
                 } else {
                     b / in_rate * (r.padded_taps_per_phase as f64 + OUTPUT_OVERHEAD_TAPS)
                 }

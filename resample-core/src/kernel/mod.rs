@@ -35,6 +35,8 @@ mod arm {
 }
 // The any-ratio engine's run kernel (interpolated taps shared by the channels).
 pub(crate) mod glide;
+// The half-band stage's kernel (scalar reference, AVX2 + FMA, AVX-512F).
+pub(crate) mod halfband;
 #[cfg(feature = "internals")]
 pub mod peak;
 pub mod scalar;
@@ -419,7 +421,15 @@ mod sealed {
 
 /// A sample type the converters work in: `f32` or `f64`.
 pub trait Sample:
-    Float + FromPrimitive + Default + core::fmt::Debug + Send + Sync + 'static + sealed::GroupKernels
+    Float
+    + FromPrimitive
+    + Default
+    + core::fmt::Debug
+    + Send
+    + Sync
+    + 'static
+    + sealed::GroupKernels
+    + halfband::HalfBandKernels
 {
     /// The dot product of `kernel` for this type. Falls back to the scalar reference if the
     /// kernel is not available on this CPU.
