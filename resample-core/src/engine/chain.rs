@@ -96,6 +96,9 @@ impl<T: Sample> Queue<T> {
 }
 
 /// One stage of two: the polyphase engine, or the half-band one.
+// A chain holds at most two stages, made once; boxing the larger one would only add a
+// pointer to follow on every call.
+#[allow(clippy::large_enum_variant)]
 #[derive(Debug, Clone)]
 enum Stage<T> {
     Poly(StreamConverter<T>),
