@@ -813,7 +813,10 @@ impl<T: Sample> GlideConverter<T> {
         let c = &self.clock;
         let p = sh.phases as f64;
         let rho = c.ratio().min(1.0);
-        debug_assert!(rho < 1.0, "ratios of 1 or more read the rows (blend)");
+        debug_assert!(
+            rho < 1.0,
+            "ratios of 1 or more read the coefficient table (glide_run)"
+        );
         // Stretched kernel: tap k at its own position q_k = (t - lo - k) rho P + half, read
         // from the prototype in tap order.
         let (lo, _) = sh.stretched_span(c);

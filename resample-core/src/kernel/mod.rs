@@ -2,15 +2,12 @@
 //! SIMD versions for x86_64 (AVX2 + FMA, AVX-512F) and aarch64 (NEON), and the choice of
 //! kernel, made once when a converter is built and stored with it as function pointers.
 //!
-//! A kernel has four entry points for each sample type:
+//! A kernel has three entry points for each sample type:
 //!
 //! * a single dot product ([`DotFn`]),
 //! * the any-ratio engine's *runs* ([`KernelFns::glide_run`], `glide.rs`): for each of
 //!   several outputs its taps interpolated once from a table of polynomial coefficients,
-//!   then shared by every channel's dot product (what the engine uses),
-//! * the *blend* ([`KernelFns::blend`]): the dot products of two or four table rows with
-//!   each channel's inputs, weighted by the interpolation between them (the engine's
-//!   earlier path, kept for comparison), and
+//!   then shared by every channel's dot product, and
 //! * *groups*: consecutive groups of a [`crate::table::GroupTable`] (a vector of taps per
 //!   input sample, one lane per output) against several inputs ([`KernelFns::span`], the
 //!   converters' inner loop; [`KernelFns::groups`] for one group). Each input sample is
@@ -61,34 +58,8 @@ pub type DotFn<T> = fn(&[T], &[T]) -> T;
 /// through that method, which checks the sizes first.
 pub(crate) type GroupsFn<T> = fn(&GroupSpan<'_, T>, &[&[T]], &mut [T]);
 
-/// The any-ratio engine's interpolated dot products (see [`KernelFns::blend`]).
-pub(crate) type BlendFn<T> = fn(&Blend<'_, T>, &mut [T]);
-
 /// The any-ratio engine's runs of outputs (see [`KernelFns::glide_run`]).
 pub(crate) type GlideRunFn<T> = fn(&GlideRun<'_, T>, &mut [T]);
-
-/// One output of the any-ratio engine for every channel, from `points` consecutive rows of
-/// its table: `rows[p row_stride..][..cols]` is row `p`, `weights[p]` its interpolation
-/// weight; channel `c`'s inputs are `hist[c stride..][..cols]`.
-#[derive(Debug, Clone, Copy)]
-pub struct Blend<'a, T> {
-    /// The rows, one after another.
-    pub rows: &'a [T],
-    /// Taps per row (inputs per channel).
-    pub cols: usize,
-    /// Distance between two rows in `rows` (at least `cols`).
-    pub row_stride: usize,
-    /// Rows read (1 to 4).
-    pub points: usize,
-    /// Their weights (unused ones ignored).
-    pub weights: [T; 4],
-    /// The inputs, channel after channel.
-    pub hist: &'a [T],
-    /// Distance between two channels' inputs in `hist`.
-    pub stride: usize,
-    /// Channels.
-    pub channels: usize,
-}
 
 /// Consecutive groups of a [`crate::table::GroupTable`] as one kernel call takes them
 /// ([`KernelFns::span`]): group `g` has taps `taps[g rows lanes..][..rows lanes]` (row `r`,
@@ -207,10 +178,6 @@ pub struct KernelFns<T> {
     // groups); the any-ratio engine, whose outputs each fall at a phase of their own, uses it.
     dot: DotFn<T>,
     groups: GroupsFn<T>,
-    // The blend of table rows is kept for the benches and tests (the engine runs
-    // `glide_run`).
-    #[cfg_attr(not(any(test, feature = "internals")), allow(dead_code))]
-    blend: BlendFn<T>,
     glide_run: GlideRunFn<T>,
     lanes: usize,
 }
@@ -235,7 +202,6 @@ impl<T: Sample> KernelFns<T> {
             kernel,
             dot: T::dot_fn(kernel),
             groups: T::groups_fn(kernel),
-            blend: T::blend_fn(kernel),
             glide_run: T::glide_run_fn(kernel),
             lanes: T::lanes(kernel),
         })
@@ -250,41 +216,6 @@ impl<T: Sample> KernelFns<T> {
     #[inline]
     pub fn dot(&self, taps: &[T], x: &[T]) -> T {
         (self.dot)(taps, x)
-    }
-
-    /// The any-ratio engine's output for every channel: `out[c] = sum_p weights[p] (row p .
-    /// channel c's inputs)` for `p < points`, each row's dot product summed as two partial
-    /// sums (even and odd vectors in SIMD kernels; left to right in the scalar reference),
-    /// then weighted in row order. Each channel's value does not depend on the others.
-    /// [`Error::BufferShape`] if `points` is not 1 to 4, the row stride is under `cols`, the
-    /// rows are short of `(points - 1) row_stride + cols` taps, `hist` of `(channels - 1) stride + cols` inputs or `out` of `channels` values.
-    #[inline]
-    #[cfg_attr(not(any(test, feature = "internals")), allow(dead_code))]
-    pub fn blend(&self, b: &Blend<'_, T>, out: &mut [T]) -> Result<()> {
-        let bad = |what: &'static str, expected: usize, got: usize| Error::BufferShape {
-            what,
-            expected,
-            got,
-        };
-        if !(1..=4).contains(&b.points) {
-            return Err(bad("blend rows (1 to 4)", 4, b.points));
-        }
-        let need = (b.points - 1) * b.row_stride + b.cols;
-        if b.row_stride < b.cols || b.rows.len() < need {
-            return Err(bad("blend taps (rows of cols taps)", need, b.rows.len()));
-        }
-        if b.channels == 0 {
-            return Err(bad("blend channels", 1, 0));
-        }
-        let need = (b.channels - 1) * b.stride + b.cols;
-        if b.hist.len() < need {
-            return Err(bad("blend inputs", need, b.hist.len()));
-        }
-        if out.len() < b.channels {
-            return Err(bad("blend output (one per channel)", b.channels, out.len()));
-        }
-        (self.blend)(b, out);
-        Ok(())
     }
 
     /// The any-ratio engine's outputs of a run ([`GlideRun`]): for output `k`, the taps
@@ -411,9 +342,6 @@ mod sealed {
         /// reference).
         fn lanes(kernel: super::Kernel) -> usize;
 
-        /// The blend function of a kernel for this type (scalar fallback if unavailable).
-        fn blend_fn(kernel: super::Kernel) -> super::BlendFn<Self>;
-
         /// The any-ratio run function of a kernel for this type (scalar fallback).
         fn glide_run_fn(kernel: super::Kernel) -> super::GlideRunFn<Self>;
     }
@@ -443,7 +371,7 @@ pub trait Sample:
 }
 
 macro_rules! impl_sample {
-    ($t:ty, $dot:ident, $groups:ident, $blend:ident, $run:ident, $from:expr, $to:expr) => {
+    ($t:ty, $dot:ident, $groups:ident, $run:ident, $from:expr, $to:expr) => {
         impl Sample for $t {
             fn dot_fn(kernel: Kernel) -> DotFn<Self> {
                 match kernel {
@@ -479,18 +407,6 @@ macro_rules! impl_sample {
                 }
             }
 
-            fn blend_fn(kernel: Kernel) -> BlendFn<Self> {
-                match kernel {
-                    #[cfg(target_arch = "x86_64")]
-                    Kernel::Avx2Fma if kernel.is_available() => x86::avx2::$blend,
-                    #[cfg(target_arch = "x86_64")]
-                    Kernel::Avx512 if kernel.is_available() => x86::avx512::$blend,
-                    #[cfg(target_arch = "aarch64")]
-                    Kernel::Neon if kernel.is_available() => arm::neon::$blend,
-                    _ => scalar::blend::<$t>,
-                }
-            }
-
             fn glide_run_fn(kernel: Kernel) -> GlideRunFn<Self> {
                 match kernel {
                     #[cfg(target_arch = "x86_64")]
@@ -520,7 +436,6 @@ impl_sample!(
     f32,
     dot_f32,
     groups_f32,
-    blend_f32,
     glide_run_f32,
     |v: f64| v as f32,
     f64::from
@@ -529,7 +444,6 @@ impl_sample!(
     f64,
     dot_f64,
     groups_f64,
-    blend_f64,
     glide_run_f64,
     |v: f64| v,
     |v: f64| v

@@ -45,27 +45,6 @@ pub(crate) fn span<T: Float>(g: &super::GroupSpan<'_, T>, inputs: &[&[T]], out: 
     }
 }
 
-/// Interpolated dot products (see [`super::KernelFns::blend`]): for each channel `c`,
-/// `out[c] = sum_p w_p (sum_k rows[p][k] x_c[k])`, each row's sum accumulated left to right,
-/// then the rows in order. Stops at the first channel whose inputs are too short (the caller
-/// checks the sizes).
-pub(crate) fn blend<T: Float>(b: &super::Blend<'_, T>, out: &mut [T]) {
-    let n = b.cols;
-    for (c, o) in out.iter_mut().enumerate().take(b.channels) {
-        let Some(x) = b.hist.get(c * b.stride..c * b.stride + n) else {
-            return;
-        };
-        let mut v = T::zero();
-        for (p, &w) in b.weights.iter().enumerate().take(b.points) {
-            let Some(row) = b.rows.get(p * b.row_stride..p * b.row_stride + n) else {
-                return;
-            };
-            v = v + w * dot(row, x);
-        }
-        *o = v;
-    }
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;

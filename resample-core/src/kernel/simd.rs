@@ -15,7 +15,7 @@
 //! (even and odd rows, added at the end), so its value does not depend on which inputs it
 //! was computed with.
 
-/// Generate `dot`, `span` and `blend` functions for one instruction set and sample type.
+/// Generate `dot` and `span` functions for one instruction set and sample type.
 ///
 /// `$feat`: the `target_feature` string; `$detect`: run-time check of those features;
 /// `$t`: sample type; `$v`: sibling module with the vector vocabulary for `$t`; `$m`: name
@@ -213,111 +213,6 @@ macro_rules! simd_kernels {
                         }
                     }
                 }
-            }
-
-            /// Interpolated dot products of every channel (see
-            /// [`crate::kernel::KernelFns::blend`]); the caller has checked the sizes.
-            pub(crate) fn blend(b: &$crate::kernel::Blend<'_, $t>, out: &mut [$t]) {
-                let ok = (b.points == 2 || b.points == 4)
-                    && b.row_stride >= b.cols
-                    && b.rows.len() >= (b.points - 1) * b.row_stride + b.cols
-                    && b.channels >= 1
-                    && b.hist.len() >= (b.channels - 1) * b.stride + b.cols
-                    && out.len() >= b.channels;
-                if !$detect() || !ok {
-                    return $crate::kernel::scalar::blend(b, out);
-                }
-                let r = b.rows.as_ptr();
-                let rows: [*const $t; 4] =
-                    core::array::from_fn(|p| r.wrapping_add(p.min(b.points - 1) * b.row_stride));
-                // Two rows (linear) or four (cubic); other counts went to the reference.
-                let mut c = 0;
-                while c < b.channels {
-                    let left = b.channels - c;
-                    let x0 = b.hist[c * b.stride..].as_ptr();
-                    let x = |k: usize| x0.wrapping_add(k * b.stride);
-                    let o = out[c..].as_mut_ptr();
-                    // Safety: the CPU features were detected just above; the rows hold
-                    // `points` rows of `cols` taps `row_stride` apart, every channel `cols` inputs from its
-                    // start at `stride` apart and `out` one value per channel (checked
-                    // above); only the first `points` rows and `C` channels are read.
-                    let took = unsafe {
-                        match (b.points, left) {
-                            (2, 1) => blend_impl::<2, 1>(rows, &b.weights, [x(0)], b.cols, o),
-                            (2, _) => blend_impl::<2, 2>(rows, &b.weights, [x(0), x(1)], b.cols, o),
-                            (_, 1) => blend_impl::<4, 1>(rows, &b.weights, [x(0)], b.cols, o),
-                            _ if $v::JOBS < 8 => {
-                                blend_impl::<4, 1>(rows, &b.weights, [x(0)], b.cols, o)
-                            }
-                            _ => blend_impl::<4, 2>(rows, &b.weights, [x(0), x(1)], b.cols, o),
-                        }
-                    };
-                    c += took;
-                }
-            }
-
-            /// `C` channels of interpolated dot products against `P` rows: per row and
-            /// channel two accumulators (even and odd vectors of taps, added at the end), then
-            /// `sum_p w_p (row p . x)` and one horizontal sum per channel. Returns `C`.
-            ///
-            /// # Safety
-            /// The CPU supports `$feat`; `rows[p]` (p < P) valid for `n` reads, `x[c]` for
-            /// `n` reads, `out` for `C` writes. With `P = 2` the weights of rows 2 and 3
-            /// are not read.
-            #[target_feature(enable = $feat)]
-            unsafe fn blend_impl<const P: usize, const C: usize>(
-                rows: [*const $t; 4],
-                w: &[$t; 4],
-                x: [*const $t; C],
-                n: usize,
-                out: *mut $t,
-            ) -> usize {
-                use $v::*;
-                // Safety: every read is below `n`, every write below `C` (the caller's
-                // guarantee); features as above.
-                unsafe {
-                    let mut a = [[zero(); C]; P];
-                    let mut b = [[zero(); C]; P];
-                    let mut j = 0;
-                    while j + 2 * W <= n {
-                        let x0: [V; C] = core::array::from_fn(|c| load(x[c].add(j)));
-                        let x1: [V; C] = core::array::from_fn(|c| load(x[c].add(j + W)));
-                        for p in 0..P {
-                            let t0 = load(rows[p].add(j));
-                            let t1 = load(rows[p].add(j + W));
-                            for c in 0..C {
-                                a[p][c] = fma(a[p][c], t0, x0[c]);
-                                b[p][c] = fma(b[p][c], t1, x1[c]);
-                            }
-                        }
-                        j += 2 * W;
-                    }
-                    if j + W <= n {
-                        for p in 0..P {
-                            let t0 = load(rows[p].add(j));
-                            for c in 0..C {
-                                a[p][c] = fma(a[p][c], t0, load(x[c].add(j)));
-                            }
-                        }
-                        j += W;
-                    }
-                    if j < n {
-                        for p in 0..P {
-                            let t1 = partial(rows[p].add(j), n - j);
-                            for c in 0..C {
-                                b[p][c] = fma(b[p][c], t1, partial(x[c].add(j), n - j));
-                            }
-                        }
-                    }
-                    for c in 0..C {
-                        let mut v = zero();
-                        for p in 0..P {
-                            v = fma(v, splat(w.as_ptr().add(p)), add(a[p][c], b[p][c]));
-                        }
-                        *out.add(c) = hsum(v);
-                    }
-                }
-                C
             }
 
             /// # Safety

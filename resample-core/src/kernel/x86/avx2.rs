@@ -173,8 +173,8 @@ mod v64 {
 simd_kernels!("avx2,fma", crate::kernel::avx2_fma_detected, f32, v32, k32);
 simd_kernels!("avx2,fma", crate::kernel::avx2_fma_detected, f64, v64, k64);
 
-pub(crate) use k32::{blend as blend_f32, dot as dot_f32, span as groups_f32};
-pub(crate) use k64::{blend as blend_f64, dot as dot_f64, span as groups_f64};
+pub(crate) use k32::{dot as dot_f32, span as groups_f32};
+pub(crate) use k64::{dot as dot_f64, span as groups_f64};
 
 // The any-ratio engine's run kernel (`kernel/glide.rs`).
 crate::kernel::glide::glide_kernels!(
