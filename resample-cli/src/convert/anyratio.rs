@@ -107,11 +107,13 @@ pub fn route(
     // Most pairs fit the table budget whatever the design turns out to be: then the fixed
     // engine designs its filter while the input is being read. Only the others are designed
     // here, before reading.
-    let spec = resample_core::FilterSpec::new(in_rate, settings.out_rate)
-        .stopband_db(stopband_db)
-        .passband(settings.passband)
-        .phase(settings.phase);
-    if spec.surely_fits_table_budget() {
+    if designs.surely_fits(
+        in_rate,
+        settings.out_rate,
+        stopband_db,
+        settings.passband,
+        settings.phase,
+    ) {
         return None;
     }
     match designs.get(

@@ -37,6 +37,21 @@ impl DesignCache {
         memo(&self.map, spec, |s| s.design())
     }
 
+    /// Whether the fixed engine's design for these parameters surely fits the table budget,
+    /// known without designing ([`FilterSpec::surely_fits_table_budget`]).
+    pub fn surely_fits(
+        &self,
+        in_rate: u32,
+        out_rate: u32,
+        stopband_db: f64,
+        passband: f64,
+        phase: Phase,
+    ) -> bool {
+        spec(in_rate, out_rate, stopband_db, passband, phase)
+            .1
+            .surely_fits_table_budget()
+    }
+
     /// The any-ratio engine's table for these parameters (designed now if not seen before).
     pub fn glide(
         &self,
