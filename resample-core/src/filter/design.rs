@@ -13,6 +13,7 @@ use super::response::{
 };
 use super::spec::{FilterSpec, Phase};
 use super::window::{bessel_i0, kaiser_at_lanes, kaiser_length};
+use crate::kernel::wide::{run, Width};
 use crate::limits::{
     MAX_PASSBAND, MAX_STOPBAND_DB, MIN_PASSBAND, MIN_STOPBAND_DB, PHASE_ALIGN, SURROGATE_MARGIN_DB,
 };
@@ -379,6 +380,11 @@ impl Design {
 /// Windowed sinc of `2 half + 1` taps at `phases` samples per input sample, cutoff `cutoff`
 /// (fraction of the input rate), normalised to unity DC gain.
 fn windowed_sinc(phases: u64, half: usize, cutoff: f64, beta: f64) -> Vec<f64> {
+    windowed_sinc_with(Width::detect(), phases, half, cutoff, beta)
+}
+
+/// [`windowed_sinc`] with its loops built for `width` (the same bits for every width).
+fn windowed_sinc_with(width: Width, phases: u64, half: usize, cutoff: f64, beta: f64) -> Vec<f64> {
     let len = 2 * half + 1;
     let i0b = bessel_i0(beta);
     // Cutoff as a fraction of the prototype's Nyquist frequency.
@@ -393,21 +399,28 @@ fn windowed_sinc(phases: u64, half: usize, cutoff: f64, beta: f64) -> Vec<f64> {
         .for_each(|(i, piece)| {
             // Eight taps at a time: the window's Bessel series of eight taps advance side
             // by side (the same values as one at a time, see `kaiser_at_lanes`).
+            // (Built for the CPU's widest vectors: the same bits, see `kernel::wide`.)
             const LANES: usize = 8;
-            for (c, chunk) in piece.chunks_mut(LANES).enumerate() {
-                let first = i * PIECE + c * LANES;
-                let n: [f64; LANES] = std::array::from_fn(|j| (first + j) as f64);
-                let w = kaiser_at_lanes(n, len, beta, i0b);
-                for (j, v) in chunk.iter_mut().enumerate() {
-                    let x = wc * (n[j] - half as f64);
-                    let sinc = if x == 0.0 {
-                        1.0
-                    } else {
-                        (core::f64::consts::PI * x).sin() / (core::f64::consts::PI * x)
-                    };
-                    *v = wc * sinc * w[j];
-                }
-            }
+            run(
+                width,
+                #[inline(always)]
+                || {
+                    for (c, chunk) in piece.chunks_mut(LANES).enumerate() {
+                        let first = i * PIECE + c * LANES;
+                        let n: [f64; LANES] = std::array::from_fn(|j| (first + j) as f64);
+                        let w = kaiser_at_lanes(n, len, beta, i0b);
+                        for (j, v) in chunk.iter_mut().enumerate() {
+                            let x = wc * (n[j] - half as f64);
+                            let sinc = if x == 0.0 {
+                                1.0
+                            } else {
+                                (core::f64::consts::PI * x).sin() / (core::f64::consts::PI * x)
+                            };
+                            *v = wc * sinc * w[j];
+                        }
+                    }
+                },
+            )
         });
     let (head, tail) = h.split_at_mut(half + 1);
     for (t, &v) in tail.iter_mut().zip(head[..half].iter().rev()) {
@@ -441,6 +454,13 @@ struct Candidate {
     len: usize,
     tpp: usize,
     m_phases: u64,
+}
+
+/// `db` rounded to 0.01 dB: a measured figure enters the next attempt's target this way,
+/// so that the last digits of a measurement (which differ between FFT code paths, e.g. on
+/// CPUs with and without AVX, by about 1e-9 dB) do not move the taps.
+fn to_hundredth(db: f64) -> f64 {
+    (db * 100.0).round() / 100.0
 }
 
 pub(super) fn design_kaiser(pair: RatePair, spec: FilterSpec) -> Result<Design> {
@@ -679,7 +699,7 @@ pub(super) fn design_kaiser_edges(
             if attempt == 1 && got - needed > TRIM_OVER_DB {
                 // Over by a wide margin (prototypes with few phases often fall short of
                 // Kaiser's formulas by less than the envelope): try once shorter.
-                target -= got - needed - FIRST_MARGIN_DB;
+                target -= to_hundredth(got - needed) - FIRST_MARGIN_DB;
                 kept = Some(c);
                 continue;
             }
@@ -691,7 +711,7 @@ pub(super) fn design_kaiser_edges(
         }
         // Ask the formulas for more: the shortfall grows with the request, so ask for 1.4 times
         // the shortfall (plus a little) to reach it in one more attempt most of the time.
-        target += 1.4 * (needed - got).max(0.0) + 0.1;
+        target += 1.4 * to_hundredth(needed - got).max(0.0) + 0.1;
         if target > MAX_STOPBAND_DB + 60.0 {
             break;
         }
@@ -707,6 +727,20 @@ mod tests {
     use super::*;
     use crate::filter::response;
     use crate::limits::SURROGATE_MARGIN_DB;
+
+    #[test]
+    fn wider_vectors_give_the_same_taps() {
+        // The windowed sinc built for the CPU's widest vectors against the baseline build:
+        // bit for bit (a long 140 dB prototype and a short one).
+        for (phases, half, cutoff, beta) in [(160, 16_850, 0.4775, 14.9125), (3, 40, 0.45, 5.6)] {
+            let wide = windowed_sinc_with(Width::detect(), phases, half, cutoff, beta);
+            let base = windowed_sinc_with(Width::Baseline, phases, half, cutoff, beta);
+            assert!(wide
+                .iter()
+                .zip(&base)
+                .all(|(a, b)| a.to_bits() == b.to_bits()));
+        }
+    }
 
     #[test]
     fn prototype_is_odd_symmetric_unity_dc() {

@@ -26,6 +26,7 @@ pub fn bessel_i0(x: f64) -> f64 {
 /// so their dependency chains (a division and two multiplications a term) overlap and the
 /// compiler can run them in vector registers. A lane whose series has converged keeps its
 /// sum while the others go on.
+#[inline(always)]
 pub fn bessel_i0_lanes<const N: usize>(x: [f64; N]) -> [f64; N] {
     let half = x.map(|v| v / 2.0);
     let mut term = [1.0_f64; N];
@@ -85,6 +86,7 @@ pub fn kaiser_at(n: f64, len: usize, beta: f64, i0_beta: f64) -> f64 {
 
 /// [`kaiser_at`] at `N` indices at once (bit for bit the same values), by
 /// [`bessel_i0_lanes`].
+#[inline(always)]
 pub fn kaiser_at_lanes<const N: usize>(
     n: [f64; N],
     len: usize,

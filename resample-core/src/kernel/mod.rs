@@ -36,8 +36,10 @@ pub(crate) mod glide;
 pub(crate) mod halfband;
 #[cfg(feature = "internals")]
 pub mod peak;
+// Plain loops of the design and its measurement built for wider vectors (same bits).
 pub mod scalar;
 mod simd;
+pub(crate) mod wide;
 #[cfg(target_arch = "x86_64")]
 mod x86 {
     //! Kernels for x86_64.
