@@ -744,41 +744,51 @@ impl<T: Sample> GlideConverter<T> {
                 // taps of each interpolated once and shared by the channels (the kernels'
                 // run), the positions prepared here.
                 let limit = (max - done).min(self.run_cap);
-                let mut k = 0;
                 let end_of_input = self.base + self.fill as i64;
+                let (base, cols) = (self.base, t.shape.cols as i64);
+                let stop = if self.flushing {
+                    self.n_in as i64
+                } else {
+                    i64::MAX
+                };
+                // Locals, so that the loop keeps them in registers.
+                let phases = &mut self.run_phase[..limit];
+                let starts = &mut self.run_start0[..limit];
+                let fracs = &mut self.run_frac0[..limit];
+                let mut clock = self.clock;
+                let mut k = 0;
                 while k < limit {
-                    let c = &self.clock;
-                    if self.flushing && c.int >= self.n_in as i64 {
+                    if clock.int >= stop {
                         break;
                     }
                     // Without a glide the ratio, and so the table, stays (the first
                     // output's was picked above).
-                    let gliding = c.done < c.frames;
-                    if gliding
+                    if clock.done < clock.frames
                         && k > 0
-                        && !pick(&self.main, &self.band, c.ratio())
+                        && !pick(&self.main, &self.band, clock.ratio())
                             .is_some_and(|u| core::ptr::eq(u, t))
                     {
                         break;
                     }
-                    let (q, phase, frac) = t.shape.position(c);
-                    let lo = c.int + q - (t.shape.cols as i64 - 1);
-                    if lo + t.shape.cols as i64 > end_of_input {
+                    let (q, phase, frac) = t.shape.position(&clock);
+                    let lo = clock.int + q - (cols - 1);
+                    if lo + cols > end_of_input {
                         break;
                     }
-                    self.run_phase[k] = phase as u32;
-                    self.run_start0[k] = (lo - self.base) as usize;
-                    self.run_frac0[k] = T::from_f64_lossy(frac);
+                    phases[k] = phase as u32;
+                    starts[k] = (lo - base) as usize;
+                    fracs[k] = T::from_f64_lossy(frac);
                     k += 1;
-                    self.clock.advance();
+                    clock.advance();
                 }
+                self.clock = clock;
                 if k > 0 {
                     // Counting sort by phase interval: each output keeps its own
                     // arithmetic (the kernel computes every output alone), only the
                     // order of computing them changes, so the results do not.
                     let counts = &mut self.run_counts[..t.shape.phases + 1];
                     counts.fill(0);
-                    for &p in &self.run_phase[..k] {
+                    for &p in &phases[..k] {
                         counts[p as usize + 1] += 1;
                     }
                     let mut sum = 0;
@@ -786,13 +796,23 @@ impl<T: Sample> GlideConverter<T> {
                         sum += *n;
                         *n = sum;
                     }
-                    for (i, &p) in self.run_phase[..k].iter().enumerate() {
+                    let blocks = &mut self.run_blocks[..k];
+                    let sorted_starts = &mut self.run_starts[..k];
+                    let sorted_fracs = &mut self.run_fracs[..k];
+                    let order = &mut self.run_order[..k];
+                    let (row0, block) = (t.row0, t.block);
+                    for (i, ((&p, &s), &f)) in phases[..k]
+                        .iter()
+                        .zip(&starts[..k])
+                        .zip(&fracs[..k])
+                        .enumerate()
+                    {
                         let d = counts[p as usize] as usize;
                         counts[p as usize] += 1;
-                        self.run_blocks[d] = t.row0 + p as usize * t.block;
-                        self.run_starts[d] = self.run_start0[i];
-                        self.run_fracs[d] = self.run_frac0[i];
-                        self.run_order[d] = i as u32;
+                        blocks[d] = row0 + p as usize * block;
+                        sorted_starts[d] = s;
+                        sorted_fracs[d] = f;
+                        order[d] = i as u32;
                     }
                     let run = GlideRun {
                         table: &t.data,
