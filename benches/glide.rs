@@ -14,6 +14,9 @@
 //!
 //! `RERATE_SUMMARY_ONLY=1 cargo bench -p resample-core --bench glide`
 //! `cargo bench -p resample-core --bench glide`
+//!
+//! For profiling one case: `RERATE_GLIDE_CASE="f32 stereo 44100 -> 48000 x (1 +100 ppm) 140"`
+//! keeps the summary lines starting so, `RERATE_GLIDE_ONLY_ANY=1` skips the fixed engine.
 
 use std::hint::black_box;
 use std::time::{Duration, Instant};
@@ -124,16 +127,26 @@ impl<T: Sample> Pair<T> {
 
 fn summary<T: Sample>(name: &str, channels: usize) {
     let layout = if channels == 1 { "mono" } else { "stereo" };
+    // Optional, for profiling one case: only the lines starting with this text, and only
+    // the any-ratio converter if `RERATE_GLIDE_ONLY_ANY` is set.
+    let only = std::env::var("RERATE_GLIDE_CASE").unwrap_or_default();
+    let any_only = std::env::var_os("RERATE_GLIDE_ONLY_ANY").is_some();
     for (a, b, ppm) in CASES {
         for db in DBS {
+            let line = format!("{name} {layout} {a} -> {b} x (1 {ppm:+} ppm) {db} dB");
+            if !line.starts_with(&only) {
+                continue;
+            }
             let (mut p, about) = pair::<T>(a, b, ppm, db, channels);
             let (mut f, mut g) = (f64::INFINITY, f64::INFINITY);
             for _ in 0..3 {
-                f = f.min(secs_per_output(|| p.run_fixed()));
+                if !any_only {
+                    f = f.min(secs_per_output(|| p.run_fixed()));
+                }
                 g = g.min(secs_per_output(|| p.run_glide()));
             }
             println!(
-                "{name} {layout} {a} -> {b} x (1 {ppm:+} ppm) {db} dB: fixed {:.2} ns, any-ratio {:.2} ns \
+                "{line}: fixed {:.2} ns, any-ratio {:.2} ns \
                  per output frame: {:.2}x  ({about})",
                 1e9 * f,
                 1e9 * g,

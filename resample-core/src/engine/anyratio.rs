@@ -18,8 +18,16 @@ const FLAT_PAD: usize = 4;
 /// Input frames buffered per channel beyond the kernel's widest span.
 const BLOCK: usize = 4096;
 
-/// Outputs computed by one call of the kernels' run ([`KernelFns::glide_run`]).
-const RUN: usize = 64;
+/// Most outputs computed by one call of the kernels' run ([`KernelFns::glide_run`]); fewer
+/// with many channels (see [`RUN_VALUES`]).
+const RUN: usize = 1024;
+
+/// Fewest outputs of a run's capacity, whatever the channel count.
+const RUN_MIN: usize = 64;
+
+/// Output values (outputs times channels) a run's buffer holds at most, unless [`RUN_MIN`]
+/// outputs need more.
+const RUN_VALUES: usize = 4096;
 
 /// `2^-64`: the unit of the clock's fixed-point fractions.
 const FRAC_UNIT: f64 = 1.0 / 18_446_744_073_709_551_616.0;
@@ -290,13 +298,25 @@ pub struct GlideConverter<T> {
     keep_back: i64,
     /// The taps of one output.
     taps: Vec<T>,
-    /// The run in preparation: per output its block in the table, its first input in
-    /// `hist` and its position between the block's phases; and the run's outputs
-    /// (`RUN` of every channel).
+    /// The run in preparation, in the order of the table's blocks (the kernel reads each
+    /// block once for all the run's outputs that fall in it, and the blocks in the order
+    /// they are stored): per output its block in the table, its first input in `hist`, its
+    /// position between the block's phases and its index in the run; and the run's
+    /// outputs (`run_cap` of every channel), in the same order.
     run_blocks: Vec<usize>,
     run_starts: Vec<usize>,
     run_fracs: Vec<T>,
+    run_order: Vec<u32>,
     run_out: Vec<T>,
+    /// The run in output order before sorting: phase interval, first input, position.
+    run_phase: Vec<u32>,
+    run_start0: Vec<usize>,
+    run_frac0: Vec<T>,
+    /// Outputs per phase interval (counting sort), one more than the largest table's
+    /// phases.
+    run_counts: Vec<u32>,
+    /// Outputs a run holds at most.
+    run_cap: usize,
     clock: Clock,
     start_step: f64,
     n_in: u64,
@@ -370,6 +390,11 @@ impl<T: Sample> GlideConverter<T> {
             let shape = Shape::new(b.phases, b.cols, b.half, b.len, b.interp);
             (Table::new(&b.rows, shape), b.lowest, b.highest)
         });
+        let max_phases = band
+            .as_ref()
+            .map_or(0, |b| b.0.shape.phases)
+            .max(shape.phases);
+        let run_cap = (RUN_VALUES / channels).clamp(RUN_MIN, RUN);
         let mut conv = Self {
             main,
             band,
@@ -383,10 +408,16 @@ impl<T: Sample> GlideConverter<T> {
             fill: 0,
             keep_back: back as i64 + 1,
             taps: vec![T::zero(); widest],
-            run_blocks: vec![0; RUN],
-            run_starts: vec![0; RUN],
-            run_fracs: vec![T::zero(); RUN],
-            run_out: vec![T::zero(); RUN * channels],
+            run_blocks: vec![0; run_cap],
+            run_starts: vec![0; run_cap],
+            run_fracs: vec![T::zero(); run_cap],
+            run_order: vec![0; run_cap],
+            run_out: vec![T::zero(); run_cap * channels],
+            run_phase: vec![0; run_cap],
+            run_start0: vec![0; run_cap],
+            run_frac0: vec![T::zero(); run_cap],
+            run_counts: vec![0; max_phases + 1],
+            run_cap,
             clock: Clock::new(1.0 / ratio),
             start_step: 1.0 / ratio,
             n_in: 0,
@@ -712,36 +743,77 @@ impl<T: Sample> GlideConverter<T> {
                 // A run of outputs read from this table, whose input is present: the
                 // taps of each interpolated once and shared by the channels (the kernels'
                 // run), the positions prepared here.
-                let limit = (max - done).min(RUN);
-                let mut k = 0;
+                let limit = (max - done).min(self.run_cap);
                 let end_of_input = self.base + self.fill as i64;
+                let (base, cols) = (self.base, t.shape.cols as i64);
+                let stop = if self.flushing {
+                    self.n_in as i64
+                } else {
+                    i64::MAX
+                };
+                // Locals, so that the loop keeps them in registers.
+                let phases = &mut self.run_phase[..limit];
+                let starts = &mut self.run_start0[..limit];
+                let fracs = &mut self.run_frac0[..limit];
+                let mut clock = self.clock;
+                let mut k = 0;
                 while k < limit {
-                    let c = &self.clock;
-                    if self.flushing && c.int >= self.n_in as i64 {
+                    if clock.int >= stop {
                         break;
                     }
                     // Without a glide the ratio, and so the table, stays (the first
                     // output's was picked above).
-                    let gliding = c.done < c.frames;
-                    if gliding
+                    if clock.done < clock.frames
                         && k > 0
-                        && !pick(&self.main, &self.band, c.ratio())
+                        && !pick(&self.main, &self.band, clock.ratio())
                             .is_some_and(|u| core::ptr::eq(u, t))
                     {
                         break;
                     }
-                    let (q, phase, frac) = t.shape.position(c);
-                    let lo = c.int + q - (t.shape.cols as i64 - 1);
-                    if lo + t.shape.cols as i64 > end_of_input {
+                    let (q, phase, frac) = t.shape.position(&clock);
+                    let lo = clock.int + q - (cols - 1);
+                    if lo + cols > end_of_input {
                         break;
                     }
-                    self.run_blocks[k] = t.row0 + phase * t.block;
-                    self.run_starts[k] = (lo - self.base) as usize;
-                    self.run_fracs[k] = T::from_f64_lossy(frac);
+                    phases[k] = phase as u32;
+                    starts[k] = (lo - base) as usize;
+                    fracs[k] = T::from_f64_lossy(frac);
                     k += 1;
-                    self.clock.advance();
+                    clock.advance();
                 }
+                self.clock = clock;
                 if k > 0 {
+                    // Counting sort by phase interval: each output keeps its own
+                    // arithmetic (the kernel computes every output alone), only the
+                    // order of computing them changes, so the results do not.
+                    let counts = &mut self.run_counts[..t.shape.phases + 1];
+                    counts.fill(0);
+                    for &p in &phases[..k] {
+                        counts[p as usize + 1] += 1;
+                    }
+                    let mut sum = 0;
+                    for n in counts.iter_mut() {
+                        sum += *n;
+                        *n = sum;
+                    }
+                    let blocks = &mut self.run_blocks[..k];
+                    let sorted_starts = &mut self.run_starts[..k];
+                    let sorted_fracs = &mut self.run_fracs[..k];
+                    let order = &mut self.run_order[..k];
+                    let (row0, block) = (t.row0, t.block);
+                    for (i, ((&p, &s), &f)) in phases[..k]
+                        .iter()
+                        .zip(&starts[..k])
+                        .zip(&fracs[..k])
+                        .enumerate()
+                    {
+                        let d = counts[p as usize] as usize;
+                        counts[p as usize] += 1;
+                        blocks[d] = row0 + p as usize * block;
+                        sorted_starts[d] = s;
+                        sorted_fracs[d] = f;
+                        order[d] = i as u32;
+                    }
                     let run = GlideRun {
                         table: &t.data,
                         cols: t.shape.cols,
@@ -756,9 +828,9 @@ impl<T: Sample> GlideConverter<T> {
                     let ok = self.fns.glide_run(&run, &mut self.run_out).is_ok();
                     debug_assert!(ok, "run sizes hold by construction");
                     let ch = self.channels;
-                    for (i, o) in self.run_out.chunks_exact(ch).take(k).enumerate() {
+                    for (o, &i) in self.run_out.chunks_exact(ch).zip(&self.run_order[..k]) {
                         for (c, &v) in o.iter().enumerate() {
-                            store(done + i, c, v);
+                            store(done + i as usize, c, v);
                         }
                     }
                     done += k;
