@@ -9,7 +9,9 @@ use std::time::Instant;
 use anyhow::{bail, Context, Result};
 use resample_core::measure::Baseline;
 use resample_core::measure::{self, Settings, Sweep};
-use resample_core::{Design, FilterSpec, GlideConverter, Kernel, Sample, StreamConverter};
+use resample_core::{
+    Design, FilterSpec, GlideConverter, Kernel, Sample, StageChoice, StreamConverter,
+};
 
 use crate::args::check_filter;
 use crate::args::tradeoff::TradeoffArgs;
@@ -210,12 +212,17 @@ pub fn rows(args: &TradeoffArgs) -> Result<Vec<Row>> {
         let spec = FilterSpec::new(args.in_rate, args.out_rate)
             .stopband_db(db)
             .passband(args.passband)
-            .phase(phase.phase());
+            .phase(phase.phase())
+            // The table is of one filter's length against its quality: one stage.
+            .stage_choice(StageChoice::Single);
         let design = match Chosen::new(&spec, args.clock_ppm)
             .with_context(|| format!("cannot design for {db} dB"))?
             .measured_between(a, b)
         {
-            Chosen::Fixed(d) => d,
+            Chosen::Fixed(p) => match p.single() {
+                Some(d) => d.clone(),
+                None => bail!("internal error: two stages where one was asked"),
+            },
             glide => {
                 rows.push(glide_row(&glide, &sweep, b, db, phase, &x, audio_s)?);
                 continue;

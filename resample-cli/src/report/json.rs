@@ -94,6 +94,11 @@ pub struct Converted {
     /// Measured error of the any-ratio engine's interpolated taps, dB.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub interpolation_error_db: Option<f64>,
+    /// The fixed-ratio engine's stages in signal order (one, or two: a half-band 2:1
+    /// stage then the polyphase stage, or the polyphase stage then a half-band 1:2);
+    /// absent for the any-ratio engine.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub stages: Option<Vec<super::stages::StageFact>>,
 }
 
 /// What became of a converted file's metadata chunks.
@@ -408,6 +413,10 @@ pub struct Verify {
     /// Relative difference of the measured ratio from the exact one, ppm.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub ratio_difference_ppm: Option<f64>,
+    /// The stages measured (one, or two: what `convert` runs); absent for the any-ratio
+    /// engine.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub stages: Option<Vec<super::stages::StageFact>>,
 }
 
 /// The minimum-phase figures `verify` adds.
