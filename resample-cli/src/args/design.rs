@@ -40,7 +40,9 @@ pub struct DesignArgs {
     /// Print the report as one JSON object.
     #[arg(long)]
     pub json: bool,
-    /// Write the prototype taps to FILE, one per line, in full f64 precision.
+    /// Write the prototype taps to FILE, one per line, in full f64 precision. Two stages:
+    /// each stage's taps after a header line "# stage K of 2: half-band|polyphase, A Hz ->
+    /// B Hz, up L, down M, N taps", in signal order.
     #[arg(long, value_name = "FILE")]
     pub export: Option<PathBuf>,
     /// Overwrite FILE given to --export if it exists.

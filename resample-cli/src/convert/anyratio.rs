@@ -354,6 +354,8 @@ impl Run<'_> {
 /// The engine a measurement (`verify`, `tradeoff`) runs: the one `convert` would run for
 /// the same request.
 #[derive(Debug)]
+// Made once per measurement: the size difference of the variants costs nothing.
+#[allow(clippy::large_enum_variant)]
 pub enum Chosen {
     /// The fixed-ratio engine and its stages (one, or two where `convert` runs two).
     Fixed(resample_core::StagePlan),
