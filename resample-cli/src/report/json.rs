@@ -552,6 +552,9 @@ pub struct TradeoffRow<'a> {
     pub table_bytes_f32: Option<u64>,
     /// Why a row measures below its request.
     pub note: Option<&'a str>,
+    /// The stages in words, for a design run in two stages (absent otherwise).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub stages: Option<&'a str>,
 }
 
 #[cfg(test)]

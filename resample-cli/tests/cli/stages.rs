@@ -292,3 +292,45 @@ fn an_ordinary_pair_is_unchanged_by_the_stage_choice() {
     // And its report is as before: the paths, then two lines (no stage line).
     assert_eq!(out(&a).lines().count(), 3, "{}", out(&a));
 }
+
+#[test]
+fn tradeoff_measures_the_stages_convert_runs() {
+    let dir = tempfile::tempdir().unwrap();
+    let row = |extra: &[&str]| {
+        let o = rerate(
+            dir.path(),
+            &[
+                &[
+                    "tradeoff",
+                    "--in-rate",
+                    "192k",
+                    "--out-rate",
+                    "44.1k",
+                    "--stopband-db",
+                    "140",
+                    "--no-baselines",
+                    "--speed-seconds",
+                    "0.2",
+                    "--json",
+                ][..],
+                extra,
+            ]
+            .concat(),
+        );
+        assert!(o.status.success(), "{}", err(&o));
+        let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+        v["rows"][0].clone()
+    };
+    let two = row(&[]);
+    assert!(
+        two["stages"]
+            .as_str()
+            .unwrap()
+            .starts_with("two stages: half-band 2:1"),
+        "{two}"
+    );
+    assert!(two["rejection_db"].as_f64().unwrap() >= 140.0, "{two}");
+    let one = row(&["--one-stage"]);
+    assert!(one.get("stages").is_none(), "{one}");
+    assert!(one["rejection_db"].as_f64().unwrap() >= 140.0, "{one}");
+}
