@@ -142,7 +142,8 @@ pub fn run(args: &VerifyArgs) -> Result<Status> {
         if let Some(why) = engine.reason() {
             writeln!(out, "{:<22}{} engine: {why}", "", engine.name())?;
         }
-        if let Some(s) = &stages {
+        // Two stages, or one forced, are stated (an ordinary pair's report is as before).
+        if let Some(s) = stages.as_ref().filter(|s| s.worth_a_line()) {
             writeln!(out, "{:<22}{}", "", s.words())?;
         }
         if clocked {
