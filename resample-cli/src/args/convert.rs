@@ -79,6 +79,12 @@ pub struct ConvertArgs {
     /// Write the format and the audio only: no metadata chunks.
     #[arg(long)]
     pub strip_metadata: bool,
+    /// Run one polyphase stage even where two stages (a half-band 2:1 or 1:2 stage beside
+    /// the polyphase stage) would be chosen for cost: for A/B comparisons. Two stages are
+    /// chosen only for linear phase and ratios beyond 2:1 where they measured at least 1.4x
+    /// faster (e.g. 192k -> 44.1k); the report says which ran.
+    #[arg(long)]
+    pub one_stage: bool,
     /// The input's true clock ran PPM parts per million fast (negative: slow), -1000 to
     /// 1000, up to 6 decimals: its true rate is the header rate x (1 + PPM x 1e-6). Runs the
     /// any-ratio engine; 0 (the default) runs the fixed-ratio engine.

@@ -26,6 +26,12 @@ pub struct DesignArgs {
     /// delay, varying with frequency; same measured rejection).
     #[arg(long, value_enum, default_value_t = PhaseArg::Linear)]
     pub phase: PhaseArg,
+    /// Run one polyphase stage even where two stages (a half-band 2:1 or 1:2 stage beside
+    /// the polyphase stage) would be chosen for cost: for A/B comparisons. Two stages are
+    /// chosen only for linear phase and ratios beyond 2:1 where they measured at least 1.4x
+    /// faster (e.g. 192k -> 44.1k); the report says which ran.
+    #[arg(long)]
+    pub one_stage: bool,
     /// The input's true clock ran PPM parts per million fast (negative: slow), -1000 to
     /// 1000, up to 6 decimals: its true rate is the header rate x (1 + PPM x 1e-6). Runs the
     /// any-ratio engine; 0 (the default) runs the fixed-ratio engine.
@@ -34,7 +40,9 @@ pub struct DesignArgs {
     /// Print the report as one JSON object.
     #[arg(long)]
     pub json: bool,
-    /// Write the prototype taps to FILE, one per line, in full f64 precision.
+    /// Write the prototype taps to FILE, one per line, in full f64 precision. Two stages:
+    /// each stage's taps after a header line "# stage K of 2: half-band|polyphase, A Hz ->
+    /// B Hz, up L, down M, N taps", in signal order.
     #[arg(long, value_name = "FILE")]
     pub export: Option<PathBuf>,
     /// Overwrite FILE given to --export if it exists.

@@ -174,3 +174,12 @@ pub fn check_filter(stopband_db: Option<f64>, passband: f64) -> Result<(), Usage
     }
     Ok(())
 }
+
+/// The stage choice of `--one-stage` (set) or the automatic choice (not set).
+pub fn stage_choice(one_stage: bool) -> resample_core::StageChoice {
+    if one_stage {
+        resample_core::StageChoice::Single
+    } else {
+        resample_core::StageChoice::Auto
+    }
+}

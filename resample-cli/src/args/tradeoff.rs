@@ -64,6 +64,10 @@ pub struct TradeoffArgs {
     /// Design and measure every attenuation in both phases, side by side.
     #[arg(long)]
     pub both_phases: bool,
+    /// Run one polyphase stage even where `convert` would run two stages (a half-band 2:1
+    /// or 1:2 stage beside the polyphase stage): for A/B comparisons.
+    #[arg(long)]
+    pub one_stage: bool,
     /// The input's true clock ran PPM parts per million fast (negative: slow), -1000 to
     /// 1000, up to 6 decimals: its true rate is the header rate x (1 + PPM x 1e-6). Runs the
     /// any-ratio engine; 0 (the default) runs the fixed-ratio engine.

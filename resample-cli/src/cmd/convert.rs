@@ -96,6 +96,7 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
             (false, false) => MetadataPolicy::Carry,
         },
         clock: args.clock_ppm,
+        stages: crate::args::stage_choice(args.one_stage),
     };
     if !args.gain.is_finite() {
         return Err(UsageError("--gain must be a finite number of dB".into()).into());

@@ -11,7 +11,7 @@ use crate::io::staged::StagedFile;
 use crate::args::check_filter;
 use crate::args::design::DesignArgs;
 use crate::exit::Status;
-use crate::report::design::{report_json, report_text};
+use crate::report::design::{plan_text, report_text};
 
 /// Run `rerate design`.
 pub fn run(args: &DesignArgs) -> Result<Status> {
@@ -22,8 +22,9 @@ pub fn run(args: &DesignArgs) -> Result<Status> {
         .phase(args.phase.phase());
     // A clock correction, or a pair whose fixed table is over the budget: the any-ratio
     // engine's table (what `convert` would run).
+    let spec = spec.stage_choice(crate::args::stage_choice(args.one_stage));
     let fixed = if args.clock_ppm.is_zero() {
-        Some(spec.design())
+        Some(spec.plan())
     } else {
         None
     };
@@ -45,28 +46,69 @@ pub fn run(args: &DesignArgs) -> Result<Status> {
     if let Some(why) = why {
         return any_ratio(args, &spec, &why);
     }
-    let design = fixed
-        .unwrap_or_else(|| spec.design())
+    let plan = fixed
+        .unwrap_or_else(|| spec.plan())
         .context("cannot design the filter")?;
     if let Some(path) = &args.export {
-        let mut text = String::with_capacity(design.taps().len() * 24);
-        for t in design.taps() {
-            // Rust prints the shortest decimal that parses back to the same bits.
-            text.push_str(&format!("{t:e}\n"));
-        }
-        export(path, text.as_bytes(), args.force)?;
+        export(path, export_text(&plan).as_bytes(), args.force)?;
     }
-    let r = design.report();
+    let phase = spec.phase_response();
     let mut out = std::io::stdout().lock();
     if args.json {
-        writeln!(out, "{}", report_json(r, design.spec().phase_response()))?;
+        writeln!(
+            out,
+            "{}",
+            crate::report::json::line(&crate::report::json::Design::of_plan(
+                &plan,
+                phase == resample_core::Phase::Minimum
+            ))
+        )?;
     } else {
-        write!(out, "{}", report_text(r, design.spec().phase_response()))?;
+        match plan.single() {
+            Some(design) => write!(out, "{}", report_text(design.report(), phase))?,
+            None => write!(out, "{}", plan_text(&plan))?,
+        }
         if let Some(path) = &args.export {
-            writeln!(out, "taps written to {}", path.display())?;
+            let what = if plan.is_two_stage() {
+                "taps of both stages"
+            } else {
+                "taps"
+            };
+            writeln!(out, "{what} written to {}", path.display())?;
         }
     }
     Ok(Status::Success)
+}
+
+/// The export file: for one stage the prototype taps, one per line, in the shortest
+/// decimal that parses back to the same bits (as before two stages existed). For two
+/// stages each stage's taps follow a header line that starts with `#`:
+/// `# stage K of 2: KIND, A Hz -> B Hz, up L, down M, N taps` (KIND `half-band` or
+/// `polyphase`), in the order the signal goes through them.
+pub fn export_text(plan: &resample_core::StagePlan) -> String {
+    let n: usize = plan.stages().iter().map(|d| d.taps().len()).sum();
+    let mut text = String::with_capacity(n * 24 + 200);
+    let facts = crate::report::stages::StageFacts::of(plan);
+    let two = plan.is_two_stage();
+    for (k, (d, f)) in plan.stages().iter().zip(&facts.list).enumerate() {
+        if two {
+            text.push_str(&format!(
+                "# stage {} of 2: {}, {} Hz -> {} Hz, up {}, down {}, {} taps\n",
+                k + 1,
+                f.kind,
+                f.in_rate,
+                f.out_rate,
+                f.up,
+                f.down,
+                d.taps().len()
+            ));
+        }
+        for t in d.taps() {
+            // Rust prints the shortest decimal that parses back to the same bits.
+            text.push_str(&format!("{t:e}\n"));
+        }
+    }
+    text
 }
 
 /// `design` for the any-ratio engine: its table report (`--export` writes the prototype at

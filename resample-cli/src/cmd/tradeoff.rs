@@ -9,14 +9,15 @@ use std::time::Instant;
 use anyhow::{bail, Context, Result};
 use resample_core::measure::Baseline;
 use resample_core::measure::{self, Settings, Sweep};
-use resample_core::{Design, FilterSpec, GlideConverter, Kernel, Sample, StreamConverter};
+use resample_core::{ChainConverter, FilterSpec, GlideConverter, Kernel, Sample, StagePlan};
 
 use crate::args::check_filter;
 use crate::args::tradeoff::TradeoffArgs;
 use crate::args::PhaseArg;
-use crate::convert::{run_engine, Chosen};
+use crate::convert::{run_plan, Chosen};
 use crate::exit::Status;
 use crate::report::json;
+use crate::report::stages::StageFacts;
 use crate::report::tradeoff::Row;
 
 /// A number for CSV that keeps its significance: scientific below 0.001 (not `0.000000`).
@@ -29,11 +30,10 @@ fn sig(v: f64) -> String {
 }
 
 /// The reason a design row measures below its request, with a hint.
-fn shortfall(m: &measure::Measurement, design: &Design, requested: f64) -> Option<String> {
+fn shortfall(m: &measure::Measurement, designed: f64, requested: f64) -> Option<String> {
     if m.rejection_db >= requested {
         return None;
     }
-    let designed = design.report().measured_stopband_db;
     let from_probes = m
         .edge
         .as_ref()
@@ -98,11 +98,12 @@ fn best_of_three(mut f: impl FnMut() -> Result<()>) -> Result<f64> {
     Ok(best.max(1e-9))
 }
 
-/// Time one streaming converter (one thread, as in a live stream) over `x`.
-fn time_engine<T: Sample>(design: &Design, x: &[f64]) -> Result<f64> {
+/// Time the stages `convert` runs (one thread, as in a live stream) over `x`: one stage is
+/// exactly its streaming converter.
+fn time_engine<T: Sample>(plan: &StagePlan, x: &[f64]) -> Result<f64> {
     let input: Vec<T> = x.iter().map(|&v| T::from_f64_lossy(v)).collect();
-    let mut conv = StreamConverter::<T>::new(design, 1)?;
-    let mut out = vec![T::zero(); 8192];
+    let mut conv = ChainConverter::<T>::new(plan, 1)?;
+    let mut out = vec![T::zero(); conv.max_output_frames(4096).max(8192)];
     best_of_three(|| {
         conv.reset();
         let mut read = 0;
@@ -184,6 +185,7 @@ fn glide_row(
                 m.worst.unwanted_hz
             )
         }),
+        stages: None,
     })
 }
 
@@ -210,25 +212,26 @@ pub fn rows(args: &TradeoffArgs) -> Result<Vec<Row>> {
         let spec = FilterSpec::new(args.in_rate, args.out_rate)
             .stopband_db(db)
             .passband(args.passband)
-            .phase(phase.phase());
+            .phase(phase.phase())
+            .stage_choice(crate::args::stage_choice(args.one_stage));
         let design = match Chosen::new(&spec, args.clock_ppm)
             .with_context(|| format!("cannot design for {db} dB"))?
             .measured_between(a, b)
         {
-            Chosen::Fixed(d) => d,
+            Chosen::Fixed(p) => p,
             glide => {
                 rows.push(glide_row(&glide, &sweep, b, db, phase, &x, audio_s)?);
                 continue;
             }
         };
         let settings = Settings {
-            passband_edge_hz: Some(design.report().passband_edge_hz),
+            passband_edge_hz: Some(design.passband_edge_hz()),
             keep_spectrogram: false,
         };
         let mut failure = None;
         // Quality in f64, as `verify` measures it (f32 rounding sits near -140 dB).
         let m = measure::measure_converter(&sweep, args.out_rate, &settings, |s| {
-            run_engine::<f64>(&design, s).unwrap_or_else(|e| {
+            run_plan::<f64>(&design, s).unwrap_or_else(|e| {
                 failure = Some(e);
                 Vec::new()
             })
@@ -238,7 +241,8 @@ pub fn rows(args: &TradeoffArgs) -> Result<Vec<Row>> {
         }
         let m = m.with_context(|| format!("cannot measure the {db} dB design"))?;
         let secs = time_engine::<f32>(&design, &x)?;
-        let r = design.report();
+        let facts = StageFacts::of(&design);
+
         rows.push(Row {
             method: "windowed-sinc".into(),
             phase: Some(match phase {
@@ -246,14 +250,21 @@ pub fn rows(args: &TradeoffArgs) -> Result<Vec<Row>> {
                 PhaseArg::Minimum => "minimum",
             }),
             requested_db: Some(db),
-            taps_per_phase: Some(r.taps_per_phase),
+            taps_per_phase: Some(facts.polyphase_taps_per_phase()),
             rejection_db: m.rejection_db,
             ripple_db: m.passband_ripple_db,
-            latency_ms: r.latency_ms,
+            latency_ms: design.latency_ms(),
             measured_delay_ms: m.latency_ms,
             speed_x_realtime: audio_s / secs,
-            table_bytes: Some(r.table_bytes_f32),
-            note: shortfall(&m, &design, db),
+            table_bytes: Some(
+                design
+                    .stages()
+                    .iter()
+                    .map(|d| d.report().table_bytes_f32)
+                    .sum(),
+            ),
+            note: shortfall(&m, design.measured_stopband_db(), db),
+            stages: design.is_two_stage().then(|| facts.words()),
         });
     }
     if !args.no_baselines {
@@ -297,6 +308,7 @@ pub fn rows(args: &TradeoffArgs) -> Result<Vec<Row>> {
                 speed_x_realtime: audio_s / secs,
                 table_bytes: None,
                 note: None,
+                stages: None,
             });
         }
     }
@@ -377,6 +389,7 @@ fn row_json(r: &Row) -> json::TradeoffRow<'_> {
         speed_x_realtime: r.speed_x_realtime,
         table_bytes_f32: r.table_bytes,
         note: r.note.as_deref(),
+        stages: r.stages.as_deref(),
     }
 }
 
@@ -423,6 +436,14 @@ fn table_text(rows: &[Row], args: &TradeoffArgs) -> String {
             r.table_bytes
                 .map_or_else(dash, |v| format!("{:.1}", v as f64 / 1024.0)),
         ));
+    }
+    for r in rows {
+        if let (Some(st), Some(db)) = (&r.stages, r.requested_db) {
+            let phase = r.phase.map_or(String::new(), |p| format!(" {p}-phase"));
+            s.push_str(&format!(
+                "{db} dB{phase} row in {st} (taps: the polyphase stage's; table: both)\n"
+            ));
+        }
     }
     for r in rows {
         if let (Some(n), Some(db)) = (&r.note, r.requested_db) {

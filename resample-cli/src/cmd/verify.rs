@@ -18,6 +18,7 @@ use crate::exit::Status;
 use crate::report::format::small_db;
 use crate::report::json;
 use crate::report::measured::metrics_text;
+use crate::report::stages::StageFacts;
 
 /// The output format whose rules `verify` applies: `--bits N`, `--float`, or 32-bit float.
 fn encoding_of(args: &VerifyArgs) -> Encoding {
@@ -36,7 +37,8 @@ pub fn run(args: &VerifyArgs) -> Result<Status> {
     let spec = FilterSpec::new(args.in_rate, args.out_rate)
         .stopband_db(requested)
         .passband(args.passband)
-        .phase(args.phase.phase());
+        .phase(args.phase.phase())
+        .stage_choice(crate::args::stage_choice(args.one_stage));
     // The engine `convert` would run: fixed-ratio, or any-ratio for a clock correction or a
     // pair over the fixed table's budget.
     // Under a clock correction the sweep analyser (whole rates) measures between the whole
@@ -91,10 +93,14 @@ pub fn run(args: &VerifyArgs) -> Result<Status> {
     }
     let (latency_samples, latency_ms) = engine.latency();
     let minimum = match (&engine, args.phase) {
-        (Chosen::Fixed(d), PhaseArg::Minimum) => Some(d.report()),
+        (Chosen::Fixed(p), PhaseArg::Minimum) => p.single().map(|d| d.report()),
         _ => None,
     };
     let clocked = !clock.is_zero();
+    let stages = match &engine {
+        Chosen::Fixed(p) => Some(StageFacts::of(p)),
+        Chosen::AnyRatio { .. } => None,
+    };
     let mut out = std::io::stdout().lock();
     if args.report.json {
         let record = json::Verify {
@@ -117,6 +123,7 @@ pub fn run(args: &VerifyArgs) -> Result<Status> {
             measured_in_rate: clocked.then_some(a),
             measured_out_rate: clocked.then_some(b),
             ratio_difference_ppm: clocked.then_some(1e6 * mismatch),
+            stages: stages.as_ref().map(|s| s.list.clone()),
         };
         writeln!(out, "{}", json::line(&record))?;
     } else {
@@ -134,6 +141,10 @@ pub fn run(args: &VerifyArgs) -> Result<Status> {
         )?;
         if let Some(why) = engine.reason() {
             writeln!(out, "{:<22}{} engine: {why}", "", engine.name())?;
+        }
+        // Two stages, or one forced, are stated (an ordinary pair's report is as before).
+        if let Some(s) = stages.as_ref().filter(|s| s.worth_a_line()) {
+            writeln!(out, "{:<22}{}", "", s.words())?;
         }
         if clocked {
             writeln!(

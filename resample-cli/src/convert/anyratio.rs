@@ -241,6 +241,7 @@ pub(super) fn convert_input(
     let dithered = levels.dithered > 0;
     let r = design.report();
     let report = FileReport {
+        stages: None,
         input: input.to_path_buf(),
         output: output.map(Path::to_path_buf).unwrap_or_default(),
         in_rate: info.sample_rate,
@@ -353,9 +354,11 @@ impl Run<'_> {
 /// The engine a measurement (`verify`, `tradeoff`) runs: the one `convert` would run for
 /// the same request.
 #[derive(Debug)]
+// Made once per measurement: the size difference of the variants costs nothing.
+#[allow(clippy::large_enum_variant)]
 pub enum Chosen {
-    /// The fixed-ratio engine and its design.
-    Fixed(resample_core::Design),
+    /// The fixed-ratio engine and its stages (one, or two where `convert` runs two).
+    Fixed(resample_core::StagePlan),
     /// The any-ratio engine.
     AnyRatio {
         /// Its table.
@@ -371,14 +374,15 @@ pub enum Chosen {
 
 impl Chosen {
     /// Choose as `convert` does: a non-zero clock correction, or a fixed table over the
-    /// budget, takes the any-ratio engine.
+    /// budget, takes the any-ratio engine; otherwise the stages `spec` plans
+    /// ([`resample_core::FilterSpec::plan`], its stage choice).
     pub fn new(
         spec: &resample_core::FilterSpec,
         clock: ClockPpm,
     ) -> Result<Self, resample_core::Error> {
         let why = if clock.is_zero() {
-            match spec.design() {
-                Ok(d) => return Ok(Self::Fixed(d)),
+            match spec.plan() {
+                Ok(p) => return Ok(Self::Fixed(p)),
                 Err(resample_core::Error::TableTooLarge {
                     up,
                     down,
@@ -416,7 +420,7 @@ impl Chosen {
     /// Run `x` through the engine in `T`, as `convert` does.
     pub fn run<T: Sample>(&self, x: &[f64]) -> anyhow::Result<Vec<f64>> {
         match self {
-            Self::Fixed(d) => super::run_engine::<T>(d, x),
+            Self::Fixed(p) => super::run_plan::<T>(p, x),
             Self::AnyRatio { design, ratio, .. } => super::run_glide::<T>(design, *ratio, x),
         }
     }
@@ -441,7 +445,7 @@ impl Chosen {
     /// `in_rate x min(1, ratio) / 2`.
     pub fn passband_edge_hz(&self) -> f64 {
         match self {
-            Self::Fixed(d) => d.report().passband_edge_hz,
+            Self::Fixed(p) => p.passband_edge_hz(),
             Self::AnyRatio {
                 design,
                 ratio,
@@ -456,7 +460,7 @@ impl Chosen {
     /// interpolation error.
     pub fn design_stopband_db(&self) -> f64 {
         match self {
-            Self::Fixed(d) => d.report().measured_stopband_db,
+            Self::Fixed(p) => p.measured_stopband_db(),
             Self::AnyRatio { design, .. } => {
                 let r = design.report();
                 r.kernel_stopband_db.min(-r.interpolation_error_db)
@@ -467,7 +471,7 @@ impl Chosen {
     /// The filter's delay in a live stream, output samples and ms.
     pub fn latency(&self) -> (f64, f64) {
         match self {
-            Self::Fixed(d) => (d.report().latency_output_frames, d.report().latency_ms),
+            Self::Fixed(p) => (p.latency_output_frames(), p.latency_ms()),
             Self::AnyRatio {
                 design,
                 ratio,

@@ -4,7 +4,7 @@
 use std::collections::HashMap;
 use std::sync::{Arc, Mutex};
 
-use resample_core::{Design, FilterSpec, GlideDesign, Phase};
+use resample_core::{Design, FilterSpec, GlideDesign, Phase, StageChoice, StagePlan};
 
 type Key = (u32, u32, u64, u64, Phase);
 
@@ -12,6 +12,8 @@ type Key = (u32, u32, u64, u64, Phase);
 #[derive(Debug, Default)]
 pub struct DesignCache {
     map: Mutex<HashMap<Key, Arc<Design>>>,
+    /// Plans of one stage or two ([`FilterSpec::plan`]), by request and stage choice.
+    plans: Mutex<HashMap<(Key, StageChoice), Arc<StagePlan>>>,
     /// Tables of the any-ratio engine (clock correction, pairs over the table budget).
     glides: Mutex<HashMap<Key, Arc<GlideDesign>>>,
 }
@@ -35,6 +37,31 @@ impl DesignCache {
         // Designing under the lock keeps two threads from designing the same filter; designs
         // take well under a second.
         memo(&self.map, spec, |s| s.design())
+    }
+
+    /// The stages the fixed-ratio engine runs for these parameters: one, or two where
+    /// [`FilterSpec::plan`] chooses them (or `stages` forces the choice); planned now if not
+    /// seen before.
+    pub fn plan(
+        &self,
+        in_rate: u32,
+        out_rate: u32,
+        stopband_db: f64,
+        passband: f64,
+        phase: Phase,
+        stages: StageChoice,
+    ) -> Result<Arc<StagePlan>, resample_core::Error> {
+        let (key, spec) = spec(in_rate, out_rate, stopband_db, passband, phase);
+        let mut map = match self.plans.lock() {
+            Ok(g) => g,
+            Err(p) => p.into_inner(),
+        };
+        if let Some(p) = map.get(&(key, stages)) {
+            return Ok(Arc::clone(p));
+        }
+        let p = Arc::new(spec.stage_choice(stages).plan()?);
+        map.insert((key, stages), Arc::clone(&p));
+        Ok(p)
     }
 
     /// Whether the fixed engine's design for these parameters surely fits the table budget,

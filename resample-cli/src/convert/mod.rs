@@ -12,12 +12,12 @@ use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::Arc;
 use std::time::Instant;
 
-use resample_core::{Design, Phase, Sample, StreamConverter};
+use resample_core::{ChainConverter, Phase, Sample, StageChoice, StagePlan};
 
 pub use crate::report::file::{FileReport, Overs};
 pub use anyratio::{AnyRatioRun, Chosen, Why, ANY_RATIO_ENGINE, FIXED_ENGINE};
 pub use cache::DesignCache;
-pub use memory::{run_engine, run_glide};
+pub use memory::{run_engine, run_glide, run_plan};
 
 use crate::audio::wav::metadata::carry;
 use crate::audio::wav::{
@@ -64,6 +64,8 @@ pub struct Settings {
     pub metadata: MetadataPolicy,
     /// Clock correction of the input (`--clock-ppm`): non-zero runs the any-ratio engine.
     pub clock: crate::clock::ClockPpm,
+    /// One stage or two for the fixed-ratio engine (`--one-stage` forces one).
+    pub stages: StageChoice,
 }
 
 impl Settings {
@@ -84,6 +86,7 @@ impl Settings {
             pipeline: true,
             metadata: MetadataPolicy::Carry,
             clock: crate::clock::ClockPpm::ZERO,
+            stages: StageChoice::Auto,
         }
     }
 }
@@ -225,13 +228,14 @@ fn convert_input(
     let channel_mask = reader.channel_mask();
     // Designing the filter and creating the output: done by the engine once the input is
     // being read (the pipelined engine reads ahead meanwhile).
-    let setup = || -> Result<(Arc<Design>, WavWriter), ConvertError> {
-        let design = designs.get(
+    let setup = || -> Result<(Arc<StagePlan>, WavWriter), ConvertError> {
+        let design = designs.plan(
             info.sample_rate,
             settings.out_rate,
             stopband,
             settings.passband,
             settings.phase,
+            settings.stages,
         )?;
         let opts = WriterOptions {
             sample_rate: settings.out_rate,
@@ -278,7 +282,7 @@ fn convert_input(
     let (levels, bytes) = finish_writer(writer, frames_out, settings)?;
     // Dither is claimed only when some sample got it (not for silence).
     let dithered = levels.dithered > 0;
-    let r = design.report();
+    let stages = crate::report::stages::StageFacts::of(&design);
     let report = FileReport {
         input: input.to_path_buf(),
         output: output.map(Path::to_path_buf).unwrap_or_default(),
@@ -292,9 +296,9 @@ fn convert_input(
         seconds: frames_in as f64 / f64::from(info.sample_rate),
         elapsed_s: start.elapsed().as_secs_f64(),
         requested_stopband_db: stopband,
-        measured_stopband_db: r.measured_stopband_db,
+        measured_stopband_db: design.measured_stopband_db(),
         passband: settings.passband,
-        taps_per_phase: r.taps_per_phase,
+        taps_per_phase: stages.polyphase_taps_per_phase(),
         precision,
         dithered,
         dither_asked: settings.dither == Dither::Tpdf,
@@ -304,6 +308,7 @@ fn convert_input(
         metadata,
         warnings: header_warning.into_iter().collect(),
         any_ratio: None,
+        stages: Some(stages),
     };
     Ok((report, bytes))
 }
@@ -397,8 +402,8 @@ impl Run<'_> {
     fn sequential<T: Sample>(
         &self,
         reader: &mut Input,
-        setup: impl FnOnce() -> Result<(Arc<Design>, WavWriter), ConvertError>,
-    ) -> Result<(Arc<Design>, WavWriter), ConvertError> {
+        setup: impl FnOnce() -> Result<(Arc<StagePlan>, WavWriter), ConvertError>,
+    ) -> Result<(Arc<StagePlan>, WavWriter), ConvertError> {
         let (design, mut writer) = setup()?;
         let mut engine = Engine::<T>::new(&design, usize::from(reader.info().channels))?;
         let mut inb = Vec::new();
@@ -419,18 +424,20 @@ impl Run<'_> {
     }
 }
 
-/// The converter and its output buffer.
+/// The converter (one stage: exactly the stage's stream converter; or two stages) and its
+/// output buffer.
 pub(crate) struct Engine<T> {
-    conv: StreamConverter<T>,
+    conv: ChainConverter<T>,
     ch: usize,
     out: Vec<T>,
 }
 
 impl<T: Sample> Engine<T> {
-    pub(crate) fn new(design: &Design, ch: usize) -> Result<Self, ConvertError> {
-        let conv = StreamConverter::<T>::new(design, ch)?;
-        let out_frames = usize::try_from(design.pair().output_len(BLOCK_FRAMES as u64))
+    pub(crate) fn new(plan: &StagePlan, ch: usize) -> Result<Self, ConvertError> {
+        let conv = ChainConverter::<T>::new(plan, ch)?;
+        let out_frames = usize::try_from(plan.pair().output_len(BLOCK_FRAMES as u64))
             .unwrap_or(BLOCK_FRAMES)
+            .max(conv.max_output_frames(BLOCK_FRAMES))
             .max(1)
             + 1;
         Ok(Self {

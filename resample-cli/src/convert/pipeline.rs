@@ -11,12 +11,12 @@ use std::sync::mpsc;
 use std::sync::Arc;
 
 use rayon::prelude::*;
-use resample_core::{Design, Sample, StreamConverter};
+use resample_core::{ChainConverter, Sample, StagePlan};
 
 use super::{ConvertError, Engine, Run, BLOCK_FRAMES};
 use crate::audio::wav::{WavError, WavWriter};
 use crate::audio::Input;
-use resample_core::segments::{convert_segment, Segment, SegmentPlan};
+use resample_core::segments::{convert_chain_segment, Segment, SegmentPlan};
 
 /// Decoded input the reader may hold ahead of the converter, bytes (at least one block).
 const READ_AHEAD_BYTES: usize = 4 << 20;
@@ -33,8 +33,8 @@ impl Run<'_> {
     pub(super) fn pipelined<T: Sample>(
         &self,
         reader: &mut Input,
-        setup: impl FnOnce() -> Result<(Arc<Design>, WavWriter), ConvertError>,
-    ) -> Result<(Arc<Design>, WavWriter), ConvertError> {
+        setup: impl FnOnce() -> Result<(Arc<StagePlan>, WavWriter), ConvertError>,
+    ) -> Result<(Arc<StagePlan>, WavWriter), ConvertError> {
         let ch = usize::from(reader.info().channels);
         let frames_in = reader.info().frames;
         // A stream of unknown length is converted in one piece.
@@ -78,7 +78,7 @@ impl Run<'_> {
 
             let workers = rayon::current_num_threads().min(MAX_WORKERS);
             let cuts = if workers >= 2 && length_known {
-                SegmentPlan::new(&design, frames_in, ch)
+                SegmentPlan::for_plan(&design, frames_in, ch)
             } else {
                 None
             };
@@ -152,7 +152,7 @@ impl Run<'_> {
     /// handing their outputs to the writer in order.
     fn segmented<T: Sample>(
         &self,
-        design: &Design,
+        design: &StagePlan,
         cuts: SegmentPlan,
         workers: usize,
         ch: usize,
@@ -160,7 +160,7 @@ impl Run<'_> {
         (out_tx, out_back): OutQueue<'_, T>,
     ) -> Result<(), ConvertError> {
         let mut convs = (0..workers)
-            .map(|_| StreamConverter::<T>::new(design, ch))
+            .map(|_| ChainConverter::<T>::new(design, ch))
             .collect::<Result<Vec<_>, _>>()?;
         let mut outs: Vec<Vec<T>> = (0..workers).map(|_| Vec::new()).collect();
         // Input blocks still needed, with the frame index each starts at.
@@ -195,7 +195,9 @@ impl Run<'_> {
                 .par_iter_mut()
                 .zip(outs.par_iter_mut())
                 .zip(group.par_iter())
-                .map(|((conv, out), seg)| convert_segment(conv, seg, &pieces(blocks, seg, ch), out))
+                .map(|((conv, out), seg)| {
+                    convert_chain_segment(conv, seg, &pieces(blocks, seg, ch), out)
+                })
                 .collect();
             for ((r, seg), out) in results.into_iter().zip(&group).zip(outs.iter_mut()) {
                 r?;
@@ -244,7 +246,12 @@ mod tests {
 
     /// A stereo file of `frames` frames, several blocks long, with a NaN at `nan_at`.
     fn input(path: &Path, enc: Encoding, frames: usize, nan_at: Option<usize>) {
-        let mut opts = WriterOptions::new(44_100, 2, enc);
+        input_at(path, 44_100, enc, frames, nan_at);
+    }
+
+    /// [`input`] at `rate`.
+    fn input_at(path: &Path, rate: u32, enc: Encoding, frames: usize, nan_at: Option<usize>) {
+        let mut opts = WriterOptions::new(rate, 2, enc);
         opts.dither = Dither::None;
         let mut w = WavWriter::create(path, &opts).unwrap();
         let x: Vec<f64> = (0..frames * 2)
@@ -301,6 +308,43 @@ mod tests {
             }
             assert_eq!(outs[0].0, outs[1].0, "{enc}");
             assert!(outs[0].1 == outs[1].1, "{enc}: output bytes differ");
+        }
+    }
+
+    #[test]
+    fn two_stages_pipelined_are_the_sequential_bytes() {
+        let dir = tempfile::tempdir().unwrap();
+        for (k, (in_rate, out_rate, db, frames)) in [
+            (192_000, 44_100, Some(140.0), 700_001),
+            (48_000, 8_000, Some(140.0), 300_000),
+            (192_000, 44_100, None, 200_000),
+        ]
+        .into_iter()
+        .enumerate()
+        {
+            let src = dir.path().join(format!("in-{k}.wav"));
+            input_at(&src, in_rate, Encoding::Int(24), frames, None);
+            let mut s = Settings::new(out_rate);
+            s.stopband_db = db;
+            let mut outs = Vec::new();
+            for pipeline in [false, true] {
+                s.pipeline = pipeline;
+                let out = dir.path().join(format!("out-{k}-{pipeline}.wav"));
+                let report = run(&src, &out, &s).unwrap();
+                outs.push((report, std::fs::read(&out).unwrap()));
+            }
+            let j: serde_json::Value = serde_json::from_str(&outs[0].0).unwrap();
+            assert_eq!(
+                j["stages"].as_array().map(Vec::len),
+                Some(2),
+                "{in_rate} -> {out_rate}: {}",
+                outs[0].0
+            );
+            assert_eq!(outs[0].0, outs[1].0, "{in_rate} -> {out_rate}");
+            assert!(
+                outs[0].1 == outs[1].1,
+                "{in_rate} -> {out_rate}: output bytes differ"
+            );
         }
     }
 

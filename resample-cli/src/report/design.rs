@@ -73,6 +73,76 @@ pub fn report_text(r: &DesignReport, phase: Phase) -> String {
     s
 }
 
+/// The report of two stages: the whole conversion, the structure, then each stage's own
+/// report (indented), then the totals.
+pub fn plan_text(plan: &resample_core::StagePlan) -> String {
+    let mut s = String::new();
+    let pair = plan.pair();
+    let facts = super::stages::StageFacts::of(plan);
+    let line = |s: &mut String, k: &str, v: String| s.push_str(&format!("{k:<22}{v}\n"));
+    line(
+        &mut s,
+        "rates",
+        format!("{} Hz -> {} Hz", pair.in_rate(), pair.out_rate()),
+    );
+    line(
+        &mut s,
+        "ratio (up/down)",
+        format!("{}/{}", pair.up(), pair.down()),
+    );
+    line(&mut s, "structure", facts.words());
+    let n = plan.stages().len();
+    for (k, d) in plan.stages().iter().enumerate() {
+        line(
+            &mut s,
+            &format!("stage {} of {n}", k + 1),
+            facts.list[k].kind.to_owned(),
+        );
+        for l in report_text(d.report(), d.spec().phase_response()).lines() {
+            s.push_str(&format!("  {l}\n"));
+        }
+    }
+    line(
+        &mut s,
+        "stopband (total)",
+        format!(
+            "{} dB measured (the lower of the stages'), {} dB requested",
+            fmt_db(plan.measured_stopband_db()),
+            fmt_db(plan.spec().requested_stopband_db())
+        ),
+    );
+    line(
+        &mut s,
+        "ripple (total)",
+        format!(
+            "{} dB p-p at most (the stages' measured ripples added)",
+            fmt_ripple(plan.passband_ripple_db())
+        ),
+    );
+    line(
+        &mut s,
+        "latency (total)",
+        format!(
+            "{:.2} input samples, {:.2} output samples, {:.3} ms",
+            plan.latency_input_frames(),
+            plan.latency_output_frames(),
+            plan.latency_ms()
+        ),
+    );
+    let (b32, b64) = plan.stages().iter().fold((0, 0), |(a, b), d| {
+        (
+            a + d.report().table_bytes_f32,
+            b + d.report().table_bytes_f64,
+        )
+    });
+    line(
+        &mut s,
+        "table memory (total)",
+        format!("{b32} bytes (f32), {b64} bytes (f64)"),
+    );
+    s
+}
+
 /// What the any-ratio design report states besides the table: the pair, the clock
 /// correction, why this engine, and the figures that follow from the ratio.
 #[derive(Debug, Clone)]

@@ -60,6 +60,8 @@ pub struct FileReport {
     /// The any-ratio engine's run (clock correction, or a pair over the fixed table's
     /// budget); `None` when the fixed-ratio engine ran.
     pub any_ratio: Option<crate::convert::AnyRatioRun>,
+    /// The stages the fixed-ratio engine ran (one, or two); `None` for the any-ratio engine.
+    pub stages: Option<super::stages::StageFacts>,
 }
 
 impl FileReport {
@@ -105,7 +107,8 @@ impl Overs {
 impl FileReport {
     /// The report: the paths, then two lines of at most 80 columns for usual values: rates,
     /// channels, format, duration and speed; then the peak (measured before any limiting)
-    /// and overs, and how (stopband, arithmetic, dither, gain).
+    /// and overs, and how (stopband, arithmetic, dither, gain); then, for two stages or a
+    /// forced single stage, the stages that ran.
     pub fn line(&self) -> String {
         let enc = if self.in_encoding == self.out_encoding {
             short(self.out_encoding)
@@ -147,6 +150,9 @@ impl FileReport {
             self.input.display(),
             self.output.display()
         );
+        if let Some(s) = self.stages.as_ref().filter(|s| s.worth_a_line()) {
+            text.push_str(&format!("\n  {}", s.words()));
+        }
         if let Some(a) = &self.any_ratio {
             text.push_str(&format!(
                 "\n  {} engine: {}\n  true input rate {} Hz, ratio {:.9}\n  table of {} phases, {} \
@@ -249,6 +255,7 @@ impl FileReport {
             clock_ppm: self.any_ratio.as_ref().map(|a| a.why.clock().ppm()),
             true_in_rate_hz: self.any_ratio.as_ref().map(|a| a.true_in_rate),
             interpolation_error_db: self.any_ratio.as_ref().map(|a| a.interpolation_error_db),
+            stages: self.stages.as_ref().map(|s| s.list.clone()),
         })
     }
 }

@@ -94,6 +94,11 @@ pub struct Converted {
     /// Measured error of the any-ratio engine's interpolated taps, dB.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub interpolation_error_db: Option<f64>,
+    /// The fixed-ratio engine's stages in signal order (one, or two: a half-band 2:1
+    /// stage then the polyphase stage, or the polyphase stage then a half-band 1:2);
+    /// absent for the any-ratio engine.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub stages: Option<Vec<super::stages::StageFact>>,
 }
 
 /// What became of a converted file's metadata chunks.
@@ -206,6 +211,15 @@ pub struct Design {
     /// The minimum-phase figures, for a minimum-phase design.
     #[serde(flatten)]
     pub minimum: Option<MinimumPhase>,
+    /// The stages a conversion runs, in signal order, each with its own figures (one
+    /// entry, or two: then the keys above are the whole conversion's: its rates and
+    /// factors, the lower measured stopband, the ripples added, the delays added, the
+    /// tables added; the taps and beta are the polyphase stage's). Absent inside a stage.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub stages: Option<Vec<Design>>,
+    /// "half-band" or "polyphase", inside `stages`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub kind: Option<&'static str>,
 }
 
 /// An any-ratio design (`design --json` with `--clock-ppm`, or for a pair over the fixed
@@ -308,7 +322,57 @@ impl Design {
                 group_delay_1khz_ms: r.group_delay_1khz_ms,
                 group_delay_variation_ms: r.group_delay_variation_ms,
             }),
+            stages: None,
+            kind: None,
         }
+    }
+
+    /// The record of a whole plan: for one stage that stage's with `stages` listing it;
+    /// for two, the whole conversion's figures (see `stages`).
+    pub fn of_plan(plan: &resample_core::StagePlan, minimum: bool) -> Self {
+        let facts = super::stages::StageFacts::of(plan);
+        let stages: Vec<Design> = plan
+            .stages()
+            .iter()
+            .zip(&facts.list)
+            .map(|(d, f)| Self {
+                kind: Some(f.kind),
+                ..Self::new(d.report(), minimum)
+            })
+            .collect();
+        let long = plan
+            .stages()
+            .iter()
+            .enumerate()
+            .find(|&(i, _)| plan.half_band_stage() != Some(i))
+            .map_or(&plan.stages()[0], |(_, d)| d);
+        let mut top = Self::new(long.report(), minimum);
+        if plan.is_two_stage() {
+            let pair = plan.pair();
+            top.in_rate = pair.in_rate();
+            top.out_rate = pair.out_rate();
+            top.up = pair.up();
+            top.down = pair.down();
+            top.requested_stopband_db = plan.spec().requested_stopband_db();
+            top.measured_stopband_db = plan.measured_stopband_db();
+            top.passband_ripple_db = plan.passband_ripple_db();
+            top.passband_edge_hz = plan.passband_edge_hz();
+            top.latency_input_samples = plan.latency_input_frames();
+            top.latency_output_samples = plan.latency_output_frames();
+            top.latency_ms = plan.latency_ms();
+            top.table_bytes_f32 = plan
+                .stages()
+                .iter()
+                .map(|d| d.report().table_bytes_f32)
+                .sum();
+            top.table_bytes_f64 = plan
+                .stages()
+                .iter()
+                .map(|d| d.report().table_bytes_f64)
+                .sum();
+        }
+        top.stages = Some(stages);
+        top
     }
 }
 
@@ -408,6 +472,10 @@ pub struct Verify {
     /// Relative difference of the measured ratio from the exact one, ppm.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub ratio_difference_ppm: Option<f64>,
+    /// The stages measured (one, or two: what `convert` runs); absent for the any-ratio
+    /// engine.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub stages: Option<Vec<super::stages::StageFact>>,
 }
 
 /// The minimum-phase figures `verify` adds.
@@ -484,6 +552,9 @@ pub struct TradeoffRow<'a> {
     pub table_bytes_f32: Option<u64>,
     /// Why a row measures below its request.
     pub note: Option<&'a str>,
+    /// The stages in words, for a design run in two stages (absent otherwise).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub stages: Option<&'a str>,
 }
 
 #[cfg(test)]

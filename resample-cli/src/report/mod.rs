@@ -3,7 +3,8 @@
 //! figures of `verify` and `grade` ([`measured`]), the pictures ([`plot`],
 //! [`tradeoff_plot`]) in one look ([`theme`]), number formatting shared by all of them
 //! ([`format`](mod@format)), every JSON record's keys ([`json`]),
-//! and printing lines that never panics on a closed pipe ([`print`](mod@print)).
+//! printing lines that never panics on a closed pipe ([`print`](mod@print)), and the
+//! stages a conversion ran ([`stages`]).
 
 pub mod design;
 pub mod file;
@@ -12,6 +13,7 @@ pub mod json;
 pub mod measured;
 pub mod plot;
 pub mod print;
+pub mod stages;
 pub mod theme;
 pub mod tradeoff;
 pub mod tradeoff_plot;

@@ -30,6 +30,9 @@ pub struct Row {
     pub table_bytes: Option<u64>,
     /// Why a design row measures below its request, and what to try.
     pub note: Option<String>,
+    /// The stages in words, for a design run in two stages (its taps and its table are
+    /// then the polyphase stage's and both stages' together).
+    pub stages: Option<String>,
 }
 
 impl Row {

@@ -15,5 +15,6 @@ mod measure_cli;
 mod metadata;
 mod pictures;
 mod safety;
+mod stages;
 mod tradeoff;
 mod util;

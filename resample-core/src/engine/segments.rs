@@ -9,10 +9,18 @@
 //! `a - P` (`P` a multiple of M at least one filter span), so the history it sees before
 //! its first kept output is the file's own; the first `P L / M` outputs, made partly from
 //! that silence, are dropped.
+//!
+//! Two stages ([`SegmentPlan::for_plan`], [`convert_chain_segment`]): the cuts fall on
+//! multiples of 2 M input frames, so the half-band stage sees its even and odd frames as
+//! at the beginning of the file and the middle rate's frame index is a multiple of the
+//! second stage's M (or, up-sampling, the first stage's output index is whole); the
+//! re-read covers both stages' spans (the second's brought to input frames), so every
+//! kept output is made from the file's own input at every stage.
 
+use super::chain::ChainConverter;
 use super::stream::StreamConverter;
 use crate::ratio::newest_input;
-use crate::{Design, Error, Result, Sample};
+use crate::{Design, Error, Result, Sample, StagePlan};
 
 /// Input samples (frames times channels) per segment, aimed at.
 const SEGMENT_SAMPLES: usize = 1 << 16;
@@ -33,6 +41,8 @@ pub struct SegmentPlan {
     seg: u64,
     /// Input frames re-read before a segment (a multiple of M).
     prime: u64,
+    /// Cut for a two-stage chain: a segment reads `prime` frames past its end too.
+    chain: bool,
 }
 
 /// One segment: the input it reads and the output it keeps.
@@ -73,6 +83,49 @@ impl SegmentPlan {
             frames_in,
             seg,
             prime,
+            chain: false,
+        })
+    }
+
+    /// Cuts for the conversion `plan` runs ([`ChainConverter`]): for one stage exactly
+    /// [`SegmentPlan::new`] of that stage; for two, cuts on multiples of 2 M input frames
+    /// and a re-read (before and after each segment) of both stages' spans.
+    pub fn for_plan(plan: &StagePlan, frames_in: u64, channels: usize) -> Option<Self> {
+        if let Some(d) = plan.single() {
+            return Self::new(d, frames_in, channels);
+        }
+        let pair = plan.pair();
+        let (up, down) = (u64::from(pair.up()), u64::from(pair.down()));
+        let in_rate = u64::from(pair.in_rate());
+        // Each stage's span in its own input frames, brought to the overall input rate
+        // (rounded up), plus one frame for each.
+        let span: u64 = plan
+            .stages()
+            .iter()
+            .map(|d| {
+                let p = d.pair();
+                let own = (d.taps().len() as u64).div_ceil(u64::from(p.up())) + 1;
+                (own * in_rate).div_ceil(u64::from(p.in_rate())) + 1
+            })
+            .sum();
+        let quantum = 2 * down;
+        let prime = span.div_ceil(quantum) * quantum;
+        let aim = (SEGMENT_SAMPLES / channels.max(1)) as u64;
+        let seg = aim
+            .max(MIN_SEGMENT_TO_PRIME as u64 * prime)
+            .div_ceil(quantum)
+            * quantum;
+        if seg > MAX_OVER_AIM * aim.max(1) {
+            return None;
+        }
+        Some(Self {
+            up,
+            down,
+            delay: 0,
+            frames_in,
+            seg,
+            prime,
+            chain: true,
         })
     }
 
@@ -103,7 +156,10 @@ impl SegmentPlan {
         let keep = out_end - a * self.up / self.down;
         // Input needed for local output `skip + keep - 1`: the newest input it reads, plus
         // one (the stream's readiness rule).
-        let need = if skip + keep == 0 {
+        let need = if self.chain {
+            // The chain's look-ahead is within the re-read's span of every stage.
+            b + self.prime - start
+        } else if skip + keep == 0 {
             0
         } else {
             newest_input(skip + keep - 1, self.up, self.down, self.delay) as u64 + 1
@@ -123,6 +179,55 @@ impl SegmentPlan {
 /// order; `out` gets the kept outputs, interleaved. `conv` is reset first.
 pub fn convert_segment<T: Sample>(
     conv: &mut StreamConverter<T>,
+    seg: &Segment,
+    pieces: &[&[T]],
+    out: &mut Vec<T>,
+) -> Result<()> {
+    let ch = conv.channels();
+    conv.reset();
+    let total = seg.skip + seg.keep;
+    // Every sample is written below: a recycled buffer is only cut or grown to size.
+    if out.len() >= total * ch {
+        out.truncate(total * ch);
+    } else {
+        out.resize(total * ch, T::zero());
+    }
+    let mut written = 0;
+    for piece in pieces {
+        let frames = piece.len() / ch;
+        let mut read = 0;
+        while read < frames && written < total {
+            let p = conv.process_interleaved(&piece[read * ch..], &mut out[written * ch..])?;
+            read += p.frames_read;
+            written += p.frames_written;
+            if p.frames_read == 0 && p.frames_written == 0 {
+                break;
+            }
+        }
+    }
+    while seg.last && written < total {
+        let k = conv.flush_interleaved(&mut out[written * ch..])?;
+        if k == 0 {
+            break;
+        }
+        written += k;
+    }
+    if written != total {
+        return Err(Error::BufferShape {
+            what: "output frames of a segment",
+            expected: total,
+            got: written,
+        });
+    }
+    out.drain(..seg.skip * ch);
+    Ok(())
+}
+
+/// [`convert_segment`] for the converter of a [`StagePlan`] (one stage or two): `pieces`
+/// hold its input frames `[start, end)`, interleaved, in order; `out` gets the kept
+/// outputs, interleaved. `conv` is reset first.
+pub fn convert_chain_segment<T: Sample>(
+    conv: &mut ChainConverter<T>,
     seg: &Segment,
     pieces: &[&[T]],
     out: &mut Vec<T>,
@@ -285,5 +390,96 @@ mod tests {
         check_phase::<f32>(44_100, 16_000, 110.0, 2, 100_000, min);
         check_phase::<f64>(96_000, 48_000, 120.0, 2, 100_003, min);
         check_phase::<f64>(44_100, 48_000, 100.0, 2, 5_000, min);
+    }
+}
+
+#[cfg(test)]
+mod chain_tests {
+    use super::*;
+    use crate::{FilterSpec, StageChoice};
+
+    /// One chain over everything, in blocks, then flushed.
+    fn straight<T: Sample>(plan: &StagePlan, x: &[T], ch: usize) -> Vec<T> {
+        let mut conv = ChainConverter::<T>::new(plan, ch).unwrap();
+        let mut y = Vec::new();
+        let mut out = vec![T::zero(); conv.max_output_frames(1000).max(1) * ch];
+        for block in x.chunks(1000 * ch) {
+            let mut off = 0;
+            while off < block.len() / ch {
+                let p = conv
+                    .process_interleaved(&block[off * ch..], &mut out)
+                    .unwrap();
+                y.extend_from_slice(&out[..p.frames_written * ch]);
+                off += p.frames_read;
+            }
+        }
+        loop {
+            let k = conv.flush_interleaved(&mut out).unwrap();
+            if k == 0 {
+                break;
+            }
+            y.extend_from_slice(&out[..k * ch]);
+        }
+        y
+    }
+
+    fn check<T: Sample>(a: u32, b: u32, db: f64, ch: usize, frames: usize, stages: StageChoice) {
+        let plan = FilterSpec::new(a, b)
+            .stopband_db(db)
+            .stage_choice(stages)
+            .plan()
+            .unwrap();
+        let x: Vec<T> = (0..frames * ch)
+            .map(|i| {
+                let t = (i / ch) as f64;
+                T::from_f64_lossy(0.7 * (t * 0.0131 * (1 + i % ch) as f64).sin() + 1e-3)
+            })
+            .collect();
+        let want = straight(&plan, &x, ch);
+        assert_eq!(
+            want.len() as u64,
+            plan.pair().output_len(frames as u64) * ch as u64
+        );
+        let cuts = SegmentPlan::for_plan(&plan, frames as u64, ch).expect("segments");
+        assert!(cuts.count() > 1 || frames < 70_000, "{a}->{b}: one segment");
+        let mut conv = ChainConverter::<T>::new(&plan, ch).unwrap();
+        let mut got = Vec::new();
+        let mut out = Vec::new();
+        let mut parts = Vec::new();
+        // Backwards, to show the segments do not depend on each other.
+        for j in (0..cuts.count()).rev() {
+            let s = cuts.segment(j).unwrap();
+            let input = &x[s.start as usize * ch..s.end as usize * ch];
+            let cut = (input.len() / ch / 3) * ch;
+            let (p, q) = input.split_at(cut);
+            convert_chain_segment(&mut conv, &s, &[p, q], &mut out).unwrap();
+            parts.push(out.clone());
+        }
+        for p in parts.iter().rev() {
+            got.extend_from_slice(p);
+        }
+        assert_eq!(want.len(), got.len(), "{a}->{b} x{ch}");
+        for (i, (p, q)) in want.iter().zip(&got).enumerate() {
+            assert_eq!(
+                p.to_f64_exact().to_bits(),
+                q.to_f64_exact().to_bits(),
+                "{a}->{b} x{ch}: sample {i}"
+            );
+        }
+    }
+
+    #[test]
+    fn chain_segments_give_the_straight_chain_bit_for_bit() {
+        let two = StageChoice::Two;
+        check::<f64>(192_000, 44_100, 140.0, 2, 400_000, two);
+        check::<f32>(192_000, 44_100, 110.0, 1, 300_007, two);
+        check::<f64>(48_000, 8_000, 140.0, 2, 200_001, two);
+        check::<f32>(48_000, 16_000, 100.0, 3, 150_000, two);
+        check::<f64>(8_000, 48_000, 120.0, 2, 60_000, two);
+        check::<f64>(11_025, 48_000, 120.0, 1, 80_003, two);
+        // Shorter than one segment.
+        check::<f64>(192_000, 44_100, 120.0, 2, 5_000, two);
+        // One stage: the single stage's cuts.
+        check::<f64>(44_100, 48_000, 140.0, 2, 100_000, StageChoice::Single);
     }
 }
