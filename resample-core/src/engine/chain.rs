@@ -180,6 +180,14 @@ struct Two<T> {
     /// Whether each stage has been told to flush (it takes no more input then).
     a_flushing: bool,
     b_flushing: bool,
+    /// Zero frames run before the input and after it ([`StagePlan::edge_frames`]).
+    edge: usize,
+    /// Outputs of the leading zeros still to drop.
+    lead_drop: u64,
+    /// Outputs of the leading zeros in all ([`StagePlan::edge_output_frames`]).
+    lead_outputs: u64,
+    /// Trailing zero frames still to run through the first stage at the flush.
+    tail_left: usize,
 }
 
 #[derive(Debug, Clone)]
@@ -199,6 +207,10 @@ enum Inner<T> {
 /// through small planar queues (copies, 4096 frames a channel, allocated at construction)
 /// between the stages (planar input to a first half-band stage goes straight into its own
 /// even and odd planes); frames read may wait in the queues until their outputs are ready.
+/// The first stage also runs over [`StagePlan::edge_frames`] zeros before the input (at
+/// construction and reset) and after it (at the flush), whose outputs are dropped, so that
+/// its ringing around the ends of the signal reaches the second stage: the output agrees
+/// with one stage's within the stopband level at the ends too.
 ///
 /// ```
 /// use resample_core::{ChainConverter, FilterSpec, StageChoice};
@@ -258,14 +270,22 @@ impl<T: Sample> ChainConverter<T> {
                 flushing: false,
                 a_flushing: false,
                 b_flushing: false,
+                edge: usize::try_from(plan.edge_frames()).unwrap_or(usize::MAX),
+                lead_drop: plan.edge_output_frames(),
+                lead_outputs: plan.edge_output_frames(),
+                tail_left: 0,
             }))
         };
-        Ok(Self {
+        let mut conv = Self {
             inner,
             pair: plan.pair(),
             channels,
             latency_input_frames: plan.latency_input_frames(),
-        })
+        };
+        if let Inner::Two(t) = &mut conv.inner {
+            t.lead()?;
+        }
+        Ok(conv)
     }
 
     /// Forget all input: back to the state right after construction. Does not allocate.
@@ -283,6 +303,10 @@ impl<T: Sample> ChainConverter<T> {
                 t.flushing = false;
                 t.a_flushing = false;
                 t.b_flushing = false;
+                t.lead_drop = t.lead_outputs;
+                // The same leading zeros as at construction (internal buffers only: the
+                // stages cannot refuse them, and nothing is allocated).
+                let _ = t.lead();
             }
         }
     }
@@ -348,8 +372,9 @@ impl<T: Sample> ChainConverter<T> {
             Inner::Two(t) => {
                 let mid =
                     t.a.output_frames_for_input(t.input.pending() as u64 + input_frames);
-                t.output.pending() as u64
-                    + t.b.output_frames_for_input(t.mid.pending() as u64 + mid)
+                (t.output.pending() as u64
+                    + t.b.output_frames_for_input(t.mid.pending() as u64 + mid))
+                .saturating_sub(t.lead_drop)
             }
         }
     }
@@ -371,11 +396,13 @@ impl<T: Sample> ChainConverter<T> {
         match &self.inner {
             Inner::One(c) => c.input_frames_for_output(output_frames),
             Inner::Two(t) => {
+                // The leading zeros' outputs still to come are dropped first.
+                let want = output_frames + t.lead_drop;
                 let have = t.output.pending() as u64;
-                if output_frames <= have {
+                if want <= have {
                     return 0;
                 }
-                let mid = t.b.input_frames_for_output(output_frames - have);
+                let mid = t.b.input_frames_for_output(want - have);
                 let held = t.mid.pending() as u64;
                 if mid <= held {
                     return 0;
@@ -542,6 +569,7 @@ impl<T: Sample> Two<T> {
         at: usize,
         store: &mut impl FnMut(&Queue<T>, usize, usize),
     ) -> usize {
+        self.drop_lead();
         let left = usize::try_from(limit.saturating_sub(self.n_out)).unwrap_or(usize::MAX);
         let k = self.output.pending().min(room).min(left);
         if k > 0 {
@@ -550,6 +578,53 @@ impl<T: Sample> Two<T> {
             self.n_out += k as u64;
         }
         k
+    }
+
+    /// Drop what the output queue holds of the leading zeros' outputs.
+    fn drop_lead(&mut self) {
+        let k = self
+            .output
+            .pending()
+            .min(usize::try_from(self.lead_drop).unwrap_or(usize::MAX));
+        if k > 0 {
+            self.output.take(k);
+            self.lead_drop -= k as u64;
+        }
+    }
+
+    /// Put `n` zero frames into the input queue (`n` at most its room).
+    fn load_zeros(&mut self, n: usize) {
+        for l in &mut self.input.lanes {
+            let e = l.end;
+            l.buf[e..e + n].fill(T::zero());
+        }
+        self.input.put(n);
+    }
+
+    /// Run the leading zero frames through the chain (at construction and reset), dropping
+    /// their outputs as they come; the tail's zeros are set to run at the flush. The input
+    /// queue is empty again afterwards.
+    fn lead(&mut self) -> Result<()> {
+        self.tail_left = self.edge;
+        let mut left = self.edge;
+        loop {
+            if left > 0 {
+                self.input.compact();
+                let k = self.input.room().min(left);
+                self.load_zeros(k);
+                left -= k;
+            }
+            let mut moved = false;
+            while self.step()? {
+                self.drop_lead();
+                moved = true;
+            }
+            self.drop_lead();
+            if left == 0 && (self.input.pending() == 0 || !moved) {
+                break;
+            }
+        }
+        Ok(())
     }
 
     /// Move frames one step along the chain; true if anything moved.
@@ -676,7 +751,17 @@ impl<T: Sample> Two<T> {
             if self.step()? {
                 continue;
             }
-            if self.input.pending() == 0 && !self.a.is_finished() {
+            if self.tail_left > 0 && !self.a_flushing {
+                // The trailing zeros go in after the last input frame.
+                self.input.compact();
+                let k = self.input.room().min(self.tail_left);
+                if k > 0 {
+                    self.load_zeros(k);
+                    self.tail_left -= k;
+                    continue;
+                }
+            }
+            if self.input.pending() == 0 && self.tail_left == 0 && !self.a.is_finished() {
                 self.mid.compact();
                 self.a_flushing = true;
                 let k = self.a.flush(&mut self.mid.lanes)?;

@@ -239,14 +239,38 @@ pub fn convert_plan_planar_with<T: Sample, I: AsRef<[T]> + Sync>(
             convert_planar_with(d, x, kernel)
         }
     };
-    let x: Vec<&[T]> = input.iter().map(AsRef::as_ref).collect();
+    // Two stages run over the signal with `edge_frames` zeros either side, and the
+    // outputs of the leading zeros are dropped (see `StagePlan::edge_frames`).
+    let pad = usize::try_from(plan.edge_frames()).unwrap_or(usize::MAX);
+    let padded: Vec<Vec<T>> = if pad > 0 {
+        input
+            .iter()
+            .map(|c| {
+                let mut v = Vec::with_capacity(n + 2 * pad);
+                v.resize(pad, T::zero());
+                v.extend_from_slice(c.as_ref());
+                v.resize(n + 2 * pad, T::zero());
+                v
+            })
+            .collect()
+    } else {
+        Vec::new()
+    };
+    let x: Vec<&[T]> = if pad > 0 {
+        padded.iter().map(Vec::as_slice).collect()
+    } else {
+        input.iter().map(AsRef::as_ref).collect()
+    };
     let mut y = stage(0, &x)?;
+    drop(padded);
     for i in 1..plan.stages().len() {
         let x: Vec<&[T]> = y.iter().map(Vec::as_slice).collect();
         y = stage(i, &x)?;
     }
+    let lead = usize::try_from(plan.edge_output_frames()).unwrap_or(usize::MAX);
     let keep = plan.pair().output_len(n as u64) as usize;
     for c in &mut y {
+        c.drain(..lead.min(c.len()));
         c.truncate(keep);
     }
     Ok(y)

@@ -325,6 +325,30 @@ impl StagePlan {
             .min(self.stages[0].report().passband_edge_hz)
     }
 
+    /// Zero frames run through a two-stage conversion before its input and after it (0 for
+    /// one stage): at least the first stage's reach (half its prototype, in input frames),
+    /// rounded up to a multiple of the overall pair's down factor `M`, so that the
+    /// `edge_frames() L / M` outputs they add in front are whole frames and are dropped.
+    ///
+    /// The first stage's output rings before the first input frame and after the last
+    /// (its filter reaches both ways); run on the zeros around the signal, that ringing
+    /// reaches the second stage, as it would in one stage, and the edges of the output
+    /// agree with the single stage's within the stopband level.
+    pub fn edge_frames(&self) -> u64 {
+        let Some(first) = self.stages.first().filter(|_| self.is_two_stage()) else {
+            return 0;
+        };
+        let up = u64::from(first.pair().up());
+        let reach = (first.taps().len() as u64).div_ceil(2 * up) + 1;
+        let down = u64::from(self.pair.down());
+        reach.div_ceil(down) * down
+    }
+
+    /// Output frames the leading [`StagePlan::edge_frames`] add in front (dropped).
+    pub fn edge_output_frames(&self) -> u64 {
+        self.edge_frames() / u64::from(self.pair.down()) * u64::from(self.pair.up())
+    }
+
     /// Delay of the whole conversion in input frames: each stage's delay at its own input
     /// rate, brought to the overall input rate and added.
     pub fn latency_input_frames(&self) -> f64 {
