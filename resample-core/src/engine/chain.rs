@@ -608,19 +608,22 @@ impl<T: Sample> Two<T> {
         self.tail_left = self.edge;
         let mut left = self.edge;
         loop {
+            let mut moved = false;
             if left > 0 {
                 self.input.compact();
                 let k = self.input.room().min(left);
                 self.load_zeros(k);
                 left -= k;
+                moved = k > 0;
             }
-            let mut moved = false;
             while self.step()? {
                 self.drop_lead();
                 moved = true;
             }
             self.drop_lead();
-            if left == 0 && (self.input.pending() == 0 || !moved) {
+            // Done when every zero went in and through; stop too if nothing can move (the
+            // zeros' outputs never outnumber the ones to drop, so that does not happen).
+            if (left == 0 && self.input.pending() == 0) || !moved {
                 break;
             }
         }
