@@ -7,7 +7,8 @@
 //! the same cases under criterion.
 //!
 //! `cargo bench -p resample-core --bench stages` (`RERATE_SUMMARY_ONLY=1` prints only the
-//! summary). Costs are nanoseconds of this thread's CPU time per input frame (both
+//! summary; `RERATE_PAIR=48000-16000` one pair, listed or not; `RERATE_DB=160` one
+//! stopband). Costs are nanoseconds of this thread's CPU time per input frame (both
 //! channels), best of three runs of at least 300 ms each.
 
 use std::hint::black_box;
@@ -119,14 +120,20 @@ fn main() {
         "chosen"
     );
     let mut cases = Vec::new();
-    // `RERATE_PAIR=48000-16000` runs one pair only.
-    let only = std::env::var("RERATE_PAIR").ok();
-    for &(a, b) in &PAIRS {
-        if only.as_ref().is_some_and(|p| *p != format!("{a}-{b}")) {
-            continue;
-        }
+    // `RERATE_PAIR=48000-16000` runs one pair only (any pair, listed or not);
+    // `RERATE_DB=160` one stopband only.
+    let only: Option<(u32, u32)> = std::env::var("RERATE_PAIR").ok().and_then(|p| {
+        let (a, b) = p.split_once('-')?;
+        Some((a.parse().ok()?, b.parse().ok()?))
+    });
+    let dbs: Vec<f64> = match std::env::var("RERATE_DB").ok().and_then(|d| d.parse().ok()) {
+        Some(db) => vec![db],
+        None => DBS.to_vec(),
+    };
+    let pairs: Vec<(u32, u32)> = only.map_or_else(|| PAIRS.to_vec(), |p| vec![p]);
+    for &(a, b) in &pairs {
         let input = signal(a);
-        for &db in &DBS {
+        for &db in &dbs {
             let single = FilterSpec::new(a, b)
                 .stopband_db(db)
                 .stage_choice(StageChoice::Single)
