@@ -18,7 +18,7 @@
 //! kept output is made from the file's own input at every stage.
 
 use super::chain::ChainConverter;
-use super::stream::StreamConverter;
+use super::stream::{Progress, StreamConverter};
 use crate::ratio::newest_input;
 use crate::{Design, Error, Result, Sample, StagePlan};
 
@@ -183,44 +183,7 @@ pub fn convert_segment<T: Sample>(
     pieces: &[&[T]],
     out: &mut Vec<T>,
 ) -> Result<()> {
-    let ch = conv.channels();
-    conv.reset();
-    let total = seg.skip + seg.keep;
-    // Every sample is written below: a recycled buffer is only cut or grown to size.
-    if out.len() >= total * ch {
-        out.truncate(total * ch);
-    } else {
-        out.resize(total * ch, T::zero());
-    }
-    let mut written = 0;
-    for piece in pieces {
-        let frames = piece.len() / ch;
-        let mut read = 0;
-        while read < frames && written < total {
-            let p = conv.process_interleaved(&piece[read * ch..], &mut out[written * ch..])?;
-            read += p.frames_read;
-            written += p.frames_written;
-            if p.frames_read == 0 && p.frames_written == 0 {
-                break;
-            }
-        }
-    }
-    while seg.last && written < total {
-        let k = conv.flush_interleaved(&mut out[written * ch..])?;
-        if k == 0 {
-            break;
-        }
-        written += k;
-    }
-    if written != total {
-        return Err(Error::BufferShape {
-            what: "output frames of a segment",
-            expected: total,
-            got: written,
-        });
-    }
-    out.drain(..seg.skip * ch);
-    Ok(())
+    run_segment(conv, seg, pieces, out)
 }
 
 /// [`convert_segment`] for the converter of a [`StagePlan`] (one stage or two): `pieces`
@@ -228,6 +191,46 @@ pub fn convert_segment<T: Sample>(
 /// outputs, interleaved. `conv` is reset first.
 pub fn convert_chain_segment<T: Sample>(
     conv: &mut ChainConverter<T>,
+    seg: &Segment,
+    pieces: &[&[T]],
+    out: &mut Vec<T>,
+) -> Result<()> {
+    run_segment(conv, seg, pieces, out)
+}
+
+/// What a segment needs of a streaming converter (both engines have it).
+trait Streaming<T> {
+    fn channels(&self) -> usize;
+    fn reset(&mut self);
+    fn process_interleaved(&mut self, input: &[T], output: &mut [T]) -> Result<Progress>;
+    fn flush_interleaved(&mut self, output: &mut [T]) -> Result<usize>;
+}
+
+/// Implement [`Streaming`] by the converter's own methods of the same names.
+macro_rules! streaming {
+    ($c:ident) => {
+        impl<T: Sample> Streaming<T> for $c<T> {
+            fn channels(&self) -> usize {
+                $c::channels(self)
+            }
+            fn reset(&mut self) {
+                $c::reset(self)
+            }
+            fn process_interleaved(&mut self, input: &[T], output: &mut [T]) -> Result<Progress> {
+                $c::process_interleaved(self, input, output)
+            }
+            fn flush_interleaved(&mut self, output: &mut [T]) -> Result<usize> {
+                $c::flush_interleaved(self, output)
+            }
+        }
+    };
+}
+streaming!(StreamConverter);
+streaming!(ChainConverter);
+
+/// The body of [`convert_segment`] and [`convert_chain_segment`].
+fn run_segment<T: Sample>(
+    conv: &mut impl Streaming<T>,
     seg: &Segment,
     pieces: &[&[T]],
     out: &mut Vec<T>,
