@@ -93,7 +93,7 @@ pub struct AnyRatioRun {
 
 /// Which engine a pair and settings call for: `None` for the fixed engine, the reason for
 /// the any-ratio one. A clock correction always takes the any-ratio engine; otherwise the
-/// fixed design is tried (and cached for the conversion) and a table over the budget moves
+/// fixed plan is made (cached under the key the conversion then reads) and a table over the budget moves
 /// the pair to the any-ratio engine. Other design errors are left to the fixed path.
 pub fn route(
     in_rate: u32,
@@ -116,12 +116,14 @@ pub fn route(
     ) {
         return None;
     }
-    match designs.get(
+    // The plan the conversion runs (cached, so the conversion does not design it again).
+    match designs.plan(
         in_rate,
         settings.out_rate,
         stopband_db,
         settings.passband,
         settings.phase,
+        settings.stages,
     ) {
         Err(resample_core::Error::TableTooLarge {
             up,

@@ -4,14 +4,13 @@
 use std::collections::HashMap;
 use std::sync::{Arc, Mutex};
 
-use resample_core::{Design, FilterSpec, GlideDesign, Phase, StageChoice, StagePlan};
+use resample_core::{FilterSpec, GlideDesign, Phase, StageChoice, StagePlan};
 
 type Key = (u32, u32, u64, u64, Phase);
 
 /// A thread-safe cache of designs.
 #[derive(Debug, Default)]
 pub struct DesignCache {
-    map: Mutex<HashMap<Key, Arc<Design>>>,
     /// Plans of one stage or two ([`FilterSpec::plan`]), by request and stage choice.
     plans: Mutex<HashMap<(Key, StageChoice), Arc<StagePlan>>>,
     /// Tables of the any-ratio engine (clock correction, pairs over the table budget).
@@ -22,21 +21,6 @@ impl DesignCache {
     /// An empty cache.
     pub fn new() -> Self {
         Self::default()
-    }
-
-    /// The design for these parameters (designed now if not seen before).
-    pub fn get(
-        &self,
-        in_rate: u32,
-        out_rate: u32,
-        stopband_db: f64,
-        passband: f64,
-        phase: Phase,
-    ) -> Result<Arc<Design>, resample_core::Error> {
-        let spec = spec(in_rate, out_rate, stopband_db, passband, phase);
-        // Designing under the lock keeps two threads from designing the same filter; designs
-        // take well under a second.
-        memo(&self.map, spec, |s| s.design())
     }
 
     /// The stages the fixed-ratio engine runs for these parameters: one, or two where
@@ -52,16 +36,11 @@ impl DesignCache {
         stages: StageChoice,
     ) -> Result<Arc<StagePlan>, resample_core::Error> {
         let (key, spec) = spec(in_rate, out_rate, stopband_db, passband, phase);
-        let mut map = match self.plans.lock() {
-            Ok(g) => g,
-            Err(p) => p.into_inner(),
-        };
-        if let Some(p) = map.get(&(key, stages)) {
-            return Ok(Arc::clone(p));
-        }
-        let p = Arc::new(spec.stage_choice(stages).plan()?);
-        map.insert((key, stages), Arc::clone(&p));
-        Ok(p)
+        memo(
+            &self.plans,
+            ((key, stages), spec.stage_choice(stages)),
+            |s| s.plan(),
+        )
     }
 
     /// Whether the fixed engine's design for these parameters surely fits the table budget,
@@ -115,10 +94,12 @@ fn spec(
     (key, spec)
 }
 
-/// The entry of `map` for the spec's key, made by `make` under the lock if missing.
-fn memo<D>(
-    map: &Mutex<HashMap<Key, Arc<D>>>,
-    (key, spec): (Key, FilterSpec),
+/// The entry of `map` for the spec's key, made by `make` under the lock if missing
+/// (designing under the lock keeps two threads from designing the same filter; designs take
+/// well under a second).
+fn memo<K: std::hash::Hash + Eq, D>(
+    map: &Mutex<HashMap<K, Arc<D>>>,
+    (key, spec): (K, FilterSpec),
     make: impl FnOnce(&FilterSpec) -> Result<D, resample_core::Error>,
 ) -> Result<Arc<D>, resample_core::Error> {
     let mut map = match map.lock() {

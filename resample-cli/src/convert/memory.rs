@@ -3,37 +3,7 @@
 //! engine, or the any-ratio engine for a clock correction).
 
 use anyhow::Result;
-use resample_core::{
-    ChainConverter, Design, GlideConverter, GlideDesign, Kernel, Sample, StagePlan, StreamConverter,
-};
-
-/// Run `x` through a streaming converter in `T`, in blocks, as `convert` does.
-pub fn run_engine<T: Sample>(design: &Design, x: &[f64]) -> Result<Vec<f64>> {
-    const BLOCK: usize = 4096;
-    let mut conv = StreamConverter::<T>::new(design, 1)?;
-    let total = design.pair().output_len(x.len() as u64) as usize;
-    let mut out = vec![T::zero(); total];
-    let input: Vec<T> = x.iter().map(|&v| T::from_f64_lossy(v)).collect();
-    let (mut read, mut written) = (0, 0);
-    while read < input.len() {
-        let end = (read + BLOCK).min(input.len());
-        let p = conv.process_planar(&[&input[read..end]], &mut [&mut out[written..]])?;
-        read += p.frames_read;
-        written += p.frames_written;
-        if p.frames_read == 0 && p.frames_written == 0 {
-            break;
-        }
-    }
-    loop {
-        let k = conv.flush_planar(&mut [&mut out[written..]])?;
-        written += k;
-        if k == 0 {
-            break;
-        }
-    }
-    out.truncate(written);
-    Ok(out.iter().map(|v| v.to_f64_exact()).collect())
-}
+use resample_core::{ChainConverter, GlideConverter, GlideDesign, Kernel, Sample, StagePlan};
 
 /// Run `x` through the stages of `plan` (one, or two) in `T`, in blocks, as `convert`
 /// does: the structure `verify` measures.

@@ -17,7 +17,7 @@ use resample_core::{ChainConverter, Phase, Sample, StageChoice, StagePlan};
 pub use crate::report::file::{FileReport, Overs};
 pub use anyratio::{AnyRatioRun, Chosen, Why, ANY_RATIO_ENGINE, FIXED_ENGINE};
 pub use cache::DesignCache;
-pub use memory::{run_engine, run_glide, run_plan};
+pub use memory::{run_glide, run_plan};
 
 use crate::audio::wav::metadata::carry;
 use crate::audio::wav::{
