@@ -3,7 +3,7 @@
 //! scipy.signal.freqz measured on their own taps over the whole stopband
 //! (fixtures/make_grade_truth.py, scipy 1.17.1 / numpy 2.4.6), converting the default sweep
 //! with its edge probes; the output is stored as 32-bit float (as a float WAV holds it)
-//! and graded. Every row must land within 1 dB of the truth and never more than 0.5 dB
+//! and graded. Every row must land within 0.25 dB of the truth and never more than 0.1 dB
 //! above it. The same bound holds for our own converter against our design's measured
 //! stopband.
 //!
@@ -18,10 +18,11 @@ mod common;
 use common::bessel_i0;
 use resample_core::{offline, FilterSpec};
 
-/// Graded minus true, dB: the allowed band (optimistic by at most 0.5, pessimistic by at
-/// most 1).
-const MAX_OVER: f64 = 0.5;
-const MAX_UNDER: f64 = 1.0;
+/// Graded minus true, dB: the allowed band (optimistic by at most 0.1, pessimistic by at
+/// most 0.25). Measured: -0.00 to +0.05 on every row since the edge probes carry a tone at
+/// the edge itself; before, when the level there was extrapolated, -0.63 to +0.05.
+const MAX_OVER: f64 = 0.1;
+const MAX_UNDER: f64 = 0.25;
 
 /// One design line of fixtures/grade_truth.txt and its sampled taps.
 struct Row {

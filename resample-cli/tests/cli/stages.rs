@@ -249,6 +249,67 @@ fn verify_measures_the_two_stages_and_passes() {
     assert!(j["rejection_db"].as_f64().unwrap() >= 140.0, "{text}");
 }
 
+/// |H(f)| / |H(0)| of one stage's taps at `f` cycles per sample: the DTFT at one
+/// frequency (the definition of the frequency response; common practice, no source).
+fn gain_at(taps: &[f64], f: f64) -> f64 {
+    let w = 2.0 * std::f64::consts::PI * f;
+    let (re, im) = taps
+        .iter()
+        .enumerate()
+        .fold((0.0, 0.0), |(re, im), (n, &h)| {
+            let (s, c) = (w * n as f64).sin_cos();
+            (re + h * c, im - h * s)
+        });
+    re.hypot(im) / taps.iter().sum::<f64>().abs()
+}
+
+#[test]
+fn verify_reads_the_response_at_the_band_edge_itself() {
+    // 48k -> 8k at 140 dB in two stages: the worst stopband is the response at 4000 Hz
+    // itself. Its true value, from the exported taps (scipy.signal.freqz of the same taps
+    // read -140.95 dB, benches/README.md), must be what verify reads: before the edge
+    // probes carried a tone at the edge, verify extrapolated 139.88 dB and failed.
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    let args = [
+        "--in-rate",
+        "48000",
+        "--out-rate",
+        "8000",
+        "--stopband-db",
+        "140",
+    ];
+    let o = rerate(
+        d,
+        &[&["design"][..], &args, &["--export", "taps.txt"]].concat(),
+    );
+    assert!(o.status.success(), "{}", err(&o));
+    let file = std::fs::read_to_string(d.join("taps.txt")).unwrap();
+    let mut stages: Vec<Vec<f64>> = Vec::new();
+    for line in file.lines() {
+        if line.starts_with('#') {
+            stages.push(Vec::new());
+        } else {
+            stages.last_mut().unwrap().push(line.parse().unwrap());
+        }
+    }
+    assert_eq!(stages.len(), 2, "{file}");
+    // Stage 1 at 48 kHz, stage 2 (1/3) at 24 kHz.
+    let edge = gain_at(&stages[0], 4000.0 / 48_000.0) * gain_at(&stages[1], 4000.0 / 24_000.0);
+    let true_db = -20.0 * edge.log10();
+    assert!((140.5..141.5).contains(&true_db), "{true_db}");
+    let o = rerate(d, &[&["verify"][..], &args, &["--json"]].concat());
+    let text = out(&o);
+    assert!(o.status.success(), "{text}{}", err(&o));
+    let j: serde_json::Value = serde_json::from_str(text.trim()).unwrap();
+    assert_eq!(j["pass"], true, "{text}");
+    let read = j["rejection_db"].as_f64().unwrap();
+    assert!(
+        (read - true_db).abs() < 0.05,
+        "verify {read} dB, true {true_db} dB"
+    );
+}
+
 #[test]
 fn an_ordinary_pair_is_unchanged_by_the_stage_choice() {
     let dir = tempfile::tempdir().unwrap();

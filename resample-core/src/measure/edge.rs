@@ -24,17 +24,31 @@
 //! 200 Hz in 4 Hz steps (fewer where a tone would not fit below the input's Nyquist
 //! frequency, or where one of its components would share a bin with another tone's wanted
 //! tone or near-edge component). The strongest unwanted bin of the analysis frame counts,
-//! and so does the level at `fe` itself, which no tone can show (a tone at `fe` is its
-//! own image or alias). It is estimated by the parabola in dB through the three wanted
-//! components nearest below `fe` (in the transition band, 1, 2 and 3 Hz below), continued
-//! to `fe` (with fewer than three, by the line between the nearest component below and
-//! the nearest above, an image or alias). The response falls ever faster towards the
-//! first null past the edge, so the parabola errs high (pessimistic): on our own
-//! designs for eight rate pairs at 60 to 180 dB (freqz of the exported taps) it read 0.00
-//! to 0.67 dB above the value at `fe` (a straight line through two read up to 1.38 dB
-//! above), where interpolating across the edge alone had read up to 1.5 dB under it
-//! (44.1k -> 16k at 120 dB) and a null 2 Hz past the edge hid it by 4 dB (48k -> 16k at
-//! 160 dB, whose worst stopband is the value at `fe` itself).
+//! and so does the level at `fe` itself.
+//!
+//! **The level at `fe`**, measured by one more tone at `fe` itself when `fe` is a whole
+//! number of hertz (the lower rate even; common practice, no source, for what follows):
+//! * Upsampling: the tone is at the input's Nyquist frequency with phase 0, so its input
+//!   samples are `a (-1)^n`. Its wanted tone and its first image coincide at `fe` and add
+//!   in phase: the output holds a tone at `fe` of amplitude `2 a |H(fe)|` (a brick-wall
+//!   interpolator, `|H(fe)| = 1/2`, returns the tone `a cos(pi t)` through the samples).
+//! * Downsampling: the tone at `fe` is filtered to `a |H(fe)| cos(2 pi fe t + phi - theta)`
+//!   and sampled at `2 fe`, which leaves `a |H(fe)| cos(phi - theta) (-1)^m` on the output's
+//!   Nyquist bin, where `theta`, the converter's phase at `fe`, is unknown. So the steady
+//!   section holds a second analysed second in which only this tone's phase is turned by a
+//!   quarter period (a sudden step, half-way through a gap of [`SETTLE_SECONDS`] either
+//!   side, all other tones running on); the two readings are `a |H(fe)|` times the cosine
+//!   and the sine of the same angle.
+//!
+//! Both are exact for a linear time-invariant converter (each component on its own bin).
+//! Otherwise (an odd lower rate: the edge on a half hertz) the level at `fe` is estimated
+//! by the parabola in dB through the three wanted components nearest below `fe` (in the
+//! transition band, 1, 2 and 3 Hz below), continued to `fe` (with fewer than three, by the
+//! line between the nearest component below and the nearest above, an image or alias).
+//! The response falls ever faster towards the first null past the edge, so the parabola
+//! errs high (pessimistic): on our own designs for eight rate pairs at 60 to 180 dB
+//! (freqz of the exported taps) it read 0.00 to 0.67 dB above the value at `fe`, and 1.05
+//! dB above it for 48k -> 8k at 140 dB in two stages, which the tone at `fe` now measures.
 //!
 //! Resolution: exact at the probed frequencies (1 Hz bins, no window); between them a
 //! lobe peak can fall between two probes, at most 2 Hz from one (4 Hz steps), which costs
@@ -79,6 +93,12 @@ pub struct Probes {
     phases: Vec<f64>,
     /// Amplitude of each tone.
     amplitude: f64,
+    /// The tone at the band edge itself (whole hertz), if the edge is a whole number of
+    /// hertz and the tone fits (see the module docs).
+    edge_tone: Option<u32>,
+    /// Phase of the edge tone, radians (in the second analysed second of a downsampling
+    /// pair, a quarter period more).
+    edge_phase: f64,
 }
 
 /// The result of the probe analysis.
@@ -94,9 +114,13 @@ pub struct EdgeReport {
     pub worst_db: f64,
     /// Its frequency in the output, Hz.
     pub worst_hz: f64,
-    /// The response interpolated at the edge, dB relative to a tone (`None` if the probes
-    /// do not straddle the edge).
+    /// The response at the edge, dB relative to a tone: measured by the tone at the edge
+    /// ([`EdgeReport::at_edge_measured`]), else interpolated (`None` if the probes do not
+    /// straddle the edge).
     pub at_edge_db: Option<f64>,
+    /// Whether [`EdgeReport::at_edge_db`] was measured by a tone at the edge itself (exact
+    /// for a linear converter) rather than interpolated from its neighbours.
+    pub at_edge_measured: bool,
     /// The near-edge stopband components: (distance above the edge of the prototype
     /// frequency, Hz; level dB relative to a tone).
     pub stopband: Vec<(f64, f64)>,
@@ -125,7 +149,7 @@ impl Probes {
     /// The probes for converting `in_rate` to `out_rate`, peak level `amplitude` (of the
     /// sum); `None` for equal rates or when no tone fits.
     pub fn new(in_rate: u32, out_rate: u32, amplitude: f64) -> Option<Self> {
-        let tones = Self::place(in_rate, out_rate)?;
+        let (edge_tone, tones) = Self::layout(in_rate, out_rate)?;
         // Phases spread quadratically (low crest factor for tones on a regular grid).
         let n = tones.len() as f64;
         let phases: Vec<f64> = (0..tones.len())
@@ -137,22 +161,56 @@ impl Probes {
             tones,
             phases,
             amplitude: 1.0,
+            edge_tone,
+            // Upsampling: phase 0, the whole tone in the input's samples (module docs).
+            edge_phase: if out_rate > in_rate {
+                0.0
+            } else {
+                0.25 * core::f64::consts::PI
+            },
         };
-        // The sum repeats every second: scale its peak over one second to `amplitude`.
-        let peak = (0..in_rate as usize)
-            .map(|i| p.unit_at(i).abs())
+        // The sum repeats every second: scale its peak over one second to `amplitude`
+        // (both seconds, where the edge tone turns between them).
+        let turns: &[bool] = if p.two_seconds() {
+            &[false, true]
+        } else {
+            &[false]
+        };
+        let peak = turns
+            .iter()
+            .flat_map(|&t| (0..in_rate as usize).map(move |i| (i, t)))
+            .map(|(i, t)| p.unit_at(i, t).abs())
             .fold(0.0_f64, f64::max);
         p.amplitude = amplitude / peak.max(f64::MIN_POSITIVE);
         Some(p)
     }
 
-    /// Steady samples between the fades at `in_rate`.
-    pub fn steady_len_for(in_rate: u32) -> usize {
-        ((2.0 * SETTLE_SECONDS + ANALYSED_SECONDS) * f64::from(in_rate)).round() as usize
+    /// Steady samples between the fades at `in_rate`, for probes placed for `out_rate`:
+    /// [`SETTLE_SECONDS`], the analysed second, [`SETTLE_SECONDS`]; with a tone at the
+    /// edge of a downsampling pair, twice that (the second analysed second, see the module
+    /// docs).
+    pub fn steady_len_for(in_rate: u32, out_rate: u32) -> usize {
+        let two =
+            Self::layout(in_rate, out_rate).is_some_and(|(e, _)| e.is_some() && out_rate < in_rate);
+        let seconds = (2.0 * SETTLE_SECONDS + ANALYSED_SECONDS) * if two { 2.0 } else { 1.0 };
+        (seconds * f64::from(in_rate)).round() as usize
     }
 
-    /// The tone frequencies for a rate pair (see the module docs), or `None`.
+    /// Whether the steady section holds a second analysed second (a tone at the edge of a
+    /// downsampling pair).
+    fn two_seconds(&self) -> bool {
+        self.edge_tone.is_some() && self.out_rate < self.in_rate
+    }
+
+    /// The tone frequencies for a rate pair (see the module docs), or `None`; the tone at
+    /// the edge itself is not among them ([`Probes::edge_tone`]).
     pub fn place(in_rate: u32, out_rate: u32) -> Option<Vec<u32>> {
+        Self::layout(in_rate, out_rate).map(|(_, tones)| tones)
+    }
+
+    /// The tone at the edge, if any, and the other tones for a rate pair, or `None` when
+    /// no tone fits.
+    fn layout(in_rate: u32, out_rate: u32) -> Option<(Option<u32>, Vec<u32>)> {
         if in_rate == out_rate || in_rate == 0 || out_rate == 0 {
             return None;
         }
@@ -170,6 +228,9 @@ impl Probes {
         let below = |d: i64| (fe2 - 1) / 2 - (d - 1); // d = 1: the integer just below fe
         let above = |d: i64| fe2 / 2 + 1 + (d - 1); // d = 1: the integer just above fe
         let mut candidates: Vec<i64> = Vec::new();
+        // The tone at the edge first, when the edge is a whole number of hertz.
+        let edge_tone = (fe2 % 2 == 0).then_some(fe2 / 2);
+        candidates.extend(edge_tone);
         if up {
             candidates.extend(OFFSETS_HZ.iter().map(|&d| below(i64::from(d))));
         } else {
@@ -183,15 +244,22 @@ impl Probes {
                     .map(|&d| above(i64::from(d))),
             );
         }
+        let mut placed_edge = None;
         for f in candidates {
-            // Strictly between 0 Hz and the input's Nyquist frequency.
-            if f <= 0 || 2 * f >= a {
+            let at_edge = Some(f) == edge_tone;
+            // Strictly between 0 Hz and the input's Nyquist frequency (the edge tone of
+            // an upsampling pair: at it).
+            if f <= 0 || 2 * f > a || (2 * f == a && !at_edge) {
                 continue;
             }
             let wanted = (2 * f < b).then_some(f);
             let near = if up { a - f } else { b - f };
             let mut keys: Vec<i64> = wanted.into_iter().collect();
-            if 2 * f > fe2 || up {
+            if at_edge {
+                // Its one output component: at the edge (upsampling) or on the output's
+                // Nyquist bin (downsampling).
+                keys = vec![fold(f, b)];
+            } else if 2 * f > fe2 || up {
                 keys.push(fold(near, b));
             }
             let comps: Vec<i64> = if families <= MAX_FAMILIES as i64 {
@@ -212,9 +280,18 @@ impl Probes {
             for &c in &comps {
                 comp[c as usize] = true;
             }
-            tones.push(f as u32);
+            if at_edge {
+                placed_edge = Some(f as u32);
+            } else {
+                tones.push(f as u32);
+            }
         }
-        (!tones.is_empty()).then_some(tones)
+        (!tones.is_empty()).then_some((placed_edge, tones))
+    }
+
+    /// The tone at the band edge itself, Hz, if the probes carry one (see the module docs).
+    pub fn edge_tone(&self) -> Option<u32> {
+        self.edge_tone
     }
 
     /// The tones' frequencies, Hz.
@@ -237,24 +314,41 @@ impl Probes {
         f64::from(self.in_rate.min(self.out_rate)) / 2.0
     }
 
-    /// The unscaled sum of the tones at input sample `i` (counted from any whole second).
-    fn unit_at(&self, i: usize) -> f64 {
+    /// The unscaled sum of the tones at input sample `i` (counted from any whole second);
+    /// with `turned`, the edge tone a quarter period on.
+    fn unit_at(&self, i: usize, turned: bool) -> f64 {
         let a = u64::from(self.in_rate);
         let two_pi = 2.0 * core::f64::consts::PI;
+        let tone = |f: u32, ph: f64| {
+            // Reduce f i mod A exactly, so the phase stays accurate for any i.
+            let cyc = (u64::from(f) * (i as u64 % a)) % a;
+            (two_pi * cyc as f64 / a as f64 + ph).cos()
+        };
+        let quarter = if turned {
+            0.5 * core::f64::consts::PI
+        } else {
+            0.0
+        };
+        let edge = self
+            .edge_tone
+            .map_or(0.0, |f| tone(f, self.edge_phase + quarter));
         self.tones
             .iter()
             .zip(&self.phases)
-            .map(|(&f, &ph)| {
-                // Reduce f i mod A exactly, so the phase stays accurate for any i.
-                let cyc = (u64::from(f) * (i as u64 % a)) % a;
-                (two_pi * cyc as f64 / a as f64 + ph).cos()
-            })
-            .sum()
+            .map(|(&f, &ph)| tone(f, ph))
+            .sum::<f64>()
+            + edge
     }
 
     /// Steady samples between the fades, at the input rate.
     pub fn steady_len(&self) -> usize {
-        Self::steady_len_for(self.in_rate)
+        Self::steady_len_for(self.in_rate, self.out_rate)
+    }
+
+    /// Steady sample (counted from the end of the fade-in) at which the edge tone turns:
+    /// half-way between the two analysed seconds.
+    fn turn_at(&self) -> usize {
+        ((2.0 * SETTLE_SECONDS + ANALYSED_SECONDS) * f64::from(self.in_rate)).round() as usize
     }
 
     /// The probe section: fade-in (`step`, rising 0 to 1), steady tones, fade-out.
@@ -263,13 +357,19 @@ impl Probes {
         let steady = self.steady_len();
         let mut x = Vec::with_capacity(2 * nd + steady);
         for (i, s) in step.iter().enumerate() {
-            x.push(self.amplitude * s * self.unit_at(i));
+            x.push(self.amplitude * s * self.unit_at(i, false));
         }
-        for i in nd..nd + steady {
-            x.push(self.amplitude * self.unit_at(i));
+        let turn = if self.two_seconds() {
+            self.turn_at()
+        } else {
+            usize::MAX
+        };
+        for (j, i) in (nd..nd + steady).enumerate() {
+            x.push(self.amplitude * self.unit_at(i, j >= turn));
         }
+        let turned = self.two_seconds();
         for (j, s) in step.iter().enumerate() {
-            x.push(self.amplitude * (1.0 - s) * self.unit_at(nd + steady + j));
+            x.push(self.amplitude * (1.0 - s) * self.unit_at(nd + steady + j, turned));
         }
         x
     }
@@ -288,11 +388,16 @@ impl Probes {
         let rate = f64::from(self.out_rate);
         let from = ((start_s + fade_s + SETTLE_SECONDS) * rate + latency).round();
         let n = (ANALYSED_SECONDS * rate).round() as usize;
-        if from < 0.0 || from as usize + n > y.len() {
+        // The second analysed second (downsampling with a tone at the edge): one analysed
+        // second and two settling stretches later.
+        let second = self
+            .two_seconds()
+            .then(|| ((2.0 * SETTLE_SECONDS + ANALYSED_SECONDS) * rate).round() as usize);
+        let needs = from.max(0.0) as usize + second.unwrap_or(0) + n;
+        if from < 0.0 || needs > y.len() {
             return Err(Error::MeasureSetup {
                 problem: format!(
-                    "the output ends before the edge probes do (needs {} samples, has {})",
-                    from.max(0.0) as usize + n,
+                    "the output ends before the edge probes do (needs {needs} samples, has {})",
                     y.len()
                 ),
             });
@@ -300,17 +405,23 @@ impl Probes {
         let from = from as usize;
         let mut planner = RealFftPlanner::<f64>::new();
         let fft = planner.plan_fft_forward(n);
-        let mut buf = y[from..from + n].to_vec();
-        let mut spec = fft.make_output_vec();
-        fft.process(&mut buf, &mut spec)
-            .map_err(|e| Error::MeasureSetup {
-                problem: format!("FFT failed: {e}"),
-            })?;
-        // Amplitude of the sinusoid on bin k (1 Hz bins: b == n), relative to a tone.
-        let level = |k: usize| {
-            let amp = 2.0 * spec[k].norm() / n as f64;
-            20.0 * (amp / self.amplitude).max(1e-30).log10()
+        let spectrum = |at: usize| {
+            let mut buf = y[at..at + n].to_vec();
+            let mut spec = fft.make_output_vec();
+            fft.process(&mut buf, &mut spec)
+                .map_err(|e| Error::MeasureSetup {
+                    problem: format!("FFT failed: {e}"),
+                })?;
+            Ok::<_, Error>(spec)
         };
+        let spec = spectrum(from)?;
+        // Amplitude of the sinusoid on bin k (1 Hz bins: b == n), relative to a tone; on
+        // the bins at 0 Hz and at the Nyquist frequency a sinusoid's whole amplitude is on
+        // the one bin (common practice, no source).
+        let whole = |k: usize| k == 0 || 2 * k == n;
+        let amp = |k: usize, v: f64| if whole(k) { v } else { 2.0 * v } / n as f64;
+        let db = |amp: f64| 20.0 * (amp / self.amplitude).max(1e-30).log10();
+        let level = |k: usize| db(amp(k, spec[k].norm()));
         let half = b / 2;
         let mut wanted = vec![false; half + 1];
         for &f in &self.tones {
@@ -318,6 +429,25 @@ impl Probes {
                 wanted[f as usize] = true;
             }
         }
+        // The edge tone's bin is read below, exactly, as the level at the edge.
+        let edge_bin = self
+            .edge_tone
+            .map(|f| fold(i64::from(f), b as i64) as usize);
+        if let Some(k) = edge_bin {
+            wanted[k] = true;
+        }
+        let at_edge_measured = match (self.edge_tone, edge_bin) {
+            (Some(_), Some(k)) => match second {
+                // Downsampling: a |H| cos and a |H| sin of one angle on the Nyquist bin.
+                Some(later) => {
+                    let turned = spectrum(from + later)?;
+                    Some(db(spec[k].norm().hypot(turned[k].norm()) / n as f64))
+                }
+                // Upsampling: 2 a |H| at the edge.
+                None => Some(db(0.5 * amp(k, spec[k].norm()))),
+            },
+            _ => None,
+        };
         let (mut worst_db, mut worst_k) = (f64::NEG_INFINITY, 0usize);
         for (k, &w) in wanted.iter().enumerate().take(spec.len().min(half + 1)) {
             if !w {
@@ -380,7 +510,7 @@ impl Probes {
         // The parabola where there are three; it follows the transition band's curve,
         // which the line across bends away from (up to 2.5 dB pessimistic at 48k -> 16k,
         // 160 dB, with the nearest stopband probe 4 Hz above the edge).
-        let at_edge_db = from_below.or(across);
+        let at_edge_db = at_edge_measured.or(from_below).or(across);
         Ok(EdgeReport {
             edge_hz: edge,
             tones: self.tones.len(),
@@ -388,6 +518,7 @@ impl Probes {
             worst_db,
             worst_hz: worst_k as f64,
             at_edge_db,
+            at_edge_measured: at_edge_measured.is_some(),
             stopband,
             time_s: (from as f64 + n as f64 / 2.0) / rate,
         })
@@ -410,6 +541,9 @@ mod tests {
         ] {
             let p = Probes::new(a, b, 0.5).unwrap();
             assert!(p.tones().len() > 30, "{a} -> {b}: {}", p.tones().len());
+            // An even lower rate: a tone at the edge itself.
+            let even = a.min(b) % 2 == 0;
+            assert_eq!(p.edge_tone(), even.then_some(a.min(b) / 2), "{a} -> {b}");
             let edge = p.edge_hz();
             let (ai, bi) = (i64::from(a), i64::from(b));
             let families = bi / gcd(a.into(), b.into()) as i64;
@@ -440,14 +574,79 @@ mod tests {
                         );
                     }
                 }
+                // Nor with the edge tone, whose one key is its own fold.
+                if let Some(e) = p.edge_tone().map(i64::from) {
+                    assert!(
+                        keys.iter().all(|k| !comps(e).contains(k)),
+                        "{a} -> {b}: {f}"
+                    );
+                    assert!(
+                        !comps(f).contains(&fold(e, bi)),
+                        "{a} -> {b}: {f} on the edge"
+                    );
+                }
             }
             // The sum's peak is the requested amplitude.
-            let peak = (0..a as usize)
-                .map(|i| (p.amplitude() * p.unit_at(i)).abs())
+            let peak = [false, b < a]
+                .iter()
+                .flat_map(|&t| (0..a as usize).map(move |i| (i, t)))
+                .map(|(i, t)| (p.amplitude() * p.unit_at(i, t)).abs())
                 .fold(0.0, f64::max);
             assert!((peak - 0.5).abs() < 1e-12);
         }
         assert!(Probes::new(48_000, 48_000, 0.5).is_none());
+        // An odd lower rate puts the edge on a half hertz: no tone there, one second.
+        let odd = Probes::new(11_025, 48_000, 0.5).unwrap();
+        assert_eq!(odd.edge_tone(), None);
+        assert_eq!(odd.steady_len(), (1.3 * 11_025.0_f64).round() as usize);
+        assert_eq!(Probes::steady_len_for(48_000, 44_100), 2 * 62_400);
+    }
+
+    /// The probe section through `filter` (taps at the higher rate), zero-stuffed by 2 or
+    /// decimated by 2 around it, analysed.
+    fn through_half_band(a: u32, b: u32, taps: &[f64]) -> EdgeReport {
+        let p = Probes::new(a, b, 0.5).unwrap();
+        let nd = a as usize / 20;
+        let step: Vec<f64> = (0..nd).map(|i| i as f64 / nd as f64).collect();
+        let x = p.samples(&step);
+        let up = b > a;
+        let stuffed: Vec<f64> = if up {
+            x.iter().flat_map(|&v| [2.0 * v, 0.0]).collect()
+        } else {
+            x
+        };
+        let mut y: Vec<f64> = (0..stuffed.len())
+            .map(|i| {
+                taps.iter()
+                    .enumerate()
+                    .filter(|&(k, _)| k <= i)
+                    .map(|(k, &h)| h * stuffed[i - k])
+                    .sum()
+            })
+            .collect();
+        if !up {
+            y = y.into_iter().step_by(2).collect();
+        }
+        // The filters' delay: one sample of the higher rate.
+        let latency = if up { 1.0 } else { 0.5 };
+        p.analyse(&y, 0.0, nd as f64 / f64::from(a), latency)
+            .unwrap()
+    }
+
+    #[test]
+    fn the_tone_at_the_edge_reads_the_response_there() {
+        // [1/4, 1/2, 1/4] has the response cos^2(pi f / fs) (common practice, no source):
+        // at a quarter of its rate, where a 2:1 pair's edge lies, exactly 1/2 (-6.02 dB).
+        let want = 20.0 * 0.5_f64.log10();
+        for (a, b) in [(48_000, 24_000), (24_000, 48_000)] {
+            let r = through_half_band(a, b, &[0.25, 0.5, 0.25]);
+            assert!(r.at_edge_measured, "{a} -> {b}");
+            let got = r.at_edge_db.unwrap();
+            assert!(
+                (got - want).abs() < 1e-9,
+                "{a} -> {b}: {got} dB, want {want} dB"
+            );
+        }
     }
 
     #[test]

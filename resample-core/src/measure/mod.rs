@@ -19,8 +19,9 @@
 //!   (where a filter's stopband starts) are measured too. When the sweep carries edge probes
 //!   ([`Sweep::edge_probes`], see [`edge`]), steady tones across the lower Nyquist frequency
 //!   measure the stopband there to the hertz, each image or alias on its own bin of a
-//!   one-second FFT, and the level at the edge itself is interpolated between the nearest
-//!   components either side; the worst of sweep and probes counts. Without probes the edge
+//!   one-second FFT, and the level at the edge itself is read from a tone there (a second
+//!   analysed second when downsampling; interpolated from the nearest components when the
+//!   edge falls on a half hertz); the worst of sweep and probes counts. Without probes the edge
 //!   is only as sharp as the sweep (tens of hertz at its top, several dB either way).
 //! * **passband ripple**: peak-to-peak spread of the converter's measured response from
 //!   twice the sweep's start frequency up to the passband edge.

@@ -231,8 +231,11 @@ impl Sweep {
     /// with edge probes, their fade-in, steady tones, fade-out and silence.
     pub fn len(&self) -> usize {
         let tail = (TAIL_SECONDS * f64::from(self.rate)).ceil() as usize;
-        let probes = match self.edge_rate.and_then(|b| Probes::place(self.rate, b)) {
-            Some(_) => 2 * self.law().nd + Probes::steady_len_for(self.rate) + tail,
+        let probes = match self
+            .edge_rate
+            .filter(|&b| Probes::place(self.rate, b).is_some())
+        {
+            Some(b) => 2 * self.law().nd + Probes::steady_len_for(self.rate, b) + tail,
             None => 0,
         };
         self.plain_len() + probes
