@@ -17,6 +17,7 @@ use crate::args::PhaseArg;
 use crate::convert::{run_plan, Chosen};
 use crate::exit::Status;
 use crate::report::json;
+use crate::report::shortfall::shortfall;
 use crate::report::stages::StageFacts;
 use crate::report::tradeoff::Row;
 
@@ -27,32 +28,6 @@ fn sig(v: f64) -> String {
     } else {
         format!("{v:.6}")
     }
-}
-
-/// The reason a design row measures below its request, with a hint.
-fn shortfall(m: &measure::Measurement, designed: f64, requested: f64) -> Option<String> {
-    if m.rejection_db >= requested {
-        return None;
-    }
-    let from_probes = m
-        .edge
-        .as_ref()
-        .is_some_and(|e| (e.time_s - m.worst.time_s).abs() < 1e-9);
-    Some(if designed < requested {
-        format!(
-            "the design itself reaches {designed:.1} dB (arithmetic precision of the design); ask for more"
-        )
-    } else if from_probes {
-        format!(
-            "arithmetic precision: the edge probes read {:.1} dB at {:.0} Hz where the design's response has {designed:.1} dB; the conversion's arithmetic adds it",
-            m.rejection_db, m.worst.unwanted_hz
-        )
-    } else {
-        format!(
-            "sweep resolution: the sweep read its strongest component at {:.0} Hz; a longer --seconds sweeps more slowly and resolves it more finely",
-            m.worst.unwanted_hz
-        )
-    })
 }
 
 /// Deterministic noise to time conversions on.

@@ -18,6 +18,7 @@ use crate::exit::Status;
 use crate::report::format::small_db;
 use crate::report::json;
 use crate::report::measured::metrics_text;
+use crate::report::shortfall::shortfall;
 use crate::report::stages::StageFacts;
 
 /// The output format whose rules `verify` applies: `--bits N`, `--float`, or 32-bit float.
@@ -77,6 +78,7 @@ pub fn run(args: &VerifyArgs) -> Result<Status> {
     let rejection_ok = m.rejection_db >= requested;
     let ripple_ok = m.passband_ripple_db <= ripple_limit;
     let pass = rejection_ok && ripple_ok;
+    let note = shortfall(&m, engine.design_stopband_db(), requested);
     if let Some(path) = &args.report.plot {
         let title = format!(
             "verify {} Hz -> {} Hz, {} dB requested",
@@ -124,6 +126,7 @@ pub fn run(args: &VerifyArgs) -> Result<Status> {
             measured_out_rate: clocked.then_some(b),
             ratio_difference_ppm: clocked.then_some(1e6 * mismatch),
             stages: stages.as_ref().map(|s| s.list.clone()),
+            note: note.clone(),
         };
         writeln!(out, "{}", json::line(&record))?;
     } else {
@@ -180,6 +183,9 @@ pub fn run(args: &VerifyArgs) -> Result<Status> {
             requested,
             mark(rejection_ok)
         )?;
+        if let Some(why) = &note {
+            writeln!(out, "{:<22}{why}", "note")?;
+        }
         writeln!(
             out,
             "{:<22}ripple {} dB <= {} dB allowed: {}",

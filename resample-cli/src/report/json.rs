@@ -476,6 +476,9 @@ pub struct Verify {
     /// engine.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub stages: Option<Vec<super::stages::StageFact>>,
+    /// Why the rejection reads below the request, with a hint (absent when it meets it).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub note: Option<String>,
 }
 
 /// The minimum-phase figures `verify` adds.

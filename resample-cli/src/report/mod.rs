@@ -3,8 +3,9 @@
 //! figures of `verify` and `grade` ([`measured`]), the pictures ([`plot`],
 //! [`tradeoff_plot`]) in one look ([`theme`]), number formatting shared by all of them
 //! ([`format`](mod@format)), every JSON record's keys ([`json`]),
-//! printing lines that never panics on a closed pipe ([`print`](mod@print)), and the
-//! stages a conversion ran ([`stages`]).
+//! printing lines that never panics on a closed pipe ([`print`](mod@print)), the
+//! stages a conversion ran ([`stages`]), and why a measurement falls short of its request
+//! ([`shortfall`](mod@shortfall)).
 
 pub mod design;
 pub mod file;
@@ -13,6 +14,7 @@ pub mod json;
 pub mod measured;
 pub mod plot;
 pub mod print;
+pub mod shortfall;
 pub mod stages;
 pub mod theme;
 pub mod tradeoff;
