@@ -238,18 +238,30 @@ fn run_segment<T: Sample>(
     let ch = conv.channels();
     conv.reset();
     let total = seg.skip + seg.keep;
-    // Every sample is written below: a recycled buffer is only cut or grown to size.
-    if out.len() >= total * ch {
-        out.truncate(total * ch);
+    // Room for the kept outputs (at least one frame); the outputs to drop are written at
+    // its start, each over the one before, and the kept ones over them, so nothing is moved
+    // afterwards. Every sample kept is written below: a recycled buffer is only cut or
+    // grown to size.
+    let room = seg.keep.max(1);
+    if out.len() >= room * ch {
+        out.truncate(room * ch);
     } else {
-        out.resize(total * ch, T::zero());
+        out.resize(room * ch, T::zero());
     }
+    // Where output frame `written` of the segment (dropped ones counted) goes.
+    let dest = |written: usize| {
+        if written < seg.skip {
+            0..(seg.skip - written).min(room) * ch
+        } else {
+            (written - seg.skip) * ch..room * ch
+        }
+    };
     let mut written = 0;
     for piece in pieces {
         let frames = piece.len() / ch;
         let mut read = 0;
         while read < frames && written < total {
-            let p = conv.process_interleaved(&piece[read * ch..], &mut out[written * ch..])?;
+            let p = conv.process_interleaved(&piece[read * ch..], &mut out[dest(written)])?;
             read += p.frames_read;
             written += p.frames_written;
             if p.frames_read == 0 && p.frames_written == 0 {
@@ -258,7 +270,7 @@ fn run_segment<T: Sample>(
         }
     }
     while seg.last && written < total {
-        let k = conv.flush_interleaved(&mut out[written * ch..])?;
+        let k = conv.flush_interleaved(&mut out[dest(written)])?;
         if k == 0 {
             break;
         }
@@ -271,7 +283,7 @@ fn run_segment<T: Sample>(
             got: written,
         });
     }
-    out.drain(..seg.skip * ch);
+    out.truncate(seg.keep * ch);
     Ok(())
 }
 

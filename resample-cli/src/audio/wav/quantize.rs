@@ -137,6 +137,50 @@ impl Quantizer {
         }
     }
 
+    /// [`Quantizer::to_floats`] straight into little-endian bytes: sample `i`'s value at
+    /// `out[4 i..4 i + 4]` (`out` holds `4 xs.len()` bytes). The same values and level
+    /// figures, in a loop over whole groups of lanes with no index checks inside, so that the
+    /// conversion, the scan and the stores vectorize together.
+    pub fn floats_to_le_bytes<T: Sample>(&mut self, xs: &[T], out: &mut [u8]) {
+        const LANES: usize = 8;
+        let mut peak = [0.0_f64; LANES];
+        let mut over = [0_u64; LANES];
+        let out = &mut out[..4 * xs.len()];
+        let mut x_groups = xs.chunks_exact(LANES);
+        let mut o_groups = out.chunks_exact_mut(4 * LANES);
+        for (xg, og) in (&mut x_groups).zip(&mut o_groups) {
+            for (j, (x, o)) in xg.iter().zip(og.chunks_exact_mut(4)).enumerate() {
+                let x = x.to_f64_exact();
+                let a = x.abs();
+                // As in `observe`: a NaN never becomes the peak.
+                peak[j] = if a > peak[j] { a } else { peak[j] };
+                over[j] += u64::from(a > 1.0);
+                o.copy_from_slice(&(x as f32).to_le_bytes());
+            }
+        }
+        let rest = x_groups.remainder();
+        for (j, (x, o)) in rest
+            .iter()
+            .zip(o_groups.into_remainder().chunks_exact_mut(4))
+            .enumerate()
+        {
+            let x = x.to_f64_exact();
+            let a = x.abs();
+            if a > peak[j] {
+                peak[j] = a;
+            }
+            over[j] += u64::from(a > 1.0);
+            o.copy_from_slice(&(x as f32).to_le_bytes());
+        }
+        self.stats.samples += xs.len() as u64;
+        for (p, o) in peak.into_iter().zip(over) {
+            if p > self.stats.peak {
+                self.stats.peak = p;
+            }
+            self.stats.over += o;
+        }
+    }
+
     #[inline]
     fn observe(&mut self, x: f64) {
         self.stats.samples += 1;
@@ -231,6 +275,19 @@ mod tests {
         assert_eq!(one.stats(), block.stats());
         for (a, b) in expect.iter().zip(&got) {
             assert_eq!(a.to_bits(), b.to_bits());
+        }
+        // Straight into bytes: the same values and figures, at every length up to a few
+        // lane groups past the first (every remainder).
+        for n in [0, 1, 7, 8, 9, 17, 1003] {
+            let mut one = Quantizer::new(Encoding::Float32, Dither::None);
+            let expect: Vec<f32> = xs[..n].iter().map(|&x| one.to_float(x)).collect();
+            let mut bytes = Quantizer::new(Encoding::Float32, Dither::None);
+            let mut got = vec![0xA5_u8; 4 * n];
+            bytes.floats_to_le_bytes(&xs[..n], &mut got);
+            assert_eq!(one.stats(), bytes.stats(), "{n} samples");
+            for (a, b) in expect.iter().zip(got.chunks_exact(4)) {
+                assert_eq!(a.to_bits(), u32::from_le_bytes([b[0], b[1], b[2], b[3]]));
+            }
         }
     }
 

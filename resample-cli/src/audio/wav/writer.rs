@@ -56,7 +56,7 @@ impl WriterOptions {
     }
 }
 
-/// Samples encoded per chunk of bytes handed to the file.
+/// Samples encoded per step (the bytes gather until there are [`WRITE_BUFFER`] of them).
 const ENCODE_CHUNK: usize = 16 << 10;
 
 /// A WAV file being written.
@@ -80,6 +80,8 @@ pub struct WavWriter {
     header_len: u32,
     /// Bytes of audio written.
     data_bytes: u64,
+    /// Encoded audio not yet handed to the file (less than [`WRITE_BUFFER`] bytes between
+    /// calls).
     bytes: Vec<u8>,
     /// Write back to the disk every this many bytes (0: only on finish; then `writeback`
     /// is `None`).
@@ -229,10 +231,7 @@ fn encode<T: Sample>(quant: &mut Quantizer, samples: &[T], bytes: &mut Vec<u8>) 
         Encoding::Float32 => {
             let start = bytes.len();
             bytes.resize(start + 4 * samples.len(), 0);
-            let out = &mut bytes[start..];
-            quant.to_floats(samples, |i, v| {
-                out[4 * i..4 * i + 4].copy_from_slice(&v.to_le_bytes());
-            });
+            quant.floats_to_le_bytes(samples, &mut bytes[start..]);
         }
         Encoding::Int(bits) => {
             for &s in samples {
@@ -340,20 +339,26 @@ impl WavWriter {
         let width = usize::from(self.quant.encoding().bytes());
         // No size limit: a file that passes 4 GiB becomes RF64 on finish.
         let total = self.data_bytes + (samples.len() * width) as u64;
+        // Encoded bytes gather in `bytes` and go to the file in pieces of at least the write
+        // buffer's size, which pass the buffer by (no second copy of every byte).
         for chunk in samples.chunks(ENCODE_CHUNK) {
-            self.bytes.clear();
             encode(&mut self.quant, chunk, &mut self.bytes);
-            out.write_all(&self.bytes)
-                .map_err(|e| WavError::io("cannot write", e))?;
+            if self.bytes.len() >= WRITE_BUFFER {
+                out.write_all(&self.bytes)
+                    .map_err(|e| WavError::io("cannot write", e))?;
+                self.bytes.clear();
+            }
         }
         self.data_bytes = total;
         self.frames += (samples.len() / ch) as u64;
         if let Some(wb) = &mut self.writeback {
             if total - self.synced >= self.sync_every {
                 self.synced = total;
-                out.flush()
+                out.write_all(&self.bytes)
+                    .and_then(|()| out.flush())
                     .and_then(|()| wb.request())
                     .map_err(|e| WavError::io("cannot write", e))?;
+                self.bytes.clear();
             }
         }
         Ok(())
@@ -404,8 +409,11 @@ impl WavWriter {
                 self.frames,
                 trailer.len() as u64,
             );
+            let pending = std::mem::take(&mut self.bytes);
             let fill = |out: &mut BufWriter<Target>| -> io::Result<()> {
-                // The writer stands just after the last audio byte.
+                // The audio still gathered, then the writer stands just after the last
+                // audio byte.
+                out.write_all(&pending)?;
                 out.write_all(&[0u8][..pad])?;
                 out.write_all(&trailer)?;
                 for (at, bytes) in &patches {
