@@ -14,7 +14,7 @@ use std::sync::{mpsc, Arc, Condvar, Mutex, MutexGuard, PoisonError};
 use resample_core::{ChainConverter, Sample, StagePlan};
 
 use super::{ConvertError, Engine, Run, BLOCK_FRAMES};
-use crate::audio::wav::{WavError, WavWriter};
+use crate::audio::wav::{encode_samples, LevelStats, Quantizer, WavError, WavWriter};
 use crate::audio::Input;
 use resample_core::segments::{convert_chain_segment, SegmentPlan};
 
@@ -29,9 +29,22 @@ const AHEAD_PER_WORKER: u64 = 2;
 /// The writer has the disk catch up every this many bytes (see [`WavWriter::sync_every`]).
 const SYNC_EVERY_BYTES: u64 = 4 << 20;
 
-/// A piece of output for the writer: its place in the file's order, the samples, and how
-/// many of them count.
-type OutBlock<T> = (u64, Vec<T>, usize);
+/// A piece of output for the writer, with its place in the file's order.
+type OutBlock<T> = (u64, Piece<T>);
+
+/// Output for the writer.
+enum Piece<T> {
+    /// Samples (the first `n` count), requantized and encoded by the writer.
+    Samples(Vec<T>, usize),
+    /// Bytes encoded by a worker (for `n` samples), with its quantizer's figures for them.
+    Encoded(Vec<u8>, usize, LevelStats),
+}
+
+/// Emptied output buffers for the workers to fill again.
+struct Spare<T> {
+    samples: Mutex<Vec<Vec<T>>>,
+    bytes: Mutex<Vec<Vec<u8>>>,
+}
 /// Decoded blocks from the reader (or the error that stopped it).
 type InBlock<T> = Result<Vec<T>, ConvertError>;
 
@@ -99,7 +112,10 @@ impl Run<'_> {
         let block_bytes = BLOCK_FRAMES * ch * std::mem::size_of::<T>();
         let depth = (READ_AHEAD_BYTES / block_bytes).clamp(1, 64);
         // Emptied output buffers, and the writer's progress (shared with its thread).
-        let spare: Mutex<Vec<Vec<T>>> = Mutex::new(Vec::new());
+        let spare = Spare::<T> {
+            samples: Mutex::new(Vec::new()),
+            bytes: Mutex::new(Vec::new()),
+        };
         let flow = Flow::default();
         std::thread::scope(|s| {
             // Decoded blocks (or the error that stopped reading), and emptied ones back.
@@ -123,6 +139,9 @@ impl Run<'_> {
             });
 
             let (design, mut writer) = setup()?;
+            // Without dither the workers encode what they convert (while it is in their
+            // cache), and the writer only writes.
+            let encoder = writer.parallel_encoder();
 
             // Output pieces, written in their order; emptied buffers go back to `spare`.
             let (out_tx, out_rx) = mpsc::sync_channel::<OutBlock<T>>(WRITE_QUEUE);
@@ -132,11 +151,19 @@ impl Run<'_> {
                 writer.sync_every(SYNC_EVERY_BYTES)?;
                 let mut early = BTreeMap::new();
                 let mut next = 0u64;
-                for (j, buf, n) in out_rx {
-                    early.insert(j, (buf, n));
-                    while let Some((buf, n)) = early.remove(&next) {
-                        writer.write_frames(&buf[..n])?;
-                        lock(spare).push(buf);
+                for (j, piece) in out_rx {
+                    early.insert(j, piece);
+                    while let Some(piece) = early.remove(&next) {
+                        match piece {
+                            Piece::Samples(buf, n) => {
+                                writer.write_frames(&buf[..n])?;
+                                lock(&spare.samples).push(buf);
+                            }
+                            Piece::Encoded(bytes, n, stats) => {
+                                writer.write_encoded(&bytes, n, &stats)?;
+                                lock(&spare.bytes).push(bytes);
+                            }
+                        }
                         next += 1;
                         flow.wrote(next);
                     }
@@ -154,12 +181,13 @@ impl Run<'_> {
                 tx: &out_tx,
                 spare,
                 flow,
+                encoder,
             };
             // The input queue goes in here and is closed on return, which stops the
             // reader if it is still going.
             let converted = match cuts {
-                Some(cuts) => self.segmented(&design, cuts, workers, ch, in_rx, &in_back_tx, out),
-                None => self.whole(&design, ch, in_rx, &in_back_tx, out),
+                Some(cuts) => self.segmented(&design, cuts, workers, ch, in_rx, &in_back_tx, &out),
+                None => self.whole(&design, ch, in_rx, &in_back_tx, &out),
             };
             // Let the writer drain and finish.
             drop(out_tx);
@@ -182,11 +210,13 @@ fn writer_stopped() -> WavError {
 }
 
 /// Where converted pieces go.
-#[derive(Clone, Copy)]
 struct Output<'q, T> {
     tx: &'q mpsc::SyncSender<OutBlock<T>>,
-    spare: &'q Mutex<Vec<Vec<T>>>,
+    spare: &'q Spare<T>,
     flow: &'q Flow,
+    /// A quantizer for the workers to encode with (each its own copy), when the output has
+    /// no dither.
+    encoder: Option<Quantizer>,
 }
 
 /// The input as the workers share it: the reader's queue, and the blocks still needed,
@@ -207,16 +237,16 @@ impl Run<'_> {
         ch: usize,
         in_rx: mpsc::Receiver<InBlock<T>>,
         in_back: &mpsc::Sender<Vec<T>>,
-        out: Output<'_, T>,
+        out: &Output<'_, T>,
     ) -> Result<(), ConvertError> {
         let mut engine = Engine::<T>::new(design, ch)?;
         let mut piece = 0u64;
         let mut emit = |buf: &mut Vec<T>, n: usize| -> Result<(), WavError> {
-            let mut next = lock(out.spare).pop().unwrap_or_default();
+            let mut next = lock(&out.spare.samples).pop().unwrap_or_default();
             next.resize(buf.len(), T::zero());
             let full = std::mem::replace(buf, next);
             out.tx
-                .send((piece, full, n))
+                .send((piece, Piece::Samples(full, n)))
                 .map_err(|_| writer_stopped())?;
             piece += 1;
             Ok(())
@@ -248,7 +278,7 @@ impl Run<'_> {
         ch: usize,
         in_rx: mpsc::Receiver<InBlock<T>>,
         in_back: &mpsc::Sender<Vec<T>>,
-        out: Output<'_, T>,
+        out: &Output<'_, T>,
     ) -> Result<(), ConvertError> {
         let count = cuts.count();
         let feed = Mutex::new(Feed {
@@ -280,6 +310,9 @@ impl Run<'_> {
                 Ok(c) => c,
                 Err(e) => return fail(0, e.into()),
             };
+            let mut encoder = out.encoder.clone();
+            // The converted samples stay here when this thread encodes them.
+            let mut own = Vec::new();
             loop {
                 if stop.load(Ordering::Relaxed) {
                     return;
@@ -341,14 +374,28 @@ impl Run<'_> {
                         &block[(lo - start) as usize * ch..(hi - start) as usize * ch]
                     })
                     .collect();
-                let mut buf = lock(out.spare).pop().unwrap_or_default();
+                let mut buf = match encoder {
+                    Some(_) => std::mem::take(&mut own),
+                    None => lock(&out.spare.samples).pop().unwrap_or_default(),
+                };
                 let r = convert_chain_segment(&mut conv, &seg, &pieces, &mut buf);
                 drop(pieces);
                 blocks.into_iter().for_each(|(_, b)| recycle(b));
                 if let Err(e) = r {
                     return fail(j, e.into());
                 }
-                if out.tx.send((j, buf, seg.keep * ch)).is_err() {
+                let n = seg.keep * ch;
+                let piece = match encoder.as_mut() {
+                    Some(q) => {
+                        let mut bytes = lock(&out.spare.bytes).pop().unwrap_or_default();
+                        bytes.clear();
+                        encode_samples(q, &buf[..n], &mut bytes);
+                        own = buf;
+                        Piece::Encoded(bytes, n, q.take_stats())
+                    }
+                    None => Piece::Samples(buf, n),
+                };
+                if out.tx.send((j, piece)).is_err() {
                     return fail(j, writer_stopped().into());
                 }
                 (self.ctl.progress)(cuts.covered(j) * self.bytes_per_frame);

@@ -181,6 +181,24 @@ impl Quantizer {
         }
     }
 
+    /// The level figures so far, and start counting again from none (for figures gathered
+    /// by a quantizer of its own on another thread, see [`Quantizer::absorb`]).
+    pub fn take_stats(&mut self) -> LevelStats {
+        std::mem::take(&mut self.stats)
+    }
+
+    /// Count `other`'s figures as seen here too: the peak is the larger one, the counts
+    /// add up (so figures gathered in pieces, in any order, come out as if seen here).
+    pub fn absorb(&mut self, other: &LevelStats) {
+        if other.peak > self.stats.peak {
+            self.stats.peak = other.peak;
+        }
+        self.stats.over += other.over;
+        self.stats.clipped += other.clipped;
+        self.stats.samples += other.samples;
+        self.stats.dithered += other.dithered;
+    }
+
     #[inline]
     fn observe(&mut self, x: f64) {
         self.stats.samples += 1;
@@ -288,6 +306,44 @@ mod tests {
             for (a, b) in expect.iter().zip(got.chunks_exact(4)) {
                 assert_eq!(a.to_bits(), u32::from_le_bytes([b[0], b[1], b[2], b[3]]));
             }
+        }
+    }
+
+    #[test]
+    fn figures_of_pieces_absorbed_are_the_figures_of_the_whole() {
+        let xs: Vec<f64> = (0..5000)
+            .map(|i| match i {
+                77 => f64::NAN,
+                4000 => -2.5,
+                _ => 1.1 * (i as f64 * 0.011).sin(),
+            })
+            .collect();
+        for enc in [Encoding::Float32, Encoding::Int(16), Encoding::Int(32)] {
+            let mut whole = Quantizer::new(enc, Dither::None);
+            let mut bytes = Vec::new();
+            super::super::writer::encode_samples(&mut whole, &xs, &mut bytes);
+            let mut sum = Quantizer::new(enc, Dither::None);
+            let mut part = Quantizer::new(enc, Dither::None);
+            let mut joined = Vec::new();
+            // Pieces absorbed out of order.
+            let mut pieces: Vec<(Vec<u8>, LevelStats)> = xs
+                .chunks(613)
+                .map(|c| {
+                    let mut b = Vec::new();
+                    super::super::writer::encode_samples(&mut part, c, &mut b);
+                    (b, part.take_stats())
+                })
+                .collect();
+            for (b, _) in &pieces {
+                joined.extend_from_slice(b);
+            }
+            pieces.reverse();
+            for (_, st) in &pieces {
+                sum.absorb(st);
+            }
+            assert_eq!(whole.stats(), sum.stats(), "{enc}");
+            assert!(bytes == joined, "{enc}");
+            assert_eq!(part.stats(), LevelStats::default());
         }
     }
 
