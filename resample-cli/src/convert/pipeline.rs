@@ -16,7 +16,7 @@ use resample_core::{ChainConverter, Sample, StagePlan};
 use super::{ConvertError, Engine, Run, BLOCK_FRAMES};
 use crate::audio::wav::{encode_samples, LevelStats, Quantizer, WavError, WavWriter};
 use crate::audio::Input;
-use resample_core::segments::{convert_chain_segment, SegmentPlan};
+use resample_core::segments::{convert_chain_segment, convert_chain_segment_pieces, SegmentPlan};
 
 /// Decoded input the reader may hold ahead of the converter, bytes (at least one block).
 const READ_AHEAD_BYTES: usize = 4 << 20;
@@ -26,6 +26,8 @@ const WRITE_QUEUE: usize = 4;
 const MAX_WORKERS: usize = 8;
 /// Segments each worker may be ahead of the writer (past them it waits).
 const AHEAD_PER_WORKER: u64 = 2;
+/// Output frames a worker converts and then encodes at a time.
+const ENCODE_FRAMES: usize = 2048;
 /// The writer has the disk catch up every this many bytes (see [`WavWriter::sync_every`]).
 const SYNC_EVERY_BYTES: u64 = 4 << 20;
 
@@ -311,7 +313,7 @@ impl Run<'_> {
                 Err(e) => return fail(0, e.into()),
             };
             let mut encoder = out.encoder.clone();
-            // The converted samples stay here when this thread encodes them.
+            // Converted samples waiting to be encoded, when this thread encodes them.
             let mut own = Vec::new();
             loop {
                 if stop.load(Ordering::Relaxed) {
@@ -374,27 +376,33 @@ impl Run<'_> {
                         &block[(lo - start) as usize * ch..(hi - start) as usize * ch]
                     })
                     .collect();
-                let mut buf = match encoder {
-                    Some(_) => std::mem::take(&mut own),
-                    None => lock(&out.spare.samples).pop().unwrap_or_default(),
+                let n = seg.keep * ch;
+                let (r, piece) = match encoder.as_mut() {
+                    // Encoded piece by piece as they are made, while in the cache.
+                    Some(q) => {
+                        let mut bytes = lock(&out.spare.bytes).pop().unwrap_or_default();
+                        bytes.clear();
+                        let r = convert_chain_segment_pieces(
+                            &mut conv,
+                            &seg,
+                            &pieces,
+                            ENCODE_FRAMES,
+                            &mut own,
+                            |x| encode_samples(q, x, &mut bytes),
+                        );
+                        (r, Piece::Encoded(bytes, n, q.take_stats()))
+                    }
+                    None => {
+                        let mut buf = lock(&out.spare.samples).pop().unwrap_or_default();
+                        let r = convert_chain_segment(&mut conv, &seg, &pieces, &mut buf);
+                        (r, Piece::Samples(buf, n))
+                    }
                 };
-                let r = convert_chain_segment(&mut conv, &seg, &pieces, &mut buf);
                 drop(pieces);
                 blocks.into_iter().for_each(|(_, b)| recycle(b));
                 if let Err(e) = r {
                     return fail(j, e.into());
                 }
-                let n = seg.keep * ch;
-                let piece = match encoder.as_mut() {
-                    Some(q) => {
-                        let mut bytes = lock(&out.spare.bytes).pop().unwrap_or_default();
-                        bytes.clear();
-                        encode_samples(q, &buf[..n], &mut bytes);
-                        own = buf;
-                        Piece::Encoded(bytes, n, q.take_stats())
-                    }
-                    None => Piece::Samples(buf, n),
-                };
                 if out.tx.send((j, piece)).is_err() {
                     return fail(j, writer_stopped().into());
                 }

@@ -139,45 +139,52 @@ impl Quantizer {
 
     /// [`Quantizer::to_floats`] straight into little-endian bytes: sample `i`'s value at
     /// `out[4 i..4 i + 4]` (`out` holds `4 xs.len()` bytes). The same values and level
-    /// figures, in a loop over whole groups of lanes with no index checks inside, so that the
-    /// conversion, the scan and the stores vectorize together.
+    /// figures, in loops over whole groups of lanes with no index checks inside, so that the
+    /// conversion, the peak scan and the stores vectorize together; overs (rare) are
+    /// counted only in the runs whose peak is over full scale.
     pub fn floats_to_le_bytes<T: Sample>(&mut self, xs: &[T], out: &mut [u8]) {
         const LANES: usize = 8;
+        const RUN: usize = 256;
         let mut peak = [0.0_f64; LANES];
-        let mut over = [0_u64; LANES];
         let out = &mut out[..4 * xs.len()];
-        let mut x_groups = xs.chunks_exact(LANES);
-        let mut o_groups = out.chunks_exact_mut(4 * LANES);
-        for (xg, og) in (&mut x_groups).zip(&mut o_groups) {
-            for (j, (x, o)) in xg.iter().zip(og.chunks_exact_mut(4)).enumerate() {
+        for (xr, or) in xs.chunks(RUN).zip(out.chunks_mut(4 * RUN)) {
+            let mut run_peak = [0.0_f64; LANES];
+            let mut x_groups = xr.chunks_exact(LANES);
+            let mut o_groups = or.chunks_exact_mut(4 * LANES);
+            for (xg, og) in (&mut x_groups).zip(&mut o_groups) {
+                for (j, (x, o)) in xg.iter().zip(og.chunks_exact_mut(4)).enumerate() {
+                    let x = x.to_f64_exact();
+                    let a = x.abs();
+                    // As in `observe`: a NaN never becomes the peak.
+                    run_peak[j] = if a > run_peak[j] { a } else { run_peak[j] };
+                    o.copy_from_slice(&(x as f32).to_le_bytes());
+                }
+            }
+            let rest = x_groups.remainder();
+            let o_rest = o_groups.into_remainder().chunks_exact_mut(4);
+            for (j, (x, o)) in rest.iter().zip(o_rest).enumerate() {
                 let x = x.to_f64_exact();
                 let a = x.abs();
-                // As in `observe`: a NaN never becomes the peak.
-                peak[j] = if a > peak[j] { a } else { peak[j] };
-                over[j] += u64::from(a > 1.0);
+                if a > run_peak[j] {
+                    run_peak[j] = a;
+                }
                 o.copy_from_slice(&(x as f32).to_le_bytes());
             }
-        }
-        let rest = x_groups.remainder();
-        for (j, (x, o)) in rest
-            .iter()
-            .zip(o_groups.into_remainder().chunks_exact_mut(4))
-            .enumerate()
-        {
-            let x = x.to_f64_exact();
-            let a = x.abs();
-            if a > peak[j] {
-                peak[j] = a;
+            if run_peak.iter().any(|&p| p > 1.0) {
+                let over = xr.iter().filter(|x| x.to_f64_exact().abs() > 1.0).count();
+                self.stats.over += over as u64;
             }
-            over[j] += u64::from(a > 1.0);
-            o.copy_from_slice(&(x as f32).to_le_bytes());
+            for (p, r) in peak.iter_mut().zip(run_peak) {
+                if r > *p {
+                    *p = r;
+                }
+            }
         }
         self.stats.samples += xs.len() as u64;
-        for (p, o) in peak.into_iter().zip(over) {
+        for p in peak {
             if p > self.stats.peak {
                 self.stats.peak = p;
             }
-            self.stats.over += o;
         }
     }
 
@@ -296,7 +303,14 @@ mod tests {
         }
         // Straight into bytes: the same values and figures, at every length up to a few
         // lane groups past the first (every remainder).
-        for n in [0, 1, 7, 8, 9, 17, 1003] {
+        // Also a quieter signal: one over only, so that most runs have none.
+        let quiet: Vec<f64> = xs
+            .iter()
+            .enumerate()
+            .map(|(i, &x)| if i == 700 { 1.5 } else { 0.5 * x })
+            .collect();
+        let lengths = [0, 1, 7, 8, 9, 17, 255, 256, 257, 513, 1003];
+        for (xs, n) in lengths.iter().flat_map(|&n| [(&xs, n), (&quiet, n)]) {
             let mut one = Quantizer::new(Encoding::Float32, Dither::None);
             let expect: Vec<f32> = xs[..n].iter().map(|&x| one.to_float(x)).collect();
             let mut bytes = Quantizer::new(Encoding::Float32, Dither::None);
