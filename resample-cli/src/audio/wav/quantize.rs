@@ -152,7 +152,7 @@ impl Quantizer {
             let mut x_groups = xr.chunks_exact(LANES);
             let mut o_groups = or.chunks_exact_mut(4 * LANES);
             for (xg, og) in (&mut x_groups).zip(&mut o_groups) {
-                for (j, (x, o)) in xg.iter().zip(og.chunks_exact_mut(4)).enumerate() {
+                for (j, (x, o)) in xg.iter().zip(og.as_chunks_mut::<4>().0).enumerate() {
                     let x = x.to_f64_exact();
                     let a = x.abs();
                     // As in `observe`: a NaN never becomes the peak.

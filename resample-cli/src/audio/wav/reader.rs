@@ -648,8 +648,8 @@ fn decode<T: Sample>(
             let runs = out.chunks_mut(RUN).zip(bytes.chunks(4 * RUN));
             for (r, (slots, raw)) in runs.enumerate() {
                 let mut finite = true;
-                for (slot, b) in slots.iter_mut().zip(raw.chunks_exact(4)) {
-                    let v = f32::from_le_bytes([b[0], b[1], b[2], b[3]]);
+                for (slot, b) in slots.iter_mut().zip(raw.as_chunks::<4>().0) {
+                    let v = f32::from_le_bytes(*b);
                     finite &= v.is_finite();
                     *slot = T::from_f64_lossy(f64::from(v));
                 }

@@ -236,9 +236,16 @@ pub(crate) fn encode_samples<T: Sample>(quant: &mut Quantizer, samples: &[T], by
 fn encode<T: Sample>(quant: &mut Quantizer, samples: &[T], bytes: &mut Vec<u8>) {
     match quant.encoding() {
         Encoding::Float32 => {
-            let start = bytes.len();
-            bytes.resize(start + 4 * samples.len(), 0);
-            quant.floats_to_le_bytes(samples, &mut bytes[start..]);
+            // Through a small buffer that stays in the cache, so that the output is written
+            // once (not cleared first, then written).
+            const STEP: usize = 1024;
+            let mut step = [0u8; 4 * STEP];
+            bytes.reserve(4 * samples.len());
+            for xs in samples.chunks(STEP) {
+                let out = &mut step[..4 * xs.len()];
+                quant.floats_to_le_bytes(xs, out);
+                bytes.extend_from_slice(out);
+            }
         }
         Encoding::Int(bits) => {
             for &s in samples {
