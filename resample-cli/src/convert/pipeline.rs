@@ -411,7 +411,7 @@ impl Run<'_> {
         };
         std::thread::scope(|s| {
             for _ in 1..workers.min(count.try_into().unwrap_or(usize::MAX)) {
-                s.spawn(&work);
+                s.spawn(work);
             }
             work();
         });
