@@ -1,8 +1,9 @@
 //! The pipelined engine: one helper thread reads and decodes input blocks ahead (also while
 //! the filter is being designed), the conversion itself is cut into segments converted on
 //! worker threads of their own, each taking the next segment as soon as it is done with
-//! one ([`super::segments`]; in one piece when there is one worker), and another helper
-//! thread requantizes and writes the output in the file's order. Blocks travel through
+//! one ([`resample_core::segments`]; in one piece when there is one worker), and another
+//! helper thread writes the output in the file's order (requantizing it when it is
+//! dithered; otherwise the workers encode what they convert, while it is in their cache). Blocks travel through
 //! bounded queues and the workers may run only a few segments ahead of the writer, so
 //! memory stays bounded; every output frame is computed from the same input as by the
 //! sequential engine, so the output is the same, byte for byte.
