@@ -56,9 +56,9 @@ pub struct Settings {
     /// Integer output with samples over full scale (limited) is an error: the output is
     /// not kept.
     pub refuse_clipping: bool,
-    /// Read and decode, and requantize and write, on two helper threads, and convert
-    /// segments of the file side by side on rayon's pool (for a file converted while cores
-    /// are free). The output is the same either way.
+    /// Read and decode, and write, on two helper threads, and convert segments of the file
+    /// side by side on as many worker threads as rayon's pool has (for a file converted
+    /// while cores are free). The output is the same either way.
     pub pipeline: bool,
     /// What to do with the input's metadata chunks.
     pub metadata: MetadataPolicy,

@@ -1,22 +1,23 @@
 //! The pipelined engine: one helper thread reads and decodes input blocks ahead (also while
-//! the filter is being designed), the conversion itself is cut into segments converted a
-//! few at a time on rayon's pool ([`super::segments`]; in one piece when the pool has one
-//! thread), and another helper thread requantizes and writes the output. Blocks travel
-//! through bounded queues, so memory stays bounded; every output frame is computed from the
-//! same input as by the sequential engine, so the output is the same, byte for byte.
+//! the filter is being designed), the conversion itself is cut into segments converted on
+//! worker threads of their own, each taking the next segment as soon as it is done with
+//! one ([`resample_core::segments`]; in one piece when there is one worker), and another
+//! helper thread writes the output in the file's order (requantizing it when it is
+//! dithered; otherwise the workers encode what they convert, while it is in their cache). Blocks travel through
+//! bounded queues and the workers may run only a few segments ahead of the writer, so
+//! memory stays bounded; every output frame is computed from the same input as by the
+//! sequential engine, so the output is the same, byte for byte.
 
-use std::collections::VecDeque;
-use std::sync::atomic::Ordering;
-use std::sync::mpsc;
-use std::sync::Arc;
+use std::collections::{BTreeMap, VecDeque};
+use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
+use std::sync::{mpsc, Arc, Condvar, Mutex, MutexGuard, PoisonError};
 
-use rayon::prelude::*;
 use resample_core::{ChainConverter, Sample, StagePlan};
 
 use super::{ConvertError, Engine, Run, BLOCK_FRAMES};
-use crate::audio::wav::{WavError, WavWriter};
+use crate::audio::wav::{encode_samples, LevelStats, Quantizer, WavError, WavWriter};
 use crate::audio::Input;
-use resample_core::segments::{convert_chain_segment, Segment, SegmentPlan};
+use resample_core::segments::{convert_chain_segment, convert_chain_segment_pieces, SegmentPlan};
 
 /// Decoded input the reader may hold ahead of the converter, bytes (at least one block).
 const READ_AHEAD_BYTES: usize = 4 << 20;
@@ -24,8 +25,80 @@ const READ_AHEAD_BYTES: usize = 4 << 20;
 const WRITE_QUEUE: usize = 4;
 /// Most segments converted at the same time.
 const MAX_WORKERS: usize = 8;
+/// Segments each worker may be ahead of the writer (past them it waits).
+const AHEAD_PER_WORKER: u64 = 2;
+/// Output frames a worker converts and then encodes at a time.
+const ENCODE_FRAMES: usize = 2048;
 /// The writer has the disk catch up every this many bytes (see [`WavWriter::sync_every`]).
 const SYNC_EVERY_BYTES: u64 = 4 << 20;
+
+/// A piece of output for the writer, with its place in the file's order.
+type OutBlock<T> = (u64, Piece<T>);
+
+/// Output for the writer.
+enum Piece<T> {
+    /// Samples (the first `n` count), requantized and encoded by the writer.
+    Samples(Vec<T>, usize),
+    /// Bytes encoded by a worker (for `n` samples), with its quantizer's figures for them.
+    Encoded(Vec<u8>, usize, LevelStats),
+}
+
+/// Emptied output buffers for the workers to fill again.
+struct Spare<T> {
+    samples: Mutex<Vec<Vec<T>>>,
+    bytes: Mutex<Vec<Vec<u8>>>,
+}
+/// Decoded blocks from the reader (or the error that stopped it).
+type InBlock<T> = Result<Vec<T>, ConvertError>;
+
+/// A lock that a panic elsewhere does not make unusable (the data behind it stays valid:
+/// every holder leaves it consistent before anything can panic).
+fn lock<V>(m: &Mutex<V>) -> MutexGuard<'_, V> {
+    m.lock().unwrap_or_else(PoisonError::into_inner)
+}
+
+/// How far the writer has come, for the workers to wait on.
+#[derive(Default)]
+struct Flow {
+    /// Pieces written, and whether waiting should end (the writer stopped, or a worker
+    /// failed).
+    state: Mutex<(u64, bool)>,
+    changed: Condvar,
+}
+
+impl Flow {
+    fn wrote(&self, pieces: u64) {
+        lock(&self.state).0 = pieces;
+        self.changed.notify_all();
+    }
+
+    fn stop(&self) {
+        lock(&self.state).1 = true;
+        self.changed.notify_all();
+    }
+
+    /// Wait until fewer than `limit` pieces before piece `j` remain unwritten; false if
+    /// waiting was stopped.
+    fn wait_within(&self, j: u64, limit: u64) -> bool {
+        let mut st = lock(&self.state);
+        while !st.1 && j >= st.0 + limit {
+            st = self
+                .changed
+                .wait(st)
+                .unwrap_or_else(PoisonError::into_inner);
+        }
+        !st.1
+    }
+}
+
+/// Ends the workers' waiting when dropped (the writer's thread ends, however it ends).
+struct StopOnDrop<'a>(&'a Flow);
+
+impl Drop for StopOnDrop<'_> {
+    fn drop(&mut self) {
+        self.0.stop();
+    }
+}
 
 impl Run<'_> {
     /// Convert with reading and writing on helper threads; `setup` (design the filter,
@@ -41,9 +114,15 @@ impl Run<'_> {
         let length_known = reader.length_known();
         let block_bytes = BLOCK_FRAMES * ch * std::mem::size_of::<T>();
         let depth = (READ_AHEAD_BYTES / block_bytes).clamp(1, 64);
+        // Emptied output buffers, and the writer's progress (shared with its thread).
+        let spare = Spare::<T> {
+            samples: Mutex::new(Vec::new()),
+            bytes: Mutex::new(Vec::new()),
+        };
+        let flow = Flow::default();
         std::thread::scope(|s| {
             // Decoded blocks (or the error that stopped reading), and emptied ones back.
-            let (in_tx, in_rx) = mpsc::sync_channel::<Result<Vec<T>, ConvertError>>(depth);
+            let (in_tx, in_rx) = mpsc::sync_channel::<InBlock<T>>(depth);
             let (in_back_tx, in_back_rx) = mpsc::channel::<Vec<T>>();
             s.spawn(move || loop {
                 let mut buf = in_back_rx.try_recv().unwrap_or_default();
@@ -63,15 +142,34 @@ impl Run<'_> {
             });
 
             let (design, mut writer) = setup()?;
+            // Without dither the workers encode what they convert (while it is in their
+            // cache), and the writer only writes.
+            let encoder = writer.parallel_encoder();
 
-            // Output blocks with their sample counts, and written ones back.
-            let (out_tx, out_rx) = mpsc::sync_channel::<(Vec<T>, usize)>(WRITE_QUEUE);
-            let (out_back_tx, out_back_rx) = mpsc::channel::<Vec<T>>();
+            // Output pieces, written in their order; emptied buffers go back to `spare`.
+            let (out_tx, out_rx) = mpsc::sync_channel::<OutBlock<T>>(WRITE_QUEUE);
+            let (spare, flow) = (&spare, &flow);
             let write = s.spawn(move || -> Result<WavWriter, WavError> {
+                let _stop = StopOnDrop(flow);
                 writer.sync_every(SYNC_EVERY_BYTES)?;
-                for (buf, n) in out_rx {
-                    writer.write_frames(&buf[..n])?;
-                    let _ = out_back_tx.send(buf);
+                let mut early = BTreeMap::new();
+                let mut next = 0u64;
+                for (j, piece) in out_rx {
+                    early.insert(j, piece);
+                    while let Some(piece) = early.remove(&next) {
+                        match piece {
+                            Piece::Samples(buf, n) => {
+                                writer.write_frames(&buf[..n])?;
+                                lock(&spare.samples).push(buf);
+                            }
+                            Piece::Encoded(bytes, n, stats) => {
+                                writer.write_encoded(&bytes, n, &stats)?;
+                                lock(&spare.bytes).push(bytes);
+                            }
+                        }
+                        next += 1;
+                        flow.wrote(next);
+                    }
                 }
                 Ok(writer)
             });
@@ -82,41 +180,19 @@ impl Run<'_> {
             } else {
                 None
             };
-            let converted = match cuts {
-                Some(cuts) => self.segmented(
-                    &design,
-                    cuts,
-                    workers,
-                    ch,
-                    (&in_rx, &in_back_tx),
-                    (&out_tx, &out_back_rx),
-                ),
-                None => (|| -> Result<(), ConvertError> {
-                    let mut engine = Engine::<T>::new(&design, ch)?;
-                    let mut emit = |out: &mut Vec<T>, n: usize| -> Result<(), WavError> {
-                        let next = out_back_rx
-                            .try_recv()
-                            .unwrap_or_else(|_| vec![T::zero(); out.len()]);
-                        let full = std::mem::replace(out, next);
-                        out_tx.send((full, n)).map_err(|_| writer_stopped())
-                    };
-                    loop {
-                        if self.ctl.cancel.load(Ordering::Relaxed) {
-                            return Err(crate::error::FileError::Interrupted.into());
-                        }
-                        let Ok(block) = in_rx.recv() else {
-                            break; // end of the input
-                        };
-                        let block = block?;
-                        engine.block(&block, &mut emit)?;
-                        (self.ctl.progress)((block.len() / ch) as u64 * self.bytes_per_frame);
-                        let _ = in_back_tx.send(block);
-                    }
-                    engine.flush(&mut emit)
-                })(),
+            let out = Output {
+                tx: &out_tx,
+                spare,
+                flow,
+                encoder,
             };
-            // Stop the reader if it is still going, let the writer drain and finish.
-            drop(in_rx);
+            // The input queue goes in here and is closed on return, which stops the
+            // reader if it is still going.
+            let converted = match cuts {
+                Some(cuts) => self.segmented(&design, cuts, workers, ch, in_rx, &in_back_tx, &out),
+                None => self.whole(&design, ch, in_rx, &in_back_tx, &out),
+            };
+            // Let the writer drain and finish.
             drop(out_tx);
             let written = match write.join() {
                 Ok(w) => w,
@@ -136,104 +212,215 @@ fn writer_stopped() -> WavError {
     WavError::Malformed("the writer stopped".into())
 }
 
-/// Decoded blocks from the reader, and the way back for emptied ones.
-type InQueue<'q, T> = (
-    &'q mpsc::Receiver<Result<Vec<T>, ConvertError>>,
-    &'q mpsc::Sender<Vec<T>>,
-);
-/// Output blocks to the writer (with their sample counts), and written ones back.
-type OutQueue<'q, T> = (
-    &'q mpsc::SyncSender<(Vec<T>, usize)>,
-    &'q mpsc::Receiver<Vec<T>>,
-);
+/// Where converted pieces go.
+struct Output<'q, T> {
+    tx: &'q mpsc::SyncSender<OutBlock<T>>,
+    spare: &'q Spare<T>,
+    flow: &'q Flow,
+    /// A quantizer for the workers to encode with (each its own copy), when the output has
+    /// no dither.
+    encoder: Option<Quantizer>,
+}
+
+/// The input as the workers share it: the reader's queue, and the blocks still needed,
+/// each with the frame index it starts at.
+struct Feed<T> {
+    rx: mpsc::Receiver<InBlock<T>>,
+    window: VecDeque<(u64, Arc<Vec<T>>)>,
+    next_frame: u64,
+    /// The next segment to hand out.
+    next_segment: u64,
+}
 
 impl Run<'_> {
-    /// Convert `workers` segments at a time on rayon's pool, each by its own converter,
-    /// handing their outputs to the writer in order.
+    /// Convert in one piece on this thread.
+    fn whole<T: Sample>(
+        &self,
+        design: &StagePlan,
+        ch: usize,
+        in_rx: mpsc::Receiver<InBlock<T>>,
+        in_back: &mpsc::Sender<Vec<T>>,
+        out: &Output<'_, T>,
+    ) -> Result<(), ConvertError> {
+        let mut engine = Engine::<T>::new(design, ch)?;
+        let mut piece = 0u64;
+        let mut emit = |buf: &mut Vec<T>, n: usize| -> Result<(), WavError> {
+            let mut next = lock(&out.spare.samples).pop().unwrap_or_default();
+            next.resize(buf.len(), T::zero());
+            let full = std::mem::replace(buf, next);
+            out.tx
+                .send((piece, Piece::Samples(full, n)))
+                .map_err(|_| writer_stopped())?;
+            piece += 1;
+            Ok(())
+        };
+        loop {
+            if self.ctl.cancel.load(Ordering::Relaxed) {
+                return Err(crate::error::FileError::Interrupted.into());
+            }
+            let Ok(block) = in_rx.recv() else {
+                break; // end of the input
+            };
+            let block = block?;
+            engine.block(&block, &mut emit)?;
+            (self.ctl.progress)((block.len() / ch) as u64 * self.bytes_per_frame);
+            let _ = in_back.send(block);
+        }
+        engine.flush(&mut emit)
+    }
+
+    /// Convert the segments of `cuts` on `workers` threads (this one and `workers - 1`
+    /// more), each with its own converter taking the next segment when done with one,
+    /// handing the outputs to the writer with their places in the file's order.
+    #[allow(clippy::too_many_arguments)]
     fn segmented<T: Sample>(
         &self,
         design: &StagePlan,
         cuts: SegmentPlan,
         workers: usize,
         ch: usize,
-        (in_rx, in_back): InQueue<'_, T>,
-        (out_tx, out_back): OutQueue<'_, T>,
+        in_rx: mpsc::Receiver<InBlock<T>>,
+        in_back: &mpsc::Sender<Vec<T>>,
+        out: &Output<'_, T>,
     ) -> Result<(), ConvertError> {
-        let mut convs = (0..workers)
-            .map(|_| ChainConverter::<T>::new(design, ch))
-            .collect::<Result<Vec<_>, _>>()?;
-        let mut outs: Vec<Vec<T>> = (0..workers).map(|_| Vec::new()).collect();
-        // Input blocks still needed, with the frame index each starts at.
-        let mut window: VecDeque<(u64, Vec<T>)> = VecDeque::new();
-        let mut next_frame = 0u64;
         let count = cuts.count();
-        let mut j = 0;
-        while j < count {
-            if self.ctl.cancel.load(Ordering::Relaxed) {
-                return Err(crate::error::FileError::Interrupted.into());
+        let feed = Mutex::new(Feed {
+            rx: in_rx,
+            window: VecDeque::new(),
+            next_frame: 0,
+            next_segment: 0,
+        });
+        let handed = AtomicU64::new(0);
+        // The first failure in the file's order (segment index), which is the one reported.
+        let failure: Mutex<Option<(u64, ConvertError)>> = Mutex::new(None);
+        let stop = AtomicBool::new(false);
+        let fail = |j: u64, e: ConvertError| {
+            let mut f = lock(&failure);
+            if f.as_ref().is_none_or(|(k, _)| j < *k) {
+                *f = Some((j, e));
             }
-            let group: Vec<Segment> = (j..(j + workers as u64).min(count))
-                .filter_map(|k| cuts.segment(k))
-                .collect();
-            let need = group.iter().map(|g| g.end).max().unwrap_or(0);
-            while next_frame < need {
-                let Ok(block) = in_rx.recv() else {
-                    break; // the input ended early: the length check reports it
+            stop.store(true, Ordering::Relaxed);
+            out.flow.stop();
+        };
+        let limit = AHEAD_PER_WORKER * workers as u64;
+        let recycle = |b: Arc<Vec<T>>| {
+            if let Some(b) = Arc::into_inner(b) {
+                let _ = in_back.send(b);
+            }
+        };
+        let work = || {
+            let mut conv = match ChainConverter::<T>::new(design, ch) {
+                Ok(c) => c,
+                Err(e) => return fail(0, e.into()),
+            };
+            let mut encoder = out.encoder.clone();
+            // Converted samples waiting to be encoded, when this thread encodes them.
+            let mut own = Vec::new();
+            loop {
+                if stop.load(Ordering::Relaxed) {
+                    return;
+                }
+                if self.ctl.cancel.load(Ordering::Relaxed) {
+                    let j = handed.load(Ordering::Relaxed);
+                    return fail(j, crate::error::FileError::Interrupted.into());
+                }
+                if !out.flow.wait_within(handed.load(Ordering::Relaxed), limit) {
+                    return;
+                }
+                // Take the next segment and the blocks that hold its input.
+                let (j, seg, blocks) = {
+                    let mut f = lock(&feed);
+                    let j = f.next_segment;
+                    let Some(seg) = cuts.segment(j) else {
+                        return; // every segment is taken
+                    };
+                    f.next_segment += 1;
+                    handed.store(f.next_segment, Ordering::Relaxed);
+                    while f.next_frame < seg.end {
+                        match f.rx.recv() {
+                            Ok(Ok(block)) => {
+                                let start = f.next_frame;
+                                f.next_frame += (block.len() / ch) as u64;
+                                f.window.push_back((start, Arc::new(block)));
+                            }
+                            Ok(Err(e)) => return fail(j, e),
+                            // The input ended early: the segment's length check says so.
+                            Err(_) => break,
+                        }
+                    }
+                    // Blocks no later segment reads go back to the reader (once no
+                    // worker holds them).
+                    while let Some((start, block)) = f.window.front() {
+                        if *start + (block.len() / ch) as u64 > seg.start {
+                            break;
+                        }
+                        if let Some((_, block)) = f.window.pop_front() {
+                            recycle(block);
+                        }
+                    }
+                    let blocks: Vec<(u64, Arc<Vec<T>>)> = f
+                        .window
+                        .iter()
+                        .filter(|(start, b)| {
+                            *start < seg.end && start + (b.len() / ch) as u64 > seg.start
+                        })
+                        .cloned()
+                        .collect();
+                    (j, seg, blocks)
                 };
-                let block = block?;
-                let frames = (block.len() / ch) as u64;
-                window.push_back((next_frame, block));
-                next_frame += frames;
-            }
-            for out in outs.iter_mut().filter(|o| o.capacity() == 0) {
-                if let Ok(v) = out_back.try_recv() {
-                    *out = v;
+                let pieces: Vec<&[T]> = blocks
+                    .iter()
+                    .map(|(start, block)| {
+                        let end = start + (block.len() / ch) as u64;
+                        let lo = seg.start.max(*start);
+                        let hi = seg.end.min(end);
+                        &block[(lo - start) as usize * ch..(hi - start) as usize * ch]
+                    })
+                    .collect();
+                let n = seg.keep * ch;
+                let (r, piece) = match encoder.as_mut() {
+                    // Encoded piece by piece as they are made, while in the cache.
+                    Some(q) => {
+                        let mut bytes = lock(&out.spare.bytes).pop().unwrap_or_default();
+                        bytes.clear();
+                        let r = convert_chain_segment_pieces(
+                            &mut conv,
+                            &seg,
+                            &pieces,
+                            ENCODE_FRAMES,
+                            &mut own,
+                            |x| encode_samples(q, x, &mut bytes),
+                        );
+                        (r, Piece::Encoded(bytes, n, q.take_stats()))
+                    }
+                    None => {
+                        let mut buf = lock(&out.spare.samples).pop().unwrap_or_default();
+                        let r = convert_chain_segment(&mut conv, &seg, &pieces, &mut buf);
+                        (r, Piece::Samples(buf, n))
+                    }
+                };
+                drop(pieces);
+                blocks.into_iter().for_each(|(_, b)| recycle(b));
+                if let Err(e) = r {
+                    return fail(j, e.into());
                 }
-            }
-            let blocks = &window;
-            let results: Vec<Result<(), resample_core::Error>> = convs
-                .par_iter_mut()
-                .zip(outs.par_iter_mut())
-                .zip(group.par_iter())
-                .map(|((conv, out), seg)| {
-                    convert_chain_segment(conv, seg, &pieces(blocks, seg, ch), out)
-                })
-                .collect();
-            for ((r, seg), out) in results.into_iter().zip(&group).zip(outs.iter_mut()) {
-                r?;
-                out_tx
-                    .send((std::mem::take(out), seg.keep * ch))
-                    .map_err(|_| writer_stopped())?;
-            }
-            let covered: u64 = (j..j + group.len() as u64).map(|k| cuts.covered(k)).sum();
-            (self.ctl.progress)(covered * self.bytes_per_frame);
-            j += group.len() as u64;
-            // Blocks no later segment reads go back to the reader.
-            let keep_from = cuts.segment(j).map_or(u64::MAX, |s| s.start);
-            while let Some((start, block)) = window.front() {
-                if *start + (block.len() / ch) as u64 > keep_from {
-                    break;
+                if out.tx.send((j, piece)).is_err() {
+                    return fail(j, writer_stopped().into());
                 }
-                if let Some((_, block)) = window.pop_front() {
-                    let _ = in_back.send(block);
-                }
+                (self.ctl.progress)(cuts.covered(j) * self.bytes_per_frame);
             }
+        };
+        std::thread::scope(|s| {
+            for _ in 1..workers.min(count.try_into().unwrap_or(usize::MAX)) {
+                s.spawn(work);
+            }
+            work();
+        });
+        match failure.into_inner().unwrap_or_else(PoisonError::into_inner) {
+            Some((_, e)) => Err(e),
+            None => Ok(()),
         }
-        Ok(())
     }
-}
-
-/// The parts of the blocks in `window` that hold frames `[seg.start, seg.end)`.
-fn pieces<'w, T>(window: &'w VecDeque<(u64, Vec<T>)>, seg: &Segment, ch: usize) -> Vec<&'w [T]> {
-    window
-        .iter()
-        .filter_map(|(start, block)| {
-            let end = start + (block.len() / ch) as u64;
-            let lo = seg.start.max(*start);
-            let hi = seg.end.min(end);
-            (lo < hi).then(|| &block[(lo - start) as usize * ch..(hi - start) as usize * ch])
-        })
-        .collect()
 }
 
 #[cfg(test)]

@@ -198,6 +198,21 @@ pub fn convert_chain_segment<T: Sample>(
     run_segment(conv, seg, pieces, out)
 }
 
+/// [`convert_chain_segment`] handing the kept outputs over as they are made rather than
+/// all at the end: `emit` gets them in order, interleaved, in pieces of `piece_frames`
+/// frames (the last one shorter), each from `buf` (grown or cut to one piece's size), so
+/// that they can be used while still in the cache. `conv` is reset first.
+pub fn convert_chain_segment_pieces<T: Sample>(
+    conv: &mut ChainConverter<T>,
+    seg: &Segment,
+    pieces: &[&[T]],
+    piece_frames: usize,
+    buf: &mut Vec<T>,
+    emit: impl FnMut(&[T]),
+) -> Result<()> {
+    run_segment_pieces(conv, seg, pieces, piece_frames, buf, emit)
+}
+
 /// What a segment needs of a streaming converter (both engines have it).
 trait Streaming<T> {
     fn channels(&self) -> usize;
@@ -238,18 +253,32 @@ fn run_segment<T: Sample>(
     let ch = conv.channels();
     conv.reset();
     let total = seg.skip + seg.keep;
-    // Every sample is written below: a recycled buffer is only cut or grown to size.
-    if out.len() >= total * ch {
-        out.truncate(total * ch);
+    // Room for the kept outputs (at least one frame); the outputs to drop are written at
+    // its start, each over the one before, and the kept ones over them, so nothing is moved
+    // afterwards. Every sample kept is written below: a recycled buffer is only cut or
+    // grown to size.
+    let room = seg.keep.max(1);
+    if out.len() >= room * ch {
+        out.truncate(room * ch);
     } else {
-        out.resize(total * ch, T::zero());
+        out.resize(room * ch, T::zero());
     }
+    // Where output frame `written` of the segment (dropped ones counted) goes.
+    let dest = |written: usize| {
+        if written < seg.skip {
+            0..(seg.skip - written).min(room) * ch
+        } else {
+            (written - seg.skip) * ch..room * ch
+        }
+    };
     let mut written = 0;
     for piece in pieces {
-        let frames = piece.len() / ch;
         let mut read = 0;
-        while read < frames && written < total {
-            let p = conv.process_interleaved(&piece[read * ch..], &mut out[written * ch..])?;
+        // Past the piece's end too, with no input, while outputs made ready by its input
+        // are still waiting for room (a call takes up to a block of input whatever room
+        // it has for the outputs).
+        while written < total {
+            let p = conv.process_interleaved(&piece[read * ch..], &mut out[dest(written)])?;
             read += p.frames_read;
             written += p.frames_written;
             if p.frames_read == 0 && p.frames_written == 0 {
@@ -258,7 +287,7 @@ fn run_segment<T: Sample>(
         }
     }
     while seg.last && written < total {
-        let k = conv.flush_interleaved(&mut out[written * ch..])?;
+        let k = conv.flush_interleaved(&mut out[dest(written)])?;
         if k == 0 {
             break;
         }
@@ -271,7 +300,77 @@ fn run_segment<T: Sample>(
             got: written,
         });
     }
-    out.drain(..seg.skip * ch);
+    out.truncate(seg.keep * ch);
+    Ok(())
+}
+
+/// The body of [`convert_chain_segment_pieces`].
+fn run_segment_pieces<T: Sample>(
+    conv: &mut impl Streaming<T>,
+    seg: &Segment,
+    pieces: &[&[T]],
+    piece_frames: usize,
+    buf: &mut Vec<T>,
+    mut emit: impl FnMut(&[T]),
+) -> Result<()> {
+    let ch = conv.channels();
+    conv.reset();
+    let total = seg.skip + seg.keep;
+    let room = piece_frames.max(1);
+    if buf.len() >= room * ch {
+        buf.truncate(room * ch);
+    } else {
+        buf.resize(room * ch, T::zero());
+    }
+    // Outputs made so far (dropped ones counted), and kept ones waiting in `buf`. The
+    // outputs to drop are written at the start of `buf`, each over the one before.
+    let (mut written, mut held) = (0, 0);
+    let dest = |written: usize, held: usize| {
+        if written < seg.skip {
+            0..(seg.skip - written).min(room) * ch
+        } else {
+            held * ch..(held + (total - written)).min(room) * ch
+        }
+    };
+    let mut made = |k: usize, written: &mut usize, held: &mut usize, buf: &[T]| {
+        if *written >= seg.skip {
+            *held += k;
+            if *held == room {
+                emit(&buf[..room * ch]);
+                *held = 0;
+            }
+        }
+        *written += k;
+    };
+    for piece in pieces {
+        let mut read = 0;
+        // Past the piece's end too (see `run_segment`).
+        while written < total {
+            let p = conv.process_interleaved(&piece[read * ch..], &mut buf[dest(written, held)])?;
+            read += p.frames_read;
+            made(p.frames_written, &mut written, &mut held, buf);
+            if p.frames_read == 0 && p.frames_written == 0 {
+                break;
+            }
+        }
+    }
+    while seg.last && written < total {
+        let k = conv.flush_interleaved(&mut buf[dest(written, held)])?;
+        if k == 0 {
+            break;
+        }
+        made(k, &mut written, &mut held, buf);
+    }
+    if written != total {
+        return Err(Error::BufferShape {
+            what: "output frames of a segment",
+            expected: total,
+            got: written,
+        });
+    }
+    if held > 0 {
+        emit(&buf[..held * ch]);
+    }
     Ok(())
 }
 
@@ -380,6 +479,9 @@ mod tests {
         check::<f32>(96_000, 48_000, 120.0, 2, 100_003);
         check::<f64>(48_000, 32_000, 140.0, 1, 150_000);
         check::<f32>(48_000, 16_000, 100.0, 2, 100_000);
+        // Many channels: segments shorter than a converter's input block, so that a call
+        // takes a segment's whole input while its outputs wait for room.
+        check::<f32>(44_100, 48_000, 100.0, 24, 30_000);
         // Shorter than one segment, and exactly one segment long.
         check::<f64>(44_100, 48_000, 100.0, 2, 5_000);
         check::<f64>(44_100, 48_000, 100.0, 2, 32_781);
@@ -456,6 +558,21 @@ mod chain_tests {
             let cut = (input.len() / ch / 3) * ch;
             let (p, q) = input.split_at(cut);
             convert_chain_segment(&mut conv, &s, &[p, q], &mut out).unwrap();
+            // In pieces as they are made: the same outputs.
+            let mut joined = Vec::new();
+            let mut buf = Vec::new();
+            for piece_frames in [1, 777, 4096] {
+                joined.clear();
+                convert_chain_segment_pieces(&mut conv, &s, &[p, q], piece_frames, &mut buf, |x| {
+                    assert!(x.len() <= piece_frames * ch);
+                    joined.extend_from_slice(x)
+                })
+                .unwrap();
+                assert!(
+                    joined == out,
+                    "{a}->{b} segment {j}: pieces of {piece_frames}"
+                );
+            }
             parts.push(out.clone());
         }
         for p in parts.iter().rev() {
@@ -484,5 +601,6 @@ mod chain_tests {
         check::<f64>(192_000, 44_100, 120.0, 2, 5_000, two);
         // One stage: the single stage's cuts.
         check::<f64>(44_100, 48_000, 140.0, 2, 100_000, StageChoice::Single);
+        check::<f32>(44_100, 48_000, 100.0, 24, 30_000, StageChoice::Single);
     }
 }

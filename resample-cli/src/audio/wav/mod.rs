@@ -43,4 +43,5 @@ pub use error::WavError;
 pub use metadata::{Chunk, MetadataPolicy, MetadataSummary, Retiming};
 pub use quantize::{LevelStats, Quantizer};
 pub use reader::{NonFinite, WavInfo, WavReader};
+pub(crate) use writer::encode_samples;
 pub use writer::{WavWriter, WriterOptions};

@@ -137,6 +137,75 @@ impl Quantizer {
         }
     }
 
+    /// [`Quantizer::to_floats`] straight into little-endian bytes: sample `i`'s value at
+    /// `out[4 i..4 i + 4]` (`out` holds `4 xs.len()` bytes). The same values and level
+    /// figures, in loops over whole groups of lanes with no index checks inside, so that the
+    /// conversion, the peak scan and the stores vectorize together; overs (rare) are
+    /// counted only in the runs whose peak is over full scale.
+    pub fn floats_to_le_bytes<T: Sample>(&mut self, xs: &[T], out: &mut [u8]) {
+        const LANES: usize = 8;
+        const RUN: usize = 256;
+        let mut peak = [0.0_f64; LANES];
+        let out = &mut out[..4 * xs.len()];
+        for (xr, or) in xs.chunks(RUN).zip(out.chunks_mut(4 * RUN)) {
+            let mut run_peak = [0.0_f64; LANES];
+            let mut x_groups = xr.chunks_exact(LANES);
+            let mut o_groups = or.chunks_exact_mut(4 * LANES);
+            for (xg, og) in (&mut x_groups).zip(&mut o_groups) {
+                for (j, (x, o)) in xg.iter().zip(og.as_chunks_mut::<4>().0).enumerate() {
+                    let x = x.to_f64_exact();
+                    let a = x.abs();
+                    // As in `observe`: a NaN never becomes the peak.
+                    run_peak[j] = if a > run_peak[j] { a } else { run_peak[j] };
+                    o.copy_from_slice(&(x as f32).to_le_bytes());
+                }
+            }
+            let rest = x_groups.remainder();
+            let o_rest = o_groups.into_remainder().chunks_exact_mut(4);
+            for (j, (x, o)) in rest.iter().zip(o_rest).enumerate() {
+                let x = x.to_f64_exact();
+                let a = x.abs();
+                if a > run_peak[j] {
+                    run_peak[j] = a;
+                }
+                o.copy_from_slice(&(x as f32).to_le_bytes());
+            }
+            if run_peak.iter().any(|&p| p > 1.0) {
+                let over = xr.iter().filter(|x| x.to_f64_exact().abs() > 1.0).count();
+                self.stats.over += over as u64;
+            }
+            for (p, r) in peak.iter_mut().zip(run_peak) {
+                if r > *p {
+                    *p = r;
+                }
+            }
+        }
+        self.stats.samples += xs.len() as u64;
+        for p in peak {
+            if p > self.stats.peak {
+                self.stats.peak = p;
+            }
+        }
+    }
+
+    /// The level figures so far, and start counting again from none (for figures gathered
+    /// by a quantizer of its own on another thread, see [`Quantizer::absorb`]).
+    pub fn take_stats(&mut self) -> LevelStats {
+        std::mem::take(&mut self.stats)
+    }
+
+    /// Count `other`'s figures as seen here too: the peak is the larger one, the counts
+    /// add up (so figures gathered in pieces, in any order, come out as if seen here).
+    pub fn absorb(&mut self, other: &LevelStats) {
+        if other.peak > self.stats.peak {
+            self.stats.peak = other.peak;
+        }
+        self.stats.over += other.over;
+        self.stats.clipped += other.clipped;
+        self.stats.samples += other.samples;
+        self.stats.dithered += other.dithered;
+    }
+
     #[inline]
     fn observe(&mut self, x: f64) {
         self.stats.samples += 1;
@@ -231,6 +300,64 @@ mod tests {
         assert_eq!(one.stats(), block.stats());
         for (a, b) in expect.iter().zip(&got) {
             assert_eq!(a.to_bits(), b.to_bits());
+        }
+        // Straight into bytes: the same values and figures, at every length up to a few
+        // lane groups past the first (every remainder).
+        // Also a quieter signal: one over only, so that most runs have none.
+        let quiet: Vec<f64> = xs
+            .iter()
+            .enumerate()
+            .map(|(i, &x)| if i == 700 { 1.5 } else { 0.5 * x })
+            .collect();
+        let lengths = [0, 1, 7, 8, 9, 17, 255, 256, 257, 513, 1003];
+        for (xs, n) in lengths.iter().flat_map(|&n| [(&xs, n), (&quiet, n)]) {
+            let mut one = Quantizer::new(Encoding::Float32, Dither::None);
+            let expect: Vec<f32> = xs[..n].iter().map(|&x| one.to_float(x)).collect();
+            let mut bytes = Quantizer::new(Encoding::Float32, Dither::None);
+            let mut got = vec![0xA5_u8; 4 * n];
+            bytes.floats_to_le_bytes(&xs[..n], &mut got);
+            assert_eq!(one.stats(), bytes.stats(), "{n} samples");
+            for (a, b) in expect.iter().zip(got.chunks_exact(4)) {
+                assert_eq!(a.to_bits(), u32::from_le_bytes([b[0], b[1], b[2], b[3]]));
+            }
+        }
+    }
+
+    #[test]
+    fn figures_of_pieces_absorbed_are_the_figures_of_the_whole() {
+        let xs: Vec<f64> = (0..5000)
+            .map(|i| match i {
+                77 => f64::NAN,
+                4000 => -2.5,
+                _ => 1.1 * (i as f64 * 0.011).sin(),
+            })
+            .collect();
+        for enc in [Encoding::Float32, Encoding::Int(16), Encoding::Int(32)] {
+            let mut whole = Quantizer::new(enc, Dither::None);
+            let mut bytes = Vec::new();
+            super::super::writer::encode_samples(&mut whole, &xs, &mut bytes);
+            let mut sum = Quantizer::new(enc, Dither::None);
+            let mut part = Quantizer::new(enc, Dither::None);
+            let mut joined = Vec::new();
+            // Pieces absorbed out of order.
+            let mut pieces: Vec<(Vec<u8>, LevelStats)> = xs
+                .chunks(613)
+                .map(|c| {
+                    let mut b = Vec::new();
+                    super::super::writer::encode_samples(&mut part, c, &mut b);
+                    (b, part.take_stats())
+                })
+                .collect();
+            for (b, _) in &pieces {
+                joined.extend_from_slice(b);
+            }
+            pieces.reverse();
+            for (_, st) in &pieces {
+                sum.absorb(st);
+            }
+            assert_eq!(whole.stats(), sum.stats(), "{enc}");
+            assert!(bytes == joined, "{enc}");
+            assert_eq!(part.stats(), LevelStats::default());
         }
     }
 

@@ -56,7 +56,7 @@ impl WriterOptions {
     }
 }
 
-/// Samples encoded per chunk of bytes handed to the file.
+/// Samples encoded per step (the bytes gather until there are [`WRITE_BUFFER`] of them).
 const ENCODE_CHUNK: usize = 16 << 10;
 
 /// A WAV file being written.
@@ -80,6 +80,8 @@ pub struct WavWriter {
     header_len: u32,
     /// Bytes of audio written.
     data_bytes: u64,
+    /// Encoded audio not yet handed to the file (less than [`WRITE_BUFFER`] bytes between
+    /// calls).
     bytes: Vec<u8>,
     /// Write back to the disk every this many bytes (0: only on finish; then `writeback`
     /// is `None`).
@@ -222,17 +224,28 @@ fn header(spec: hound::WavSpec, mask: Option<u32>, chunks: &[Chunk]) -> Result<V
     Ok(h)
 }
 
+/// Requantize `samples` with `quant` and append their bytes to `bytes`, as
+/// [`WavWriter::write_frames`] would (for bytes made away from the writer, handed to it by
+/// [`WavWriter::write_encoded`]).
+pub(crate) fn encode_samples<T: Sample>(quant: &mut Quantizer, samples: &[T], bytes: &mut Vec<u8>) {
+    encode(quant, samples, bytes);
+}
+
 /// Requantize `samples` and append their bytes to `bytes` as hound 3.5 writes them
 /// (`Sample::write_padded`: little-endian; 8-bit unsigned with offset 128).
 fn encode<T: Sample>(quant: &mut Quantizer, samples: &[T], bytes: &mut Vec<u8>) {
     match quant.encoding() {
         Encoding::Float32 => {
-            let start = bytes.len();
-            bytes.resize(start + 4 * samples.len(), 0);
-            let out = &mut bytes[start..];
-            quant.to_floats(samples, |i, v| {
-                out[4 * i..4 * i + 4].copy_from_slice(&v.to_le_bytes());
-            });
+            // Through a small buffer that stays in the cache, so that the output is written
+            // once (not cleared first, then written).
+            const STEP: usize = 1024;
+            let mut step = [0u8; 4 * STEP];
+            bytes.reserve(4 * samples.len());
+            for xs in samples.chunks(STEP) {
+                let out = &mut step[..4 * xs.len()];
+                quant.floats_to_le_bytes(xs, out);
+                bytes.extend_from_slice(out);
+            }
         }
         Encoding::Int(bits) => {
             for &s in samples {
@@ -340,21 +353,84 @@ impl WavWriter {
         let width = usize::from(self.quant.encoding().bytes());
         // No size limit: a file that passes 4 GiB becomes RF64 on finish.
         let total = self.data_bytes + (samples.len() * width) as u64;
+        // Encoded bytes gather in `bytes` and go to the file in pieces of at least the write
+        // buffer's size, which pass the buffer by (no second copy of every byte).
         for chunk in samples.chunks(ENCODE_CHUNK) {
-            self.bytes.clear();
             encode(&mut self.quant, chunk, &mut self.bytes);
-            out.write_all(&self.bytes)
-                .map_err(|e| WavError::io("cannot write", e))?;
+            if self.bytes.len() >= WRITE_BUFFER {
+                out.write_all(&self.bytes)
+                    .map_err(|e| WavError::io("cannot write", e))?;
+                self.bytes.clear();
+            }
         }
         self.data_bytes = total;
         self.frames += (samples.len() / ch) as u64;
-        if let Some(wb) = &mut self.writeback {
-            if total - self.synced >= self.sync_every {
-                self.synced = total;
-                out.flush()
-                    .and_then(|()| wb.request())
+        self.write_back_if_due()
+    }
+
+    /// A quantizer that makes the bytes this writer would make, for encoding on other
+    /// threads ([`WavWriter::write_encoded`]): `None` when the writer dithers (the dither
+    /// is one sequence through the whole file, so only the writer can add it).
+    pub fn parallel_encoder(&self) -> Option<Quantizer> {
+        (!self.quant.dithers()).then(|| Quantizer::new(self.quant.encoding(), Dither::None))
+    }
+
+    /// Write audio already encoded by a quantizer of [`WavWriter::parallel_encoder`]:
+    /// `bytes` hold `samples` whole frames' samples, and `stats` are that quantizer's
+    /// figures for them ([`Quantizer::take_stats`]). The file and the figures come out as
+    /// if the samples had gone through [`WavWriter::write_frames`].
+    pub fn write_encoded(
+        &mut self,
+        bytes: &[u8],
+        samples: usize,
+        stats: &LevelStats,
+    ) -> Result<(), WavError> {
+        let ch = usize::from(self.channels);
+        let width = usize::from(self.quant.encoding().bytes());
+        if samples % ch != 0 {
+            return Err(WavError::PartialFrame {
+                len: samples,
+                channels: self.channels,
+            });
+        }
+        if bytes.len() != samples * width || self.quant.dithers() {
+            return Err(WavError::Malformed(
+                "encoded audio of another length or for a dithering writer".into(),
+            ));
+        }
+        let Some(out) = self.out.as_mut() else {
+            return Err(WavError::Malformed("writer already finished".into()));
+        };
+        let total = self.data_bytes + bytes.len() as u64;
+        if self.bytes.is_empty() && bytes.len() >= WRITE_BUFFER {
+            out.write_all(bytes)
+                .map_err(|e| WavError::io("cannot write", e))?;
+        } else {
+            self.bytes.extend_from_slice(bytes);
+            if self.bytes.len() >= WRITE_BUFFER {
+                out.write_all(&self.bytes)
                     .map_err(|e| WavError::io("cannot write", e))?;
+                self.bytes.clear();
             }
+        }
+        self.quant.absorb(stats);
+        self.data_bytes = total;
+        self.frames += (samples / ch) as u64;
+        self.write_back_if_due()
+    }
+
+    /// Have the disk catch up if [`WavWriter::sync_every`] bytes came since it last did.
+    fn write_back_if_due(&mut self) -> Result<(), WavError> {
+        let (Some(out), Some(wb)) = (self.out.as_mut(), self.writeback.as_mut()) else {
+            return Ok(());
+        };
+        if self.data_bytes - self.synced >= self.sync_every {
+            self.synced = self.data_bytes;
+            out.write_all(&self.bytes)
+                .and_then(|()| out.flush())
+                .and_then(|()| wb.request())
+                .map_err(|e| WavError::io("cannot write", e))?;
+            self.bytes.clear();
         }
         Ok(())
     }
@@ -404,8 +480,11 @@ impl WavWriter {
                 self.frames,
                 trailer.len() as u64,
             );
+            let pending = std::mem::take(&mut self.bytes);
             let fill = |out: &mut BufWriter<Target>| -> io::Result<()> {
-                // The writer stands just after the last audio byte.
+                // The audio still gathered, then the writer stands just after the last
+                // audio byte.
+                out.write_all(&pending)?;
                 out.write_all(&[0u8][..pad])?;
                 out.write_all(&trailer)?;
                 for (at, bytes) in &patches {
@@ -499,6 +578,61 @@ mod tests {
         }
         // 8- and 24-bit mono of an odd length, each with and without dither.
         assert_eq!(padded, 4);
+    }
+
+    #[test]
+    fn audio_encoded_elsewhere_makes_the_same_file() {
+        // Pieces encoded by the writer's parallel encoder and handed over, in sizes on both
+        // sides of the write buffer, give the bytes and figures of write_frames.
+        let dir = tempfile::tempdir().unwrap();
+        for enc in [Encoding::Float32, Encoding::Int(16), Encoding::Int(32)] {
+            let x: Vec<f64> = (0..300_002)
+                .map(|i| 1.2 * ((i as f64) * 0.000_37).sin())
+                .collect();
+            let mut opts = WriterOptions::new(48_000, 2, enc);
+            opts.dither = Dither::None;
+            opts.force = true;
+            let plain = dir.path().join("plain.wav");
+            let mut w = WavWriter::create(&plain, &opts).unwrap();
+            w.sync_every(1 << 20).unwrap();
+            for piece in x.chunks(9_000 * 2) {
+                w.write_frames(piece).unwrap();
+            }
+            let want = w.finish().unwrap();
+            let handed = dir.path().join("handed.wav");
+            let mut w = WavWriter::create(&handed, &opts).unwrap();
+            w.sync_every(1 << 20).unwrap();
+            let mut q = w.parallel_encoder().expect("no dither: encodes anywhere");
+            let mut bytes = Vec::new();
+            for piece in x.chunks(9_000 * 2) {
+                bytes.clear();
+                encode_samples(&mut q, piece, &mut bytes);
+                w.write_encoded(&bytes, piece.len(), &q.take_stats())
+                    .unwrap();
+            }
+            let got = w.finish().unwrap();
+            assert_eq!(want, got, "{enc}");
+            assert!(
+                std::fs::read(&plain).unwrap() == std::fs::read(&handed).unwrap(),
+                "{enc}"
+            );
+            // One large piece (past the write buffer: straight to the file).
+            opts.force = true;
+            let mut w = WavWriter::create(&handed, &opts).unwrap();
+            let mut q = w.parallel_encoder().unwrap();
+            bytes.clear();
+            encode_samples(&mut q, &x, &mut bytes);
+            w.write_encoded(&bytes, x.len(), &q.take_stats()).unwrap();
+            assert_eq!(w.finish().unwrap(), want, "{enc}: one piece");
+            assert!(
+                std::fs::read(&plain).unwrap() == std::fs::read(&handed).unwrap(),
+                "{enc}: one piece"
+            );
+        }
+        // A dithering writer has no parallel encoder.
+        let opts = WriterOptions::new(48_000, 2, Encoding::Int(16));
+        let w = WavWriter::create(&dir.path().join("d.wav"), &opts).unwrap();
+        assert!(w.parallel_encoder().is_none());
     }
 
     #[test]
