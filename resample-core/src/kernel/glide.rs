@@ -66,15 +66,24 @@ impl<T> GlideRun<'_, T> {
             && self.starts.len() == n
             && self.fracs.len() == n
             && out_len >= n * self.channels
-            && self
-                .blocks
-                .iter()
-                .all(|&b| b.checked_add(block).is_some_and(|e| e <= self.table.len()))
-            && self.starts.iter().all(|&s| {
-                s.checked_add((self.channels - 1) * self.stride + self.cols)
-                    .is_some_and(|e| e <= self.hist.len())
-            })
+            // The largest start of each kind decides (a maximum the compiler vectorizes,
+            // where a check per output with early exit is a loop of branches).
+            && (n == 0
+                || (max_of(self.blocks)
+                    .checked_add(block)
+                    .is_some_and(|e| e <= self.table.len())
+                    && (self.channels - 1)
+                        .checked_mul(self.stride)
+                        .and_then(|r| r.checked_add(self.cols))
+                        .and_then(|r| r.checked_add(max_of(self.starts)))
+                        .is_some_and(|e| e <= self.hist.len())))
     }
+}
+
+/// The largest value of `v` (0 if empty).
+#[inline]
+fn max_of(v: &[usize]) -> usize {
+    v.iter().fold(0, |m, &x| m.max(x))
 }
 
 /// The scalar reference: for output `k` the taps `t_j = (..(c_order f + c_(order-1)) f ..) f
