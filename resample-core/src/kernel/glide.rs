@@ -170,7 +170,8 @@ macro_rules! glide_kernels {
             /// Channels `c0..c0 + C` of every output of the run, polynomial order `O`. Up to
             /// two channels, the outputs go in pairs (two outputs' work interleaved, and the
             /// coefficient rows loaded once when both read the same block, as sorted runs
-            /// often do), else one at a time; every output is computed by the same
+            /// often do), with one channel and 512-bit vectors four at a time when all four
+            /// read one block; else one at a time; every output is computed by the same
             /// operations either way ([`group`]). Returns `C`.
             ///
             /// # Safety
@@ -188,7 +189,18 @@ macro_rules! glide_kernels {
                 // Safety: the caller's guarantees, and `k + N <= outputs` for each group.
                 unsafe {
                     while k < outputs {
-                        if C <= 2 && k + 1 < outputs {
+                        // Four outputs of one block together for one channel, where the
+                        // registers hold them (512-bit vectors: 32 registers).
+                        if C == 1
+                            && $v::W * core::mem::size_of::<$t>() == 64
+                            && k + 3 < outputs
+                            && g.blocks[k] == g.blocks[k + 3]
+                            && g.blocks[k] == g.blocks[k + 1]
+                            && g.blocks[k] == g.blocks[k + 2]
+                        {
+                            group::<O, C, 4, true>(g, c0, o, k);
+                            k += 4;
+                        } else if C <= 2 && k + 1 < outputs {
                             if g.blocks[k] == g.blocks[k + 1] {
                                 group::<O, C, 2, true>(g, c0, o, k);
                             } else {
@@ -213,7 +225,7 @@ macro_rules! glide_kernels {
             /// # Safety
             /// The CPU supports `$feat`; `g.fits(len)` for the `len` values at `o`;
             /// `g.order == O`; `c0 + C <= g.channels`; `k + N <= g.blocks.len()`; with `SH`,
-            /// `N == 2` and the two outputs' blocks are equal.
+            /// the `N` outputs' blocks are equal.
             #[target_feature(enable = $feat)]
             #[inline]
             // One vector per chunk for 512-bit vectors: `v % S` is then always 0.

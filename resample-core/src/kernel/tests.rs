@@ -373,8 +373,8 @@ fn simd_kernels_listed_on_this_machine() {
 }
 
 /// `glide_run` of every kernel against the scalar reference: linear and cubic tables, one to
-/// five channels, taps per output around the vector widths, runs of one to seven outputs
-/// at random blocks (also two by two the same block) and positions, within [`tolerance`] of
+/// five channels, taps per output around the vector widths, runs of one to nine outputs
+/// at random blocks (also two or four at a time the same block) and positions, within [`tolerance`] of
 /// the terms' size; and each
 /// output's value alone (a run of one, one channel) is its value in the run, bit for bit.
 fn glide_run_agrees<T: Sample>() {
@@ -398,11 +398,11 @@ fn glide_run_agrees<T: Sample>() {
                 for channels in 1..=5 {
                     let stride = cols + 9;
                     let hist: Vec<T> = rng.vec(channels * stride);
-                    // Outputs at blocks of their own, and in pairs sharing a block (the
-                    // SIMD kernels then load the block's rows once for both).
-                    for (outputs, pairs) in (1..=7).flat_map(|n| [(n, false), (n, true)]) {
+                    // Outputs at blocks of their own, and in pairs or fours sharing a block
+                    // (the SIMD kernels then load the block's rows once for them).
+                    for (outputs, share) in (1..=9).flat_map(|n| [(n, 1), (n, 2), (n, 4)]) {
                         let blocks: Vec<usize> = (0..outputs)
-                            .map(|k| (if pairs { k / 2 * 3 } else { k * 3 } % phases) * block)
+                            .map(|k| (k / share * 3 % phases) * block)
                             .collect();
                         let starts: Vec<usize> = (0..outputs).map(|k| k % 9).collect();
                         let fracs: Vec<T> = (0..outputs)
