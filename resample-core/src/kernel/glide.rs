@@ -88,10 +88,10 @@ fn max_of(v: &[usize]) -> usize {
 
 /// The scalar reference: for output `k` the taps `t_j = (..(c_order f + c_(order-1)) f ..) f
 /// + c_0` (Horner, in order), then for each channel `sum_j t_j x_j` accumulated left to
-/// right; `out[k channels + c]`. Stops if the run does not fit (the caller checks first).
-pub(crate) fn glide_run<T: Float>(g: &GlideRun<'_, T>, out: &mut [T]) {
+/// right; `out[k channels + c]`. Returns whether the run fit (nothing is written if not).
+pub(crate) fn glide_run<T: Float>(g: &GlideRun<'_, T>, out: &mut [T]) -> bool {
     if !g.fits(out.len()) {
-        return;
+        return false;
     }
     let chunk = glide_chunk::<T>();
     let rows = g.order + 1;
@@ -116,6 +116,7 @@ pub(crate) fn glide_run<T: Float>(g: &GlideRun<'_, T>, out: &mut [T]) {
             *y = acc;
         }
     }
+    true
 }
 
 /// Rows `y_(p-1), y_p, y_(p+1), y_(p+2)` of a table (phases `p - 1 .. p + 2`) as the
@@ -143,9 +144,12 @@ macro_rules! glide_kernels {
             use $crate::kernel::glide::{glide_block_len, glide_chunk, GlideRun};
 
             /// See [`crate::kernel::KernelFns::glide_run`].
-            pub(crate) fn glide_run(g: &GlideRun<'_, $t>, out: &mut [$t]) {
-                if !$detect() || !g.fits(out.len()) {
+            pub(crate) fn glide_run(g: &GlideRun<'_, $t>, out: &mut [$t]) -> bool {
+                if !$detect() {
                     return $crate::kernel::glide::glide_run(g, out);
+                }
+                if !g.fits(out.len()) {
+                    return false;
                 }
                 let mut c = 0;
                 while c < g.channels {
@@ -165,6 +169,7 @@ macro_rules! glide_kernels {
                         };
                     }
                 }
+                true
             }
 
             /// Channels `c0..c0 + C` of every output of the run, polynomial order `O`. Up to
