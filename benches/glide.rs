@@ -17,6 +17,11 @@
 //!
 //! For profiling one case: `RERATE_GLIDE_CASE="f32 stereo 44100 -> 48000 x (1 +100 ppm) 140"`
 //! keeps the summary lines starting so, `RERATE_GLIDE_ONLY_ANY=1` skips the fixed engine.
+//!
+//! Built with `--features internals`, each summary line is followed by the run kernel alone
+//! (`KernelFns::glide_run` on a prepared run of 1024 outputs: a table of the same size and
+//! layout, the positions of the same ratio, sorted by block as the converter sorts them),
+//! to split the converter's cost into the kernel and the rest.
 
 use std::hint::black_box;
 use std::time::{Duration, Instant};
@@ -152,8 +157,102 @@ fn summary<T: Sample>(name: &str, channels: usize) {
                 1e9 * g,
                 g / f
             );
+            #[cfg(feature = "internals")]
+            {
+                let k = kernel_alone::<T>(a, b, ppm, db, channels);
+                println!(
+                    "    run kernel alone: {:.2} ns per output frame ({:.0} % of the converter's)",
+                    1e9 * k,
+                    100.0 * k / g
+                );
+            }
         }
     }
+}
+
+/// Seconds per output of the run kernel alone for the table the converter reads at this
+/// case's ratio: a table of the same geometry (values are demo numbers; the cost does not
+/// depend on them), 1024 outputs at the ratio's positions, sorted by block.
+#[cfg(feature = "internals")]
+fn kernel_alone<T: Sample>(a: u32, b: u32, ppm: f64, db: f64, channels: usize) -> f64 {
+    use resample_core::internals::{glide_block_len, GlideRun, KernelFns};
+    let spec = FilterSpec::new(a, b).stopband_db(db);
+    let design = spec.design_glide().expect("glide design");
+    let ratio = f64::from(b) * (1.0 + ppm * 1e-6) / f64::from(a);
+    let r = design.report();
+    let (phases, cols, order) = match r.band.as_ref() {
+        Some(band) if ratio < 1.0 && band.contains(ratio) => (
+            band.phases as usize,
+            band.taps_per_output,
+            band.interpolation.order(),
+        ),
+        _ => (
+            r.phases as usize,
+            r.taps_per_output,
+            r.interpolation.order(),
+        ),
+    };
+    // Probe: another number of taps per output.
+    let cols = std::env::var("RERATE_GLIDE_COLS")
+        .ok()
+        .and_then(|c| c.parse().ok())
+        .unwrap_or(cols);
+    let block = glide_block_len::<T>(cols, order);
+    let table: Vec<T> = (0..phases * block)
+        .map(|k| T::from_f64_lossy(1e-3 * ((k % 97) as f64 - 48.0)))
+        .collect();
+    const OUTPUTS: usize = 1024;
+    let step = 1.0 / ratio;
+    let stride = cols + (OUTPUTS as f64 * step) as usize + 2;
+    let hist: Vec<T> = (0..stride * channels)
+        .map(|k| T::from_f64_lossy(0.3 * (0.01 * k as f64).sin()))
+        .collect();
+    let mut run: Vec<(usize, usize, T)> = (0..OUTPUTS)
+        .map(|k| {
+            let t = 0.37 + k as f64 * step;
+            let x = t.fract() * phases as f64;
+            let p = (x as usize).min(phases - 1);
+            (p * block, t as usize, T::from_f64_lossy(x.fract()))
+        })
+        .collect();
+    // Probes of where the kernel's time goes (not a product case): every input start on a
+    // 64-byte boundary (no load crosses a cache line), or every output reading block 0 (the
+    // table stays in the first-level cache).
+    let probe = std::env::var("RERATE_GLIDE_PROBE").unwrap_or_default();
+    for e in &mut run {
+        if probe.contains("aligned") {
+            e.1 -= e.1 % (64 / core::mem::size_of::<T>());
+        }
+        if probe.contains("oneblock") {
+            e.0 = 0;
+        }
+    }
+    run.sort_by_key(|e| e.0);
+    let blocks: Vec<usize> = run.iter().map(|e| e.0).collect();
+    let starts: Vec<usize> = run.iter().map(|e| e.1).collect();
+    let fracs: Vec<T> = run.iter().map(|e| e.2).collect();
+    let fns = KernelFns::<T>::new(Kernel::detect()).expect("kernel");
+    let g = GlideRun {
+        table: &table,
+        cols,
+        order,
+        hist: &hist,
+        stride,
+        channels,
+        blocks: &blocks,
+        starts: &starts,
+        fracs: &fracs,
+    };
+    let mut out = vec![T::zero(); OUTPUTS * channels];
+    let mut best = f64::INFINITY;
+    for _ in 0..3 {
+        best = best.min(secs_per_output(|| {
+            fns.glide_run(black_box(&g), &mut out).expect("run");
+            black_box(&out);
+            OUTPUTS
+        }));
+    }
+    best
 }
 
 fn bench<T: Sample>(c: &mut Criterion, name: &str) {

@@ -5,5 +5,7 @@
 pub use crate::filter::minphase;
 pub use crate::filter::response;
 pub use crate::filter::window;
-pub use crate::kernel::{peak, scalar, DotFn, GroupSpan, KernelFns};
+pub use crate::kernel::{
+    glide_block_len, glide_chunk, peak, scalar, DotFn, GlideRun, GroupSpan, KernelFns,
+};
 pub use crate::table::{GroupTable, Layout};

@@ -66,23 +66,32 @@ impl<T> GlideRun<'_, T> {
             && self.starts.len() == n
             && self.fracs.len() == n
             && out_len >= n * self.channels
-            && self
-                .blocks
-                .iter()
-                .all(|&b| b.checked_add(block).is_some_and(|e| e <= self.table.len()))
-            && self.starts.iter().all(|&s| {
-                s.checked_add((self.channels - 1) * self.stride + self.cols)
-                    .is_some_and(|e| e <= self.hist.len())
-            })
+            // The largest start of each kind decides (a maximum the compiler vectorizes,
+            // where a check per output with early exit is a loop of branches).
+            && (n == 0
+                || (max_of(self.blocks)
+                    .checked_add(block)
+                    .is_some_and(|e| e <= self.table.len())
+                    && (self.channels - 1)
+                        .checked_mul(self.stride)
+                        .and_then(|r| r.checked_add(self.cols))
+                        .and_then(|r| r.checked_add(max_of(self.starts)))
+                        .is_some_and(|e| e <= self.hist.len())))
     }
+}
+
+/// The largest value of `v` (0 if empty).
+#[inline]
+fn max_of(v: &[usize]) -> usize {
+    v.iter().fold(0, |m, &x| m.max(x))
 }
 
 /// The scalar reference: for output `k` the taps `t_j = (..(c_order f + c_(order-1)) f ..) f
 /// + c_0` (Horner, in order), then for each channel `sum_j t_j x_j` accumulated left to
-/// right; `out[k channels + c]`. Stops if the run does not fit (the caller checks first).
-pub(crate) fn glide_run<T: Float>(g: &GlideRun<'_, T>, out: &mut [T]) {
+/// right; `out[k channels + c]`. Returns whether the run fit (nothing is written if not).
+pub(crate) fn glide_run<T: Float>(g: &GlideRun<'_, T>, out: &mut [T]) -> bool {
     if !g.fits(out.len()) {
-        return;
+        return false;
     }
     let chunk = glide_chunk::<T>();
     let rows = g.order + 1;
@@ -107,6 +116,7 @@ pub(crate) fn glide_run<T: Float>(g: &GlideRun<'_, T>, out: &mut [T]) {
             *y = acc;
         }
     }
+    true
 }
 
 /// Rows `y_(p-1), y_p, y_(p+1), y_(p+2)` of a table (phases `p - 1 .. p + 2`) as the
@@ -134,9 +144,12 @@ macro_rules! glide_kernels {
             use $crate::kernel::glide::{glide_block_len, glide_chunk, GlideRun};
 
             /// See [`crate::kernel::KernelFns::glide_run`].
-            pub(crate) fn glide_run(g: &GlideRun<'_, $t>, out: &mut [$t]) {
-                if !$detect() || !g.fits(out.len()) {
+            pub(crate) fn glide_run(g: &GlideRun<'_, $t>, out: &mut [$t]) -> bool {
+                if !$detect() {
                     return $crate::kernel::glide::glide_run(g, out);
+                }
+                if !g.fits(out.len()) {
+                    return false;
                 }
                 let mut c = 0;
                 while c < g.channels {
@@ -156,24 +169,78 @@ macro_rules! glide_kernels {
                         };
                     }
                 }
+                true
             }
 
-            /// Channels `c0..c0 + C` of every output of the run, polynomial order `O`: per
-            /// vector of taps the Horner steps, then one multiply-add per channel into two
-            /// accumulators (even and odd vectors), added and summed at the end. The next
-            /// output's block is prefetched while this one is computed. Returns `C`.
+            /// Channels `c0..c0 + C` of every output of the run, polynomial order `O`. Up to
+            /// two channels, the outputs go in pairs (two outputs' work interleaved, and the
+            /// coefficient rows loaded once when both read the same block, as sorted runs
+            /// often do), with one channel and 512-bit vectors four at a time when all four
+            /// read one block; else one at a time; every output is computed by the same
+            /// operations either way ([`group`]). Returns `C`.
             ///
             /// # Safety
             /// The CPU supports `$feat`; `g.fits(out.len())`; `g.order == O`;
             /// `c0 + C <= g.channels`.
             #[target_feature(enable = $feat)]
-            // One vector per chunk for 512-bit vectors: `v % S` is then always 0.
-            #[allow(clippy::modulo_one)]
             unsafe fn run_impl<const O: usize, const C: usize>(
                 g: &GlideRun<'_, $t>,
                 c0: usize,
                 out: &mut [$t],
             ) -> usize {
+                let outputs = g.blocks.len();
+                let o = out.as_mut_ptr();
+                let mut k = 0;
+                // Safety: the caller's guarantees, and `k + N <= outputs` for each group.
+                unsafe {
+                    while k < outputs {
+                        // Four outputs of one block together for one channel, where the
+                        // registers hold them (512-bit vectors: 32 registers).
+                        if C == 1
+                            && $v::W * core::mem::size_of::<$t>() == 64
+                            && k + 3 < outputs
+                            && g.blocks[k] == g.blocks[k + 3]
+                            && g.blocks[k] == g.blocks[k + 1]
+                            && g.blocks[k] == g.blocks[k + 2]
+                        {
+                            group::<O, C, 4, true>(g, c0, o, k);
+                            k += 4;
+                        } else if C <= 2 && k + 1 < outputs {
+                            if g.blocks[k] == g.blocks[k + 1] {
+                                group::<O, C, 2, true>(g, c0, o, k);
+                            } else {
+                                group::<O, C, 2, false>(g, c0, o, k);
+                            }
+                            k += 2;
+                        } else {
+                            group::<O, C, 1, false>(g, c0, o, k);
+                            k += 1;
+                        }
+                    }
+                }
+                C
+            }
+
+            /// Outputs `k..k + N` of the run, channels `c0..c0 + C`, polynomial order `O`:
+            /// per vector of taps the Horner steps, then one multiply-add per channel into
+            /// two accumulators (even and odd vectors), added and summed at the end. `SH`:
+            /// the outputs read the same block, whose rows are then loaded once. The block
+            /// after the group is prefetched while it is computed.
+            ///
+            /// # Safety
+            /// The CPU supports `$feat`; `g.fits(len)` for the `len` values at `o`;
+            /// `g.order == O`; `c0 + C <= g.channels`; `k + N <= g.blocks.len()`; with `SH`,
+            /// the `N` outputs' blocks are equal.
+            #[target_feature(enable = $feat)]
+            #[inline]
+            // One vector per chunk for 512-bit vectors: `v % S` is then always 0.
+            #[allow(clippy::modulo_one)]
+            unsafe fn group<const O: usize, const C: usize, const N: usize, const SH: bool>(
+                g: &GlideRun<'_, $t>,
+                c0: usize,
+                o: *mut $t,
+                k: usize,
+            ) {
                 use $v::*;
                 const CH: usize = glide_chunk::<$t>();
                 // Vectors per chunk.
@@ -183,76 +250,93 @@ macro_rules! glide_kernels {
                 let block = glide_block_len::<$t>(n, O);
                 let table = g.table.as_ptr();
                 let hist = g.hist.as_ptr();
-                let o = out.as_mut_ptr();
-                let outputs = g.blocks.len();
                 // Safety: every block read is inside `table` and every input read inside
                 // `hist` (`fits`: the block's length from its start, `cols` inputs from
                 // each channel's start), the last partial vector of inputs masked; the
-                // output index `k channels + c0 + c` is below `outputs channels`. The
-                // prefetches are hints that cannot fault, at addresses inside the table.
+                // output index `(k + i) channels + c0 + c` is below `outputs channels`.
+                // The prefetches are hints that cannot fault, at addresses inside the
+                // table.
                 unsafe {
-                    for k in 0..outputs {
-                        if k + 1 < outputs {
-                            let next = table.add(g.blocks[k + 1]);
-                            let mut l = 0;
-                            while l < block.min(8 * CH) {
-                                $pf(next.add(l));
-                                l += CH;
-                            }
+                    if k + N < g.blocks.len() {
+                        let next = table.add(g.blocks[k + N]);
+                        let mut l = 0;
+                        while l < block.min(8 * CH) {
+                            $pf(next.add(l));
+                            l += CH;
                         }
-                        let blk = table.add(g.blocks[k]);
-                        let f = splat(g.fracs.as_ptr().add(k));
-                        let x: [*const $t; C] =
-                            core::array::from_fn(|c| hist.add(g.starts[k] + (c0 + c) * g.stride));
-                        let mut a = [zero(); C];
-                        let mut b = [zero(); C];
-                        // Vector `v` of taps: chunk `v / S`, sub-vector `v % S`.
-                        let at = |v: usize| blk.add((v / S) * (O + 1) * CH + (v % S) * W);
-                        let taps = |p: *const $t| {
-                            let mut t = load(p.add(O * CH));
-                            let mut r = O;
-                            while r > 0 {
-                                r -= 1;
-                                t = fma(load(p.add(r * CH)), t, f);
-                            }
-                            t
-                        };
-                        let mut v = 0;
-                        while v + 2 <= full {
-                            let t0 = taps(at(v));
-                            let t1 = taps(at(v + 1));
+                    }
+                    let blk: [*const $t; N] = core::array::from_fn(|i| table.add(g.blocks[k + i]));
+                    let f: [V; N] = core::array::from_fn(|i| splat(g.fracs.as_ptr().add(k + i)));
+                    let x: [[*const $t; C]; N] = core::array::from_fn(|i| {
+                        core::array::from_fn(|c| hist.add(g.starts[k + i] + (c0 + c) * g.stride))
+                    });
+                    let mut a = [[zero(); C]; N];
+                    let mut b = [[zero(); C]; N];
+                    // Vector `v` of taps: chunk `v / S`, sub-vector `v % S`.
+                    let at = |i: usize, v: usize| blk[i].add((v / S) * (O + 1) * CH + (v % S) * W);
+                    // Horner's rule from the top row down, the same steps for loaded or
+                    // shared rows.
+                    let horner = |rows: &[V; 4], f: V| {
+                        let mut t = rows[O];
+                        let mut r = O;
+                        while r > 0 {
+                            r -= 1;
+                            t = fma(rows[r], t, f);
+                        }
+                        t
+                    };
+                    let rows_at = |p: *const $t| -> [V; 4] {
+                        core::array::from_fn(|r| if r <= O { load(p.add(r * CH)) } else { zero() })
+                    };
+                    let taps = |v: usize| -> [V; N] {
+                        if SH {
+                            let rows = rows_at(at(0, v));
+                            core::array::from_fn(|i| horner(&rows, f[i]))
+                        } else {
+                            core::array::from_fn(|i| horner(&rows_at(at(i, v)), f[i]))
+                        }
+                    };
+                    let mut v = 0;
+                    while v + 2 <= full {
+                        let t0 = taps(v);
+                        let t1 = taps(v + 1);
+                        for i in 0..N {
                             for c in 0..C {
-                                a[c] = fma(a[c], t0, load(x[c].add(v * W)));
-                                b[c] = fma(b[c], t1, load(x[c].add(v * W + W)));
+                                a[i][c] = fma(a[i][c], t0[i], load(x[i][c].add(v * W)));
+                                b[i][c] = fma(b[i][c], t1[i], load(x[i][c].add(v * W + W)));
                             }
-                            v += 2;
                         }
-                        if v < full {
-                            let t0 = taps(at(v));
+                        v += 2;
+                    }
+                    if v < full {
+                        let t0 = taps(v);
+                        for i in 0..N {
                             for c in 0..C {
-                                a[c] = fma(a[c], t0, load(x[c].add(v * W)));
-                            }
-                            v += 1;
-                        }
-                        if tail > 0 {
-                            // The padded taps past `cols` are zero; the inputs are masked.
-                            let t = taps(at(v));
-                            if v % 2 == 0 {
-                                for c in 0..C {
-                                    a[c] = fma(a[c], t, partial(x[c].add(v * W), tail));
-                                }
-                            } else {
-                                for c in 0..C {
-                                    b[c] = fma(b[c], t, partial(x[c].add(v * W), tail));
-                                }
+                                a[i][c] = fma(a[i][c], t0[i], load(x[i][c].add(v * W)));
                             }
                         }
+                        v += 1;
+                    }
+                    if tail > 0 {
+                        // The padded taps past `cols` are zero; the inputs are masked.
+                        let t = taps(v);
+                        for i in 0..N {
+                            for c in 0..C {
+                                let xv = partial(x[i][c].add(v * W), tail);
+                                if v % 2 == 0 {
+                                    a[i][c] = fma(a[i][c], t[i], xv);
+                                } else {
+                                    b[i][c] = fma(b[i][c], t[i], xv);
+                                }
+                            }
+                        }
+                    }
+                    for i in 0..N {
                         for c in 0..C {
-                            *o.add(k * g.channels + c0 + c) = hsum(add(a[c], b[c]));
+                            *o.add((k + i) * g.channels + c0 + c) = hsum(add(a[i][c], b[i][c]));
                         }
                     }
                 }
-                C
             }
         }
     };

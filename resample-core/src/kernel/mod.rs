@@ -61,7 +61,9 @@ pub type DotFn<T> = fn(&[T], &[T]) -> T;
 pub(crate) type GroupsFn<T> = fn(&GroupSpan<'_, T>, &[&[T]], &mut [T]);
 
 /// The any-ratio engine's runs of outputs (see [`KernelFns::glide_run`]).
-pub(crate) type GlideRunFn<T> = fn(&GlideRun<'_, T>, &mut [T]);
+/// Returns whether the run fit (`GlideRun::fits`) and was computed; nothing is written
+/// otherwise.
+pub(crate) type GlideRunFn<T> = fn(&GlideRun<'_, T>, &mut [T]) -> bool;
 
 /// Consecutive groups of a [`crate::table::GroupTable`] as one kernel call takes them
 /// ([`KernelFns::span`]): group `g` has taps `taps[g rows lanes..][..rows lanes]` (row `r`,
@@ -231,14 +233,14 @@ impl<T: Sample> KernelFns<T> {
     /// values.
     #[inline]
     pub fn glide_run(&self, g: &GlideRun<'_, T>, out: &mut [T]) -> Result<()> {
-        if !g.fits(out.len()) {
+        // The kernel checks the run once (`GlideRun::fits`) before it reads or writes.
+        if !(self.glide_run)(g, out) {
             return Err(Error::BufferShape {
                 what: "glide run (order 1 or 3, blocks and inputs inside their slices, one output per output and channel)",
                 expected: g.blocks.len() * g.channels,
                 got: out.len(),
             });
         }
-        (self.glide_run)(g, out);
         Ok(())
     }
 
