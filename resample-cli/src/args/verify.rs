@@ -1,7 +1,6 @@
 //! Flags of `rerate verify`.
 
 use clap::Args;
-use resample_core::measure;
 
 use super::rate::parse_rate;
 use super::{parse_bits, PhaseArg, ReportArgs};
@@ -45,8 +44,11 @@ pub struct VerifyArgs {
     #[arg(long, value_name = "PPM", value_parser = crate::clock::parse_clock_ppm, allow_negative_numbers = true, default_value = "0")]
     pub clock_ppm: crate::clock::ClockPpm,
     /// Sweep duration in seconds (longer sweeps resolve the stopband edge more finely).
-    #[arg(long, default_value_t = measure::DEFAULT_SECONDS)]
-    pub seconds: f64,
+    /// Default 10, or 40 where the rate pair measured leaves the edge probes little room
+    /// (whole rates with a small common divisor, as clock corrections often measure: e.g.
+    /// 47988 -> 8000 Hz), so that the sweep itself resolves the band next to the edge.
+    #[arg(long)]
+    pub seconds: Option<f64>,
     /// How to report.
     #[command(flatten)]
     pub report: ReportArgs,

@@ -371,6 +371,37 @@ fn a_pair_over_the_fixed_table_budget_converts_and_verifies_on_the_any_ratio_eng
 }
 
 #[test]
+fn verify_sweeps_slower_where_the_probes_have_little_room() {
+    // -250 ppm at 48k -> 8k is measured between 47988 and 8000 Hz (common divisor 4): the
+    // edge probes fit two tones, so the 10 s sweep's frames next to the edge count and
+    // read the transition band (127.3 dB for a 140.57 dB design, measured). verify then
+    // sweeps four times slower by itself; an explicit --seconds is kept.
+    let dir = tempfile::tempdir().unwrap();
+    let run = |extra: &[&str]| {
+        let mut args = vec![
+            "verify",
+            "--in-rate",
+            "48000",
+            "--out-rate",
+            "8000",
+            "--stopband-db",
+            "140",
+            "--json",
+            "--clock-ppm=-250",
+        ];
+        args.extend_from_slice(extra);
+        let o = rerate(dir.path(), &args);
+        (o.status.code(), json_of(&out(&o)))
+    };
+    let (code, v) = run(&[]);
+    assert_eq!(code, Some(0), "{v}");
+    assert_eq!(v["sweep_seconds"].as_f64(), Some(40.0), "{v}");
+    assert!(v["rejection_db"].as_f64().unwrap() >= 140.0, "{v}");
+    let (_, v) = run(&["--seconds", "5"]);
+    assert_eq!(v["sweep_seconds"].as_f64(), Some(5.0), "{v}");
+}
+
+#[test]
 fn verify_and_design_with_a_clock_correction_measure_the_any_ratio_engine() {
     let dir = tempfile::tempdir().unwrap();
     for (a, b, ppm, db) in [

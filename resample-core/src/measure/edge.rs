@@ -294,6 +294,20 @@ impl Probes {
         self.edge_tone
     }
 
+    /// How far from the edge the tones reach, Hz (the largest distance of a tone from it).
+    /// Up to the last of [`OFFSETS_HZ`] (200 Hz) for most pairs; a pair of whole rates with
+    /// a small common divisor (e.g. 47988 -> 8000 Hz, divisor 4) leaves room for a few
+    /// tones only, because each tone's images then fall on every bin of its residue
+    /// classes. The sweep's frames next to the edge, which read the transition band too,
+    /// count where the tones do not reach.
+    pub fn reach_hz(&self) -> f64 {
+        let edge = self.edge_hz();
+        self.tones
+            .iter()
+            .map(|&f| (f64::from(f) - edge).abs())
+            .fold(0.0, f64::max)
+    }
+
     /// The tones' frequencies, Hz.
     pub fn tones(&self) -> &[u32] {
         &self.tones
@@ -600,6 +614,10 @@ mod tests {
         assert_eq!(odd.edge_tone(), None);
         assert_eq!(odd.steady_len(), (1.3 * 11_025.0_f64).round() as usize);
         assert_eq!(Probes::steady_len_for(48_000, 44_100), 2 * 62_400);
+        // The tones reach the last offset, except where a small common divisor of the
+        // rates leaves room for few (47988 -> 8000 Hz: divisor 4).
+        assert_eq!(Probes::new(48_000, 8_000, 0.5).unwrap().reach_hz(), 200.0);
+        assert!(Probes::new(47_988, 8_000, 0.5).unwrap().reach_hz() < 10.0);
     }
 
     /// The probe section through `filter` (taps at the higher rate), zero-stuffed by 2 or

@@ -381,12 +381,7 @@ fn analyse_with_input(
     let (frames_end, skip) = match &probes {
         Some(p) => {
             let end = ((sweep.probe_start() - 0.1) * b_hz + tau).floor().max(0.0) as usize;
-            let span = p
-                .tones()
-                .iter()
-                .map(|&f| (f64::from(f) - p.edge_hz()).abs())
-                .fold(0.0, f64::max);
-            let skip = (b_hz < a_hz).then_some((lower_nyq, lower_nyq + span));
+            let skip = (b_hz < a_hz).then_some((lower_nyq, lower_nyq + p.reach_hz()));
             (end.min(y.len()), skip)
         }
         None => (y.len(), None),
