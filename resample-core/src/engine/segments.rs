@@ -250,57 +250,10 @@ fn run_segment<T: Sample>(
     pieces: &[&[T]],
     out: &mut Vec<T>,
 ) -> Result<()> {
-    let ch = conv.channels();
-    conv.reset();
-    let total = seg.skip + seg.keep;
-    // Room for the kept outputs (at least one frame); the outputs to drop are written at
-    // its start, each over the one before, and the kept ones over them, so nothing is moved
-    // afterwards. Every sample kept is written below: a recycled buffer is only cut or
-    // grown to size.
-    let room = seg.keep.max(1);
-    if out.len() >= room * ch {
-        out.truncate(room * ch);
-    } else {
-        out.resize(room * ch, T::zero());
-    }
-    // Where output frame `written` of the segment (dropped ones counted) goes.
-    let dest = |written: usize| {
-        if written < seg.skip {
-            0..(seg.skip - written).min(room) * ch
-        } else {
-            (written - seg.skip) * ch..room * ch
-        }
-    };
-    let mut written = 0;
-    for piece in pieces {
-        let mut read = 0;
-        // Past the piece's end too, with no input, while outputs made ready by its input
-        // are still waiting for room (a call takes up to a block of input whatever room
-        // it has for the outputs).
-        while written < total {
-            let p = conv.process_interleaved(&piece[read * ch..], &mut out[dest(written)])?;
-            read += p.frames_read;
-            written += p.frames_written;
-            if p.frames_read == 0 && p.frames_written == 0 {
-                break;
-            }
-        }
-    }
-    while seg.last && written < total {
-        let k = conv.flush_interleaved(&mut out[dest(written)])?;
-        if k == 0 {
-            break;
-        }
-        written += k;
-    }
-    if written != total {
-        return Err(Error::BufferShape {
-            what: "output frames of a segment",
-            expected: total,
-            got: written,
-        });
-    }
-    out.truncate(seg.keep * ch);
+    // One piece as long as the kept outputs: they are written straight into `out`, the
+    // dropped ones at its start each over the one before, so nothing is moved afterwards.
+    run_segment_pieces(conv, seg, pieces, seg.keep, out, |_| {})?;
+    out.truncate(seg.keep * conv.channels());
     Ok(())
 }
 
@@ -344,7 +297,9 @@ fn run_segment_pieces<T: Sample>(
     };
     for piece in pieces {
         let mut read = 0;
-        // Past the piece's end too (see `run_segment`).
+        // Past the piece's end too, with no input, while outputs made ready by its input
+        // are still waiting for room (a call takes up to a block of input whatever room
+        // it has for the outputs).
         while written < total {
             let p = conv.process_interleaved(&piece[read * ch..], &mut buf[dest(written, held)])?;
             read += p.frames_read;
