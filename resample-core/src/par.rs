@@ -35,7 +35,7 @@ mod sequential {
     }
 
     /// A sequential iterator with rayon's method signatures (`fold` and `reduce` take an
-    /// identity closure, `with_min_len` is accepted and ignored).
+    /// identity closure).
     pub(crate) struct Seq<I>(pub(crate) I);
 
     impl<I: Iterator> Seq<I> {
@@ -60,11 +60,6 @@ mod sequential {
         /// As rayon's `zip`.
         pub(crate) fn zip<J: Iterator>(self, other: Seq<J>) -> Seq<core::iter::Zip<I, J>> {
             Seq(self.0.zip(other.0))
-        }
-
-        /// As rayon's `with_min_len`: one piece anyway.
-        pub(crate) fn with_min_len(self, _min: usize) -> Self {
-            self
         }
 
         /// As rayon's `for_each`.
@@ -168,7 +163,6 @@ mod sequential {
             assert_eq!((a, b), (1, 2));
             let r: Result<(), u32> = (0..5usize)
                 .into_par_iter()
-                .with_min_len(2)
                 .try_for_each(|i| if i == 3 { Err(3) } else { Ok(()) });
             assert_eq!(r, Err(3));
             assert_eq!(current_num_threads(), 1);

@@ -155,19 +155,19 @@ impl Measurer {
     fn size_for(&mut self, sub: usize) -> Arc<dyn Fft<f64>> {
         self.forget_other_plans(sub);
         let fft = self.planner.plan_fft_forward(sub);
-        let scratch = fft.get_inplace_scratch_len();
+        // The buffers are only allocated here; their pages are first touched by the worker
+        // that fills them (zeroed allocations of fresh memory cost nothing until written),
+        // so a fresh process's page faults are taken on both cores, not before the work.
         self.grids.resize_with(GRIDS, Vec::new);
         for g in &mut self.grids {
-            g.resize(sub, 0.0);
+            if g.len() != sub {
+                *g = vec![0.0; sub];
+            }
         }
         let workers = GRIDS
             .div_ceil(grids_per_worker())
             .max(PAIRS.div_ceil(pairs_per_worker()));
         self.work.resize_with(workers, Default::default);
-        for (buf, scr) in &mut self.work {
-            buf.resize(sub, Complex::new(0.0, 0.0));
-            scr.resize(scratch, Complex::new(0.0, 0.0));
-        }
         fft
     }
 
@@ -200,6 +200,7 @@ impl Measurer {
     /// conjugate), so each is computed once.
     fn spectrum_paired(&mut self, taps: &[f64], sub: usize) {
         let fft = self.size_for(sub);
+        let scratch_len = fft.get_inplace_scratch_len();
         let size = sub * OVERSAMPLE;
         let c = taps.len() / 2;
         let tw = Twiddles::new(size);
@@ -209,8 +210,10 @@ impl Measurer {
             .par_chunks_mut(2 * per)
             .zip(self.work.par_iter_mut())
             .enumerate()
-            .for_each(|(w, (mags, (buf, scratch)))| {
+            .for_each(|(w, (mags, work))| {
                 for (i, pair) in mags.chunks_mut(2).enumerate() {
+                    ready(work, sub, scratch_len);
+                    let (buf, scratch) = work;
                     let r0 = 2 * (w * per + i);
                     // The second sub-grid of the pair, or none (then its twiddles are 0).
                     let (r1, second) = if pair.len() == 2 {
@@ -218,7 +221,6 @@ impl Measurer {
                     } else {
                         (0, 0.0)
                     };
-                    buf.iter_mut().for_each(|v| *v = Complex::new(0.0, 0.0));
                     buf[0] = Complex::new(taps[c], second * taps[c]);
                     // Tap `c + n` sits at `n mod sub`, tap `c - n` at `-n mod sub`; their
                     // factors are e^{-j 2 pi (n r mod N) / N} and its conjugate.
@@ -249,7 +251,7 @@ impl Measurer {
                             }
                         },
                     );
-                    fft.process_with_scratch(buf, scratch);
+                    fft.process_with_scratch(buf, &mut scratch[..scratch_len]);
                     let (first, rest) = pair.split_at_mut(1);
                     for (m, v) in first[0].iter_mut().zip(buf.iter()) {
                         *m = v.re.abs();
@@ -266,6 +268,7 @@ impl Measurer {
     /// [`Measurer::spectrum`] for any taps: one FFT per sub-grid.
     fn spectrum_general(&mut self, taps: &[f64], sub: usize) {
         let fft = self.size_for(sub);
+        let scratch_len = fft.get_inplace_scratch_len();
         let size = sub * OVERSAMPLE;
         // Taps past the grid's length would wrap around it: they are left out, as a plain
         // N-point FFT of the first N taps would.
@@ -277,10 +280,11 @@ impl Measurer {
             .par_chunks_mut(per)
             .zip(self.work.par_iter_mut())
             .enumerate()
-            .for_each(|(w, (mags, (buf, scratch)))| {
+            .for_each(|(w, (mags, work))| {
                 for (i, mag) in mags.iter_mut().enumerate() {
                     let r = w * per + i;
-                    buf.iter_mut().for_each(|v| *v = Complex::new(0.0, 0.0));
+                    ready(work, sub, scratch_len);
+                    let (buf, scratch) = work;
                     // Tap n goes to n mod M (the sub-grid's FFT is M-periodic in n), times
                     // e^{-j 2 pi (n r mod N) / N}.
                     let mut j = 0usize;
@@ -299,7 +303,7 @@ impl Measurer {
                             }
                         },
                     );
-                    fft.process_with_scratch(buf, scratch);
+                    fft.process_with_scratch(buf, &mut scratch[..scratch_len]);
                     for (m, c) in mag.iter_mut().zip(buf.iter()) {
                         *m = c.norm_sqr().sqrt();
                     }
@@ -333,45 +337,45 @@ impl Measurer {
         const GRID_LOSS: f64 = 0.9;
         let peaks = &mut self.peaks;
         peaks.clear();
-        // The scan runs in parallel pieces, each keeping only the peaks within GRID_LOSS of
-        // the largest it has seen so far (a superset of those within GRID_LOSS of the
-        // largest of all, which the retain below keeps), in order of frequency.
+        // Only local peaks within GRID_LOSS of the stopband's largest bin can ever be
+        // refined (the running best starts there and only grows; the rest sort after them,
+        // and the first of them stops the walk below). The largest bin is itself a local
+        // peak, so it is the largest of the peaks. Both passes read the sub-grids as the
+        // contiguous runs the stopband's bins fall on (see `runs`), eight values at a
+        // time, the runs in parallel.
+        let runs: Vec<_> = runs(stop_start, bins, sub).collect();
+        let largest = runs
+            .par_iter()
+            .map(|&(_, g, from, to)| slice_max(&grids[g][from..to]))
+            .reduce(|| 0.0, f64::max);
+        let least = largest * GRID_LOSS;
         let is_peak = |k: usize, m: f64| {
             (k == stop_start || m >= mag(k - 1)) && (k == bins || m >= mag(k + 1))
         };
-        peaks.extend(
-            (stop_start..bins + 1)
-                .into_par_iter()
-                .with_min_len(1 << 14)
-                .fold(
-                    || (0.0_f64, Vec::new()),
-                    |(best, mut found), k| {
-                        let m = mag(k);
-                        // (A NaN fails the first test, as it fails `is_peak`.)
-                        if m >= best * GRID_LOSS && is_peak(k, m) {
-                            found.push((m, k));
-                            (best.max(m), found)
-                        } else {
-                            (best, found)
+        let found: Vec<Vec<(f64, usize)>> = runs
+            .par_iter()
+            .map(|&(r, g, from, to)| {
+                let mut found = Vec::new();
+                for (c, eight) in grids[g][from..to].chunks(8).enumerate() {
+                    if slice_max(eight) < least {
+                        continue;
+                    }
+                    for (i, &m) in eight.iter().enumerate() {
+                        // (A NaN fails the test, as it fails `is_peak`.)
+                        if m >= least {
+                            let k = bin_index(r, from + 8 * c + i, sub);
+                            if is_peak(k, m) {
+                                found.push((m, k));
+                            }
                         }
-                    },
-                )
-                .map(|(_, found)| found)
-                .reduce(Vec::new, |mut a, b| {
-                    a.extend(b);
-                    a
-                }),
-        );
-        // Only peaks within GRID_LOSS of the largest can ever be refined (the running best
-        // starts there and only grows; the rest sort after them, and the first of them
-        // stops the walk). Those are refined in parallel, then taken in the same order,
-        // with the same stopping rule, as one at a time. (A NaN, from non-finite taps,
-        // would sort out of place: then every peak is kept.)
-        if !peaks.iter().any(|p| p.0.is_nan()) {
-            let first = peaks.iter().fold(0.0_f64, |a, p| a.max(p.0));
-            peaks.retain(|p| p.0 >= first * GRID_LOSS);
-        }
-        peaks.sort_by(|a, b| b.0.total_cmp(&a.0));
+                    }
+                }
+                found
+            })
+            .collect();
+        peaks.extend(found.into_iter().flatten());
+        // Largest first; equal values in order of frequency.
+        peaks.sort_by(|a, b| b.0.total_cmp(&a.0).then(a.1.cmp(&b.1)));
         let mut speak = peaks.first().map_or(0.0, |p| p.0);
         let bin = 1.0 / size as f64;
         let peaks = &*peaks;
@@ -455,6 +459,68 @@ fn bin(grids: &[Vec<f64>], sub: usize, k: usize) -> f64 {
         grids[s][m]
     } else {
         grids[OVERSAMPLE - s][sub - 1 - m]
+    }
+}
+
+/// The bins `lo..=hi` (`hi` at most `OVERSAMPLE sub / 2`) as runs of sub-grid values:
+/// `(s, grid, from, to)` for the bins of residue `s`, `grids[grid][from..to]`. Bins `OVERSAMPLE m + s` of one residue
+/// `s` are one run: sub-grid `s` at `m` (`s < GRIDS`), or its mirror image, sub-grid
+/// `OVERSAMPLE - s` at `sub - 1 - m` (see [`bin`]).
+fn runs(lo: usize, hi: usize, sub: usize) -> impl Iterator<Item = (usize, usize, usize, usize)> {
+    (0..OVERSAMPLE).filter_map(move |s| {
+        // Bins k = OVERSAMPLE m + s with lo <= k <= hi.
+        let m_lo = lo.saturating_sub(s).div_ceil(OVERSAMPLE);
+        if s > hi {
+            return None;
+        }
+        let m_hi = (hi - s) / OVERSAMPLE;
+        if m_lo > m_hi {
+            return None;
+        }
+        Some(if s < GRIDS {
+            (s, s, m_lo, m_hi + 1)
+        } else {
+            (s, OVERSAMPLE - s, sub - 1 - m_hi, sub - m_lo)
+        })
+    })
+}
+
+/// The bin of residue `s` whose value is `grids[grid][j]` (see [`runs`]).
+fn bin_index(s: usize, j: usize, sub: usize) -> usize {
+    if s < GRIDS {
+        OVERSAMPLE * j + s
+    } else {
+        OVERSAMPLE * (sub - 1 - j) + s
+    }
+}
+
+/// Largest value of `v` (0 for none; NaNs are passed over), in lanes that vectorize.
+fn slice_max(v: &[f64]) -> f64 {
+    let mut lanes = [0.0_f64; 8];
+    let mut chunks = v.chunks_exact(8);
+    for c in &mut chunks {
+        for (l, &x) in lanes.iter_mut().zip(c) {
+            *l = if x > *l { x } else { *l };
+        }
+    }
+    chunks
+        .remainder()
+        .iter()
+        .chain(&lanes)
+        .fold(0.0, |a, &x| if x > a { x } else { a })
+}
+
+/// Size a worker's FFT buffer (`sub` points, zeroed) and scratch (`scratch` points) for its
+/// next transform: allocated on the worker's first use, zeroed in place after that.
+fn ready(work: &mut Work, sub: usize, scratch: usize) {
+    let (buf, scr) = work;
+    if buf.len() == sub {
+        buf.iter_mut().for_each(|v| *v = Complex::new(0.0, 0.0));
+    } else {
+        *buf = vec![Complex::new(0.0, 0.0); sub];
+    }
+    if scr.len() < scratch {
+        *scr = vec![Complex::new(0.0, 0.0); scratch];
     }
 }
 
@@ -810,6 +876,44 @@ mod tests {
             .collect();
         FftPlanner::new().plan_fft_forward(n).process(&mut buf);
         buf[..=n / 2].iter().map(|c| c.norm()).collect()
+    }
+
+    #[test]
+    fn runs_cover_each_bin_once() {
+        // Every bin from lo to hi, read through the runs, is the bin `bin` reads, once.
+        for sub in [256, 270, 4096 / OVERSAMPLE] {
+            let grids: Vec<Vec<f64>> = (0..GRIDS)
+                .map(|g| (0..sub).map(|m| (g * 100_000 + m) as f64).collect())
+                .collect();
+            let top = OVERSAMPLE * sub / 2;
+            for (lo, hi) in [
+                (0, top),
+                (1, top),
+                (17, top),
+                (top - 3, top),
+                (5, 5),
+                (40, 61),
+            ] {
+                let mut seen = vec![0; top + 1];
+                for (r, g, from, to) in runs(lo, hi, sub) {
+                    for j in from..to {
+                        let k = bin_index(r, j, sub);
+                        assert!((lo..=hi).contains(&k), "bin {k} outside {lo}..={hi}");
+                        assert_eq!(grids[g][j], bin(&grids, sub, k), "bin {k}");
+                        seen[k] += 1;
+                    }
+                }
+                assert!(seen[lo..=hi].iter().all(|&n| n == 1), "{sub} {lo} {hi}");
+            }
+        }
+    }
+
+    #[test]
+    fn slice_max_passes_nan_over() {
+        assert_eq!(slice_max(&[]), 0.0);
+        let v: Vec<f64> = (0..37).map(|i| ((i * 7) % 37) as f64).collect();
+        assert_eq!(slice_max(&v), 36.0);
+        assert_eq!(slice_max(&[1.0, f64::NAN, 3.0, 2.0]), 3.0);
     }
 
     #[test]
