@@ -57,11 +57,6 @@ mod sequential {
             Seq(self.0.enumerate())
         }
 
-        /// As rayon's `zip`.
-        pub(crate) fn zip<J: Iterator>(self, other: Seq<J>) -> Seq<core::iter::Zip<I, J>> {
-            Seq(self.0.zip(other.0))
-        }
-
         /// As rayon's `for_each`.
         pub(crate) fn for_each<F: FnMut(I::Item)>(self, f: F) {
             self.0.for_each(f)
@@ -161,9 +156,10 @@ mod sequential {
             assert_eq!(w, [0, 0, 0, 1, 1, 1, 2]);
             let (a, b) = join(|| 1, || 2);
             assert_eq!((a, b), (1, 2));
-            let r: Result<(), u32> = (0..5usize)
-                .into_par_iter()
-                .try_for_each(|i| if i == 3 { Err(3) } else { Ok(()) });
+            let r: Result<(), u32> =
+                (0..5usize)
+                    .into_par_iter()
+                    .try_for_each(|i| if i == 3 { Err(3) } else { Ok(()) });
             assert_eq!(r, Err(3));
             assert_eq!(current_num_threads(), 1);
         }

@@ -74,8 +74,8 @@ pub struct Measurer {
     planner: FftPlanner<f64>,
     /// Sub-grid FFT length the planner holds a plan for (0: none).
     planned: usize,
-    /// Magnitudes of each computed sub-grid.
-    grids: Vec<Vec<f64>>,
+    /// The factors `e^{-j 2 pi j / N}` of the grid of `OVERSAMPLE planned` points.
+    twiddles: Twiddles,
     /// FFT buffer and scratch of each worker (a few sub-grids each, one after another).
     work: Vec<Work>,
     peaks: Vec<(f64, usize)>,
@@ -97,8 +97,9 @@ impl Default for Measurer {
     }
 }
 
-/// One worker's FFT buffer and scratch.
-type Work = (Vec<Complex<f64>>, Vec<Complex<f64>>);
+/// One worker's FFT buffer, FFT scratch, and the magnitudes of the sub-grid it has just
+/// computed.
+type Work = (Vec<Complex<f64>>, Vec<Complex<f64>>, Vec<f64>);
 
 /// Sub-grids computed: `0..=OVERSAMPLE / 2` (the others mirror them).
 const GRIDS: usize = OVERSAMPLE / 2 + 1;
@@ -107,7 +108,8 @@ const FINE: usize = 64;
 
 /// `e^{-j 2 pi j / N}` for any `j < N`, as the product of a coarse and a fine table entry
 /// (`N / 64 + 64` evaluations of `sin_cos` instead of `N`; each product is within a few
-/// rounding errors of the exact value).
+/// rounding errors of the exact value). The default has no entries (no grid yet).
+#[derive(Default)]
 struct Twiddles {
     coarse: Vec<Complex<f64>>,
     fine: Vec<Complex<f64>>,
@@ -137,7 +139,7 @@ impl Measurer {
         Self {
             planner: FftPlanner::new(),
             planned: 0,
-            grids: Vec::new(),
+            twiddles: Twiddles::default(),
             work: Vec::new(),
             peaks: Vec::new(),
             width: Width::detect(),
@@ -155,15 +157,8 @@ impl Measurer {
     fn size_for(&mut self, sub: usize) -> Arc<dyn Fft<f64>> {
         self.forget_other_plans(sub);
         let fft = self.planner.plan_fft_forward(sub);
-        // The buffers are only allocated here; their pages are first touched by the worker
-        // that fills them (zeroed allocations of fresh memory cost nothing until written),
-        // so a fresh process's page faults are taken on both cores, not before the work.
-        self.grids.resize_with(GRIDS, Vec::new);
-        for g in &mut self.grids {
-            if g.len() != sub {
-                *g = vec![0.0; sub];
-            }
-        }
+        // The workers' buffers are allocated by the workers themselves (see `ready`), so a
+        // fresh process's page faults are taken on both cores, not before the work.
         let workers = GRIDS
             .div_ceil(grids_per_worker())
             .max(PAIRS.div_ceil(pairs_per_worker()));
@@ -175,18 +170,28 @@ impl Measurer {
     fn forget_other_plans(&mut self, sub: usize) {
         if self.planned != sub {
             self.planner = FftPlanner::new();
+            self.twiddles = Twiddles::new(sub * OVERSAMPLE);
             self.planned = sub;
         }
     }
 
-    /// Fill the sub-grids with the magnitude spectrum of `taps` on `OVERSAMPLE sub` points
-    /// (plans and buffers for `sub` are made if needed); read bins with [`bin`]. Symmetric
-    /// taps of odd length that fit the grid take the paired path ([`Measurer::spectrum_paired`]).
-    fn spectrum(&mut self, taps: &[f64], sub: usize) {
+    /// The magnitude spectrum of `taps` on `OVERSAMPLE sub` points, sub-grid by sub-grid
+    /// (plans and buffers for `sub` are made if needed): `per_grid(r, values)` is called
+    /// on a worker with each sub-grid `r < GRIDS` as soon as it is computed, and its
+    /// results come back in the order of `r` (bin `k` of the whole grid is read as
+    /// `bin` reads it). The sub-grids are not kept: what the caller needs of them is what
+    /// `per_grid` returns. Symmetric taps of odd length that fit the grid take the paired
+    /// path ([`Measurer::spectrum_paired`]).
+    fn spectrum<T: Send>(
+        &mut self,
+        taps: &[f64],
+        sub: usize,
+        per_grid: impl Fn(usize, &[f64]) -> T + Sync,
+    ) -> Vec<T> {
         if taps.len() <= sub * OVERSAMPLE && is_symmetric(taps) {
-            self.spectrum_paired(taps, sub);
+            self.spectrum_paired(taps, sub, per_grid)
         } else {
-            self.spectrum_general(taps, sub);
+            self.spectrum_general(taps, sub, per_grid)
         }
     }
 
@@ -198,29 +203,34 @@ impl Measurer {
     /// `r` in its real part and sub-grid `r + 1` in its imaginary part (linearity of the
     /// DFT, common practice, no source). Taps `n` and `-n` share one twiddle factor (its
     /// conjugate), so each is computed once.
-    fn spectrum_paired(&mut self, taps: &[f64], sub: usize) {
+    fn spectrum_paired<T: Send>(
+        &mut self,
+        taps: &[f64],
+        sub: usize,
+        per_grid: impl Fn(usize, &[f64]) -> T + Sync,
+    ) -> Vec<T> {
         let fft = self.size_for(sub);
         let scratch_len = fft.get_inplace_scratch_len();
         let size = sub * OVERSAMPLE;
         let c = taps.len() / 2;
-        let tw = Twiddles::new(size);
+        let tw = &self.twiddles;
         let per = pairs_per_worker();
         let width = self.width;
-        self.grids
-            .par_chunks_mut(2 * per)
-            .zip(self.work.par_iter_mut())
+        let done: Vec<Vec<T>> = self.work[..PAIRS.div_ceil(per)]
+            .par_iter_mut()
             .enumerate()
-            .for_each(|(w, (mags, work))| {
-                for (i, pair) in mags.chunks_mut(2).enumerate() {
-                    ready(work, sub, scratch_len);
-                    let (buf, scratch) = work;
-                    let r0 = 2 * (w * per + i);
+            .map(|(w, work)| {
+                let mut done = Vec::with_capacity(2 * per);
+                for pair in w * per..((w + 1) * per).min(PAIRS) {
+                    let r0 = 2 * pair;
                     // The second sub-grid of the pair, or none (then its twiddles are 0).
-                    let (r1, second) = if pair.len() == 2 {
+                    let (r1, second) = if r0 + 1 < GRIDS {
                         (r0 + 1, 1.0)
                     } else {
                         (0, 0.0)
                     };
+                    ready(work, sub, scratch_len);
+                    let (buf, scratch, mags) = work;
                     buf[0] = Complex::new(taps[c], second * taps[c]);
                     // Tap `c + n` sits at `n mod sub`, tap `c - n` at `-n mod sub`; their
                     // factors are e^{-j 2 pi (n r mod N) / N} and its conjugate.
@@ -252,39 +262,47 @@ impl Measurer {
                         },
                     );
                     fft.process_with_scratch(buf, &mut scratch[..scratch_len]);
-                    let (first, rest) = pair.split_at_mut(1);
-                    for (m, v) in first[0].iter_mut().zip(buf.iter()) {
+                    for (m, v) in mags.iter_mut().zip(buf.iter()) {
                         *m = v.re.abs();
                     }
-                    if let Some(g) = rest.first_mut() {
-                        for (m, v) in g.iter_mut().zip(buf.iter()) {
+                    done.push(per_grid(r0, mags));
+                    if second != 0.0 {
+                        for (m, v) in mags.iter_mut().zip(buf.iter()) {
                             *m = v.im.abs();
                         }
+                        done.push(per_grid(r1, mags));
                     }
                 }
-            });
+                done
+            })
+            .collect();
+        done.into_iter().flatten().collect()
     }
 
     /// [`Measurer::spectrum`] for any taps: one FFT per sub-grid.
-    fn spectrum_general(&mut self, taps: &[f64], sub: usize) {
+    fn spectrum_general<T: Send>(
+        &mut self,
+        taps: &[f64],
+        sub: usize,
+        per_grid: impl Fn(usize, &[f64]) -> T + Sync,
+    ) -> Vec<T> {
         let fft = self.size_for(sub);
         let scratch_len = fft.get_inplace_scratch_len();
         let size = sub * OVERSAMPLE;
         // Taps past the grid's length would wrap around it: they are left out, as a plain
         // N-point FFT of the first N taps would.
         let taps = &taps[..taps.len().min(size)];
-        let tw = Twiddles::new(size);
+        let tw = &self.twiddles;
         let per = grids_per_worker();
         let width = self.width;
-        self.grids
-            .par_chunks_mut(per)
-            .zip(self.work.par_iter_mut())
+        let done: Vec<Vec<T>> = self.work[..GRIDS.div_ceil(per)]
+            .par_iter_mut()
             .enumerate()
-            .for_each(|(w, (mags, work))| {
-                for (i, mag) in mags.iter_mut().enumerate() {
-                    let r = w * per + i;
+            .map(|(w, work)| {
+                let mut done = Vec::with_capacity(per);
+                for r in w * per..((w + 1) * per).min(GRIDS) {
                     ready(work, sub, scratch_len);
-                    let (buf, scratch) = work;
+                    let (buf, scratch, mags) = work;
                     // Tap n goes to n mod M (the sub-grid's FFT is M-periodic in n), times
                     // e^{-j 2 pi (n r mod N) / N}.
                     let mut j = 0usize;
@@ -304,76 +322,78 @@ impl Measurer {
                         },
                     );
                     fft.process_with_scratch(buf, &mut scratch[..scratch_len]);
-                    for (m, c) in mag.iter_mut().zip(buf.iter()) {
+                    for (m, c) in mags.iter_mut().zip(buf.iter()) {
                         *m = c.norm_sqr().sqrt();
                     }
+                    done.push(per_grid(r, mags));
                 }
-            });
+                done
+            })
+            .collect();
+        done.into_iter().flatten().collect()
     }
 
     /// Measure `taps` as [`measure`] does.
     pub fn measure(&mut self, taps: &[f64], pass: f64, stop: f64) -> Measured {
         let sub = sub_grid_len(taps.len());
-        self.spectrum(taps, sub);
         let size = sub * OVERSAMPLE;
-        let grids = &self.grids;
-        let mag = |k: usize| bin(grids, sub, k);
         let bins = size / 2; // bin k is at frequency k / size; the last is 0.5
         let pass_end = ((pass * size as f64).floor() as usize).min(bins);
         let stop_start = ((stop * size as f64).ceil() as usize).min(bins);
-
+        // Each sub-grid is reduced as it is computed to what is read below (see `Digest`),
+        // so the whole spectrum is never held.
+        let digests = self.spectrum(taps, sub, |r, values| {
+            Digest::of(r, values, sub, pass_end, stop_start, bins)
+        });
+        let mut passband = vec![0.0; pass_end + 1];
+        let mut near = Vec::new();
+        let mut largest = 0.0_f64;
+        for d in digests {
+            for (k, v) in d.pass {
+                passband[k] = v;
+            }
+            near.extend(d.near);
+            largest = largest.max(d.top);
+        }
+        near.sort_unstable_by_key(|&(_, k)| k);
+        // The grid's value at bin `k` where it was kept: the passband, and the stopband
+        // bins within NEAR of the largest of their run.
+        let kept = |k: usize| -> Option<f64> {
+            if k <= pass_end {
+                Some(passband[k])
+            } else {
+                near.binary_search_by_key(&k, |&(_, j)| j)
+                    .ok()
+                    .map(|i| near[i].0)
+            }
+        };
         let (mut pmax, mut pmin) = (0.0_f64, f64::INFINITY);
-        for m in (0..=pass_end).map(mag) {
+        for &m in &passband {
             pmax = pmax.max(m);
             pmin = pmin.min(m);
         }
         // Every local peak of the grid that could still beat the best value found, largest
         // first, refined on the exact response within one bin either side (successive
-        // parabolic interpolation, see `refine`). The narrowest lobes, next to the transition band of a Kaiser design,
-        // are about a third of 1 / taps wide, so the grid has five or more points across
-        // each and sits at most about 0.45 dB (a factor 0.9) under any lobe's top.
-        // (scipy.signal.freqz on a 16 x grid plus the exact edges agrees: see
-        // tests/reference_scipy.rs.)
-        const GRID_LOSS: f64 = 0.9;
-        let peaks = &mut self.peaks;
-        peaks.clear();
+        // parabolic interpolation, see `refine`). The narrowest lobes, next to the
+        // transition band of a Kaiser design, are about a third of 1 / taps wide, so the
+        // grid has five or more points across each and sits at most about 0.45 dB (a
+        // factor 0.9) under any lobe's top. (scipy.signal.freqz on a 16 x grid plus the
+        // exact edges agrees: see tests/reference_scipy.rs.)
+        //
         // Only local peaks within GRID_LOSS of the stopband's largest bin can ever be
         // refined (the running best starts there and only grows; the rest sort after them,
         // and the first of them stops the walk below). The largest bin is itself a local
-        // peak, so it is the largest of the peaks. Both passes read the sub-grids as the
-        // contiguous runs the stopband's bins fall on (see `runs`), eight values at a
-        // time, the runs in parallel.
-        let runs: Vec<_> = runs(stop_start, bins, sub).collect();
-        let largest = runs
-            .par_iter()
-            .map(|&(_, g, from, to)| slice_max(&grids[g][from..to]))
-            .reduce(|| 0.0, f64::max);
+        // peak, so it is the largest of the peaks. Every bin within GRID_LOSS of it was
+        // kept (NEAR <= GRID_LOSS); a neighbour that was not kept is below GRID_LOSS of
+        // it, so below any candidate.
         let least = largest * GRID_LOSS;
-        let is_peak = |k: usize, m: f64| {
-            (k == stop_start || m >= mag(k - 1)) && (k == bins || m >= mag(k + 1))
-        };
-        let found: Vec<Vec<(f64, usize)>> = runs
-            .par_iter()
-            .map(|&(r, g, from, to)| {
-                let mut found = Vec::new();
-                for (c, eight) in grids[g][from..to].chunks(8).enumerate() {
-                    if slice_max(eight) < least {
-                        continue;
-                    }
-                    for (i, &m) in eight.iter().enumerate() {
-                        // (A NaN fails the test, as it fails `is_peak`.)
-                        if m >= least {
-                            let k = bin_index(r, from + 8 * c + i, sub);
-                            if is_peak(k, m) {
-                                found.push((m, k));
-                            }
-                        }
-                    }
-                }
-                found
-            })
-            .collect();
-        peaks.extend(found.into_iter().flatten());
+        let below = |k: usize, m: f64| kept(k).is_none_or(|n| m >= n);
+        let peaks = &mut self.peaks;
+        peaks.clear();
+        peaks.extend(near.iter().copied().filter(|&(m, k)| {
+            // (A NaN fails the first test, as it fails the neighbour tests.)
+            m >= least && (k == stop_start || below(k - 1, m)) && (k == bins || below(k + 1, m))
+        }));
         // Largest first; equal values in order of frequency.
         peaks.sort_by(|a, b| b.0.total_cmp(&a.0).then(a.1.cmp(&b.1)));
         let mut speak = peaks.first().map_or(0.0, |p| p.0);
@@ -387,7 +407,7 @@ impl Measurer {
         let extremes: Vec<(usize, f64)> = if swing > 0.0 {
             (1..pass_end)
                 .filter_map(|k| {
-                    let (p, m, n) = (mag(k - 1), mag(k), mag(k + 1));
+                    let (p, m, n) = (passband[k - 1], passband[k], passband[k + 1]);
                     if m >= p && m >= n && m >= pmax - (1.0 - GRID_LOSS) * swing {
                         Some((k, 1.0))
                     } else if m <= p && m <= n && m <= pmin + (1.0 - GRID_LOSS) * swing {
@@ -400,24 +420,25 @@ impl Measurer {
         } else {
             Vec::new()
         };
+        // The grid's values around a bin, the bracket `refine` starts from (a neighbour
+        // the grid reduction did not keep is evaluated exactly).
+        let around = |k: usize| {
+            [k - 1, k, k + 1].map(|j| kept(j).unwrap_or_else(|| resp.at(j as f64 * bin)))
+        };
         let ((refined, ripple), (at_stop, at_pass)) = join(
             || {
                 join(
                     || -> Vec<f64> {
                         peaks
                             .par_iter()
-                            .map(|&(_, k)| {
-                                let y = [mag(k - 1), mag(k), mag(k + 1)];
-                                refine(&resp, k, bin, y, stop, 0.5, 1.0)
-                            })
+                            .map(|&(_, k)| refine(&resp, k, bin, around(k), stop, 0.5, 1.0))
                             .collect()
                     },
                     || -> Vec<(f64, f64)> {
                         extremes
                             .par_iter()
                             .map(|&(k, sign)| {
-                                let y = [mag(k - 1), mag(k), mag(k + 1)];
-                                (refine(&resp, k, bin, y, 0.0, pass, sign), sign)
+                                (refine(&resp, k, bin, around(k), 0.0, pass, sign), sign)
                             })
                             .collect()
                     },
@@ -444,15 +465,78 @@ impl Measurer {
             stopband_peak: speak.max(at_stop),
             passband_max: pmax.max(at_pass),
             passband_min: pmin.min(at_pass),
-            dc: mag(0),
+            dc: passband[0],
         }
+    }
+}
+
+/// A lobe top on the grid is at most this factor under the lobe's true top (see
+/// [`Measurer::measure`]).
+const GRID_LOSS: f64 = 0.9;
+
+/// Stopband bins at least this factor of the largest of their run are kept by [`Digest`]
+/// (at most [`GRID_LOSS`], so every candidate peak is kept; lower, so that a candidate's
+/// neighbours, which `refine` starts from, usually are too).
+const NEAR: f64 = GRID_LOSS * GRID_LOSS;
+
+/// What the measurement keeps of one sub-grid: its passband bins, its largest stopband
+/// value, and its stopband bins within [`NEAR`] of the largest of their run.
+#[derive(Debug, Default)]
+struct Digest {
+    /// `(bin, value)` of the passband bins `0..=pass_end` on this sub-grid.
+    pass: Vec<(usize, f64)>,
+    /// Largest stopband value on this sub-grid (0 for none; NaNs are passed over).
+    top: f64,
+    /// `(value, bin)` of the stopband bins kept.
+    near: Vec<(f64, usize)>,
+}
+
+impl Digest {
+    /// Reduce sub-grid `grid`'s `values` for the passband bins `0..=pass_end` and the
+    /// stopband bins `stop_start..=bins` (of `OVERSAMPLE sub`).
+    fn of(
+        grid: usize,
+        values: &[f64],
+        sub: usize,
+        pass_end: usize,
+        stop_start: usize,
+        bins: usize,
+    ) -> Self {
+        let mut d = Digest::default();
+        for (r, g, from, to) in runs(0, pass_end, sub) {
+            if g == grid {
+                d.pass
+                    .extend((from..to).map(|j| (bin_index(r, j, sub), values[j])));
+            }
+        }
+        for (r, g, from, to) in runs(stop_start, bins, sub) {
+            if g != grid {
+                continue;
+            }
+            let run = &values[from..to];
+            let top = slice_max(run);
+            d.top = d.top.max(top);
+            let least = top * NEAR;
+            // Eight values at a time: most groups have none to keep.
+            for (c, eight) in run.chunks(8).enumerate() {
+                if slice_max(eight) < least {
+                    continue;
+                }
+                for (i, &m) in eight.iter().enumerate() {
+                    if m >= least {
+                        d.near.push((m, bin_index(r, from + 8 * c + i, sub)));
+                    }
+                }
+            }
+        }
+        d
     }
 }
 
 /// Magnitude of bin `k` (of `OVERSAMPLE sub`) from the sub-grids: bin `OVERSAMPLE m + s` is
 /// sub-grid `s` at `m`, or for `s` past the middle, the mirror image (conjugate) of bin
 /// `N - k`: sub-grid `OVERSAMPLE - s` at `sub - 1 - m`.
-#[inline]
+#[cfg(test)]
 fn bin(grids: &[Vec<f64>], sub: usize, k: usize) -> f64 {
     let (m, s) = (k / OVERSAMPLE, k % OVERSAMPLE);
     if s < GRIDS {
@@ -465,7 +549,7 @@ fn bin(grids: &[Vec<f64>], sub: usize, k: usize) -> f64 {
 /// The bins `lo..=hi` (`hi` at most `OVERSAMPLE sub / 2`) as runs of sub-grid values:
 /// `(s, grid, from, to)` for the bins of residue `s`, `grids[grid][from..to]`. Bins `OVERSAMPLE m + s` of one residue
 /// `s` are one run: sub-grid `s` at `m` (`s < GRIDS`), or its mirror image, sub-grid
-/// `OVERSAMPLE - s` at `sub - 1 - m` (see [`bin`]).
+/// `OVERSAMPLE - s` at `sub - 1 - m` (as `bin` reads them).
 fn runs(lo: usize, hi: usize, sub: usize) -> impl Iterator<Item = (usize, usize, usize, usize)> {
     (0..OVERSAMPLE).filter_map(move |s| {
         // Bins k = OVERSAMPLE m + s with lo <= k <= hi.
@@ -510,10 +594,14 @@ fn slice_max(v: &[f64]) -> f64 {
         .fold(0.0, |a, &x| if x > a { x } else { a })
 }
 
-/// Size a worker's FFT buffer (`sub` points, zeroed) and scratch (`scratch` points) for its
-/// next transform: allocated on the worker's first use, zeroed in place after that.
+/// Size a worker's FFT buffer (`sub` points, zeroed), scratch (`scratch` points) and
+/// magnitudes (`sub`) for its next transform: allocated on the worker's first use, the
+/// buffer zeroed in place after that.
 fn ready(work: &mut Work, sub: usize, scratch: usize) {
-    let (buf, scr) = work;
+    let (buf, scr, mags) = work;
+    if mags.len() != sub {
+        *mags = vec![0.0; sub];
+    }
     if buf.len() == sub {
         buf.iter_mut().for_each(|v| *v = Complex::new(0.0, 0.0));
     } else {
@@ -947,26 +1035,25 @@ mod tests {
                 .collect();
             let want = direct(&taps, sub * OVERSAMPLE);
             let scale: f64 = taps.iter().take(sub * OVERSAMPLE).map(|h| h.abs()).sum();
-            let check = |m: &Measurer, path: &str| {
+            let check = |grids: &[Vec<f64>], path: &str| {
                 for (k, w) in want.iter().enumerate() {
-                    let got = bin(&m.grids, sub, k);
+                    let got = bin(grids, sub, k);
                     assert!(
                         (got - w).abs() <= 1e-13 * scale,
                         "{path}: len {len}, sub {sub}, bin {k}: {got} against {w}"
                     );
                 }
             };
-            m.spectrum(&taps, sub);
-            check(&m, "chosen");
+            let keep = |_: usize, v: &[f64]| v.to_vec();
+            let grids = m.spectrum(&taps, sub, keep);
+            check(&grids, "chosen");
             // The baseline build of the loops gives the same bits.
             let mut base = Measurer::new();
             base.width = Width::Baseline;
-            base.spectrum(&taps, sub);
-            assert_eq!(base.grids, m.grids);
-            m.spectrum_general(&taps, sub);
-            check(&m, "general");
-            base.spectrum_general(&taps, sub);
-            assert_eq!(base.grids, m.grids);
+            assert_eq!(base.spectrum(&taps, sub, keep), grids);
+            let grids = m.spectrum_general(&taps, sub, keep);
+            check(&grids, "general");
+            assert_eq!(base.spectrum_general(&taps, sub, keep), grids);
             if len <= sub * OVERSAMPLE && is_symmetric(&taps) {
                 paired += 1;
             }
@@ -1024,10 +1111,10 @@ mod tests {
             let stop = d.report().stopband_edge_hz / (f64::from(i) * up);
             let mut m = Measurer::new();
             let sub = sub_grid_len(taps.len());
-            m.spectrum(taps, sub);
+            let grids = m.spectrum(taps, sub, |_, v| v.to_vec());
             let size = sub * OVERSAMPLE;
             let bin_w = 1.0 / size as f64;
-            let mag = |k: usize| bin(&m.grids, sub, k);
+            let mag = |k: usize| bin(&grids, sub, k);
             let resp = Response::new(taps);
             let dense = |k: usize, sign: f64, lo: f64, hi: f64| {
                 (0..=1600)
