@@ -2,16 +2,15 @@
 //! in sequence without it.
 //!
 //! The crate's parallel loops are written once against the names re-exported here
-//! (`par_iter`, `par_iter_mut`, `par_chunks_mut`, `into_par_iter`, `join`,
-//! `current_num_threads`). Every parallel loop in the crate combines its pieces in index
+//! (`par_iter`, `par_iter_mut`, `par_chunks_mut`, `into_par_iter`, `join`). Every parallel loop in the crate combines its pieces in index
 //! order, so both builds compute the same values bit for bit; only the time differs.
 //! Applications that bring their own threading (an audio plug-in host, an embedded target)
 //! build with `default-features = false`.
 
 #[cfg(feature = "rayon")]
-pub(crate) use rayon::prelude::*;
+pub(crate) use rayon::join;
 #[cfg(feature = "rayon")]
-pub(crate) use rayon::{current_num_threads, join};
+pub(crate) use rayon::prelude::*;
 
 #[cfg(not(feature = "rayon"))]
 pub(crate) use sequential::*;
@@ -19,11 +18,6 @@ pub(crate) use sequential::*;
 /// The sequential stand-ins for the parts of rayon's API the crate uses.
 #[cfg(not(feature = "rayon"))]
 mod sequential {
-    /// One thread: the caller's.
-    pub(crate) fn current_num_threads() -> usize {
-        1
-    }
-
     /// Runs `a`, then `b`.
     pub(crate) fn join<A, B, RA, RB>(a: A, b: B) -> (RA, RB)
     where
@@ -161,7 +155,6 @@ mod sequential {
                     .into_par_iter()
                     .try_for_each(|i| if i == 3 { Err(3) } else { Ok(()) });
             assert_eq!(r, Err(3));
-            assert_eq!(current_num_threads(), 1);
         }
     }
 }

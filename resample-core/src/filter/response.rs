@@ -3,7 +3,7 @@
 //! group delay. Symmetric (linear-phase) prototypes take a faster exact evaluation; any other
 //! prototype (minimum phase) is evaluated in full.
 
-use std::sync::Arc;
+use std::sync::{Arc, Mutex, PoisonError};
 
 use crate::kernel::wide::{run, Width};
 use crate::par::*;
@@ -76,8 +76,9 @@ pub struct Measurer {
     planned: usize,
     /// The factors `e^{-j 2 pi j / N}` of the grid of `OVERSAMPLE planned` points.
     twiddles: Twiddles,
-    /// FFT buffer and scratch of each worker (a few sub-grids each, one after another).
-    work: Vec<Work>,
+    /// Work buffers not in use: each FFT's task takes a set and gives it back, so there
+    /// are as many sets as FFTs that ran at once (one per thread at most).
+    work: Mutex<Vec<Work>>,
     peaks: Vec<(f64, usize)>,
     /// The build of the spectrum's loops (the same bits for every width).
     width: Width,
@@ -140,7 +141,7 @@ impl Measurer {
             planner: FftPlanner::new(),
             planned: 0,
             twiddles: Twiddles::default(),
-            work: Vec::new(),
+            work: Mutex::new(Vec::new()),
             peaks: Vec::new(),
             width: Width::detect(),
         }
@@ -157,12 +158,8 @@ impl Measurer {
     fn size_for(&mut self, sub: usize) -> Arc<dyn Fft<f64>> {
         self.forget_other_plans(sub);
         let fft = self.planner.plan_fft_forward(sub);
-        // The workers' buffers are allocated by the workers themselves (see `ready`), so a
+        // The work buffers are allocated by the tasks that use them (see `ready`), so a
         // fresh process's page faults are taken on both cores, not before the work.
-        let workers = GRIDS
-            .div_ceil(grids_per_worker())
-            .max(PAIRS.div_ceil(pairs_per_worker()));
-        self.work.resize_with(workers, Default::default);
         fft
     }
 
@@ -214,14 +211,15 @@ impl Measurer {
         let size = sub * OVERSAMPLE;
         let c = taps.len() / 2;
         let tw = &self.twiddles;
-        let per = pairs_per_worker();
         let width = self.width;
-        let done: Vec<Vec<T>> = self.work[..PAIRS.div_ceil(per)]
-            .par_iter_mut()
-            .enumerate()
-            .map(|(w, work)| {
-                let mut done = Vec::with_capacity(2 * per);
-                for pair in w * per..((w + 1) * per).min(PAIRS) {
+        let pool = &self.work;
+        // One task per FFT: a thread held up elsewhere leaves its share to the other.
+        let done: Vec<Vec<T>> = (0..PAIRS)
+            .into_par_iter()
+            .map(|pair| {
+                let mut done = Vec::with_capacity(2);
+                let mut work = take(pool);
+                {
                     let r0 = 2 * pair;
                     // The second sub-grid of the pair, or none (then its twiddles are 0).
                     let (r1, second) = if r0 + 1 < GRIDS {
@@ -229,8 +227,8 @@ impl Measurer {
                     } else {
                         (0, 0.0)
                     };
-                    ready(work, sub, scratch_len);
-                    let (buf, scratch, mags) = work;
+                    ready(&mut work, sub, scratch_len);
+                    let (buf, scratch, mags) = &mut work;
                     buf[0] = Complex::new(taps[c], second * taps[c]);
                     // Tap `c + n` sits at `n mod sub`, tap `c - n` at `-n mod sub`; their
                     // factors are e^{-j 2 pi (n r mod N) / N} and its conjugate.
@@ -273,6 +271,7 @@ impl Measurer {
                         done.push(per_grid(r1, mags));
                     }
                 }
+                give_back(pool, work);
                 done
             })
             .collect();
@@ -293,16 +292,16 @@ impl Measurer {
         // N-point FFT of the first N taps would.
         let taps = &taps[..taps.len().min(size)];
         let tw = &self.twiddles;
-        let per = grids_per_worker();
         let width = self.width;
-        let done: Vec<Vec<T>> = self.work[..GRIDS.div_ceil(per)]
-            .par_iter_mut()
-            .enumerate()
-            .map(|(w, work)| {
-                let mut done = Vec::with_capacity(per);
-                for r in w * per..((w + 1) * per).min(GRIDS) {
-                    ready(work, sub, scratch_len);
-                    let (buf, scratch, mags) = work;
+        let pool = &self.work;
+        // One task per FFT: a thread held up elsewhere leaves its share to the other.
+        let done: Vec<T> = (0..GRIDS)
+            .into_par_iter()
+            .map(|r| {
+                let mut work = take(pool);
+                {
+                    ready(&mut work, sub, scratch_len);
+                    let (buf, scratch, mags) = &mut work;
                     // Tap n goes to n mod M (the sub-grid's FFT is M-periodic in n), times
                     // e^{-j 2 pi (n r mod N) / N}.
                     let mut j = 0usize;
@@ -325,12 +324,13 @@ impl Measurer {
                     for (m, c) in mags.iter_mut().zip(buf.iter()) {
                         *m = c.norm_sqr().sqrt();
                     }
-                    done.push(per_grid(r, mags));
                 }
+                let done = per_grid(r, &work.2);
+                give_back(pool, work);
                 done
             })
             .collect();
-        done.into_iter().flatten().collect()
+        done
     }
 
     /// Measure `taps` as [`measure`] does.
@@ -594,6 +594,21 @@ fn slice_max(v: &[f64]) -> f64 {
         .fold(0.0, |a, &x| if x > a { x } else { a })
 }
 
+/// A set of work buffers from `pool` (a new, empty one if none is free).
+fn take(pool: &Mutex<Vec<Work>>) -> Work {
+    pool.lock()
+        .unwrap_or_else(PoisonError::into_inner)
+        .pop()
+        .unwrap_or_default()
+}
+
+/// Return a set of work buffers to `pool` for the next task.
+fn give_back(pool: &Mutex<Vec<Work>>, work: Work) {
+    pool.lock()
+        .unwrap_or_else(PoisonError::into_inner)
+        .push(work);
+}
+
 /// Size a worker's FFT buffer (`sub` points, zeroed), scratch (`scratch` points) and
 /// magnitudes (`sub`) for its next transform: allocated on the worker's first use, the
 /// buffer zeroed in place after that.
@@ -612,18 +627,8 @@ fn ready(work: &mut Work, sub: usize, scratch: usize) {
     }
 }
 
-/// Sub-grids each worker computes: the grids spread over rayon's threads.
-fn grids_per_worker() -> usize {
-    GRIDS.div_ceil(current_num_threads().clamp(1, GRIDS))
-}
-
 /// Pairs of sub-grids (one FFT each) of the paired path: `0..=OVERSAMPLE / 2` two by two.
 const PAIRS: usize = GRIDS.div_ceil(2);
-
-/// Pairs of sub-grids each worker computes on the paired path.
-fn pairs_per_worker() -> usize {
-    PAIRS.div_ceil(current_num_threads().clamp(1, PAIRS))
-}
 
 /// Odd length and `taps[i] == taps[n - 1 - i]`: the zero-phase forms apply.
 fn is_symmetric(taps: &[f64]) -> bool {
