@@ -7,6 +7,7 @@ use std::sync::{Arc, Mutex, PoisonError};
 
 use crate::kernel::wide::{run, Width};
 use crate::par::*;
+use realfft::{ComplexToReal, RealFftPlanner};
 use rustfft::num_complex::Complex;
 use rustfft::{Fft, FftPlanner};
 
@@ -71,8 +72,11 @@ pub fn measure(taps: &[f64], pass: f64, stop: f64) -> Measured {
 /// fraction of an `N`-point one, whose twiddle factors take longer to compute than the
 /// transform itself for a filter measured once.
 pub struct Measurer {
+    /// Complex FFTs (taps without symmetry).
     planner: FftPlanner<f64>,
-    /// Sub-grid FFT length the planner holds a plan for (0: none).
+    /// Complex-to-real FFTs (symmetric taps).
+    real_planner: RealFftPlanner<f64>,
+    /// Sub-grid FFT length the planners hold plans for (0: none).
     planned: usize,
     /// The factors `e^{-j 2 pi j / N}` of the grid of `OVERSAMPLE planned` points.
     twiddles: Twiddles,
@@ -98,9 +102,16 @@ impl Default for Measurer {
     }
 }
 
-/// One worker's FFT buffer, FFT scratch, and the magnitudes of the sub-grid it has just
-/// computed.
-type Work = (Vec<Complex<f64>>, Vec<Complex<f64>>, Vec<f64>);
+/// One FFT task's buffers.
+#[derive(Default)]
+struct Work {
+    /// The FFT's input (the whole buffer of an in-place complex FFT).
+    input: Vec<Complex<f64>>,
+    /// The FFT's scratch.
+    scratch: Vec<Complex<f64>>,
+    /// The magnitudes of the sub-grid computed.
+    values: Vec<f64>,
+}
 
 /// Sub-grids computed: `0..=OVERSAMPLE / 2` (the others mirror them).
 const GRIDS: usize = OVERSAMPLE / 2 + 1;
@@ -139,6 +150,7 @@ impl Measurer {
     pub fn new() -> Self {
         Self {
             planner: FftPlanner::new(),
+            real_planner: RealFftPlanner::new(),
             planned: 0,
             twiddles: Twiddles::default(),
             work: Mutex::new(Vec::new()),
@@ -147,26 +159,31 @@ impl Measurer {
         }
     }
 
-    /// Plan the FFT and size the buffers for measuring a filter of `taps_len` taps (what
-    /// [`Measurer::measure`] does first; calling it early, e.g. beside computing the taps,
-    /// takes that work off the critical path).
+    /// Plan the FFT for measuring a symmetric filter of `taps_len` taps, as a design's are
+    /// (what [`Measurer::measure`] does first; calling it early, e.g. beside computing the
+    /// taps, takes that work off the critical path). The work buffers are allocated by the
+    /// tasks that use them, so a fresh process's page faults are taken on both cores.
     pub fn prepare(&mut self, taps_len: usize) {
-        self.size_for(sub_grid_len(taps_len));
+        self.real_plan(sub_grid_len(taps_len));
     }
 
-    /// Plan the sub-grid FFT of `sub` points and size the buffers for it.
-    fn size_for(&mut self, sub: usize) -> Arc<dyn Fft<f64>> {
+    /// The complex-to-real FFT of `sub` points (planned if needed).
+    fn real_plan(&mut self, sub: usize) -> Arc<dyn ComplexToReal<f64>> {
         self.forget_other_plans(sub);
-        let fft = self.planner.plan_fft_forward(sub);
-        // The work buffers are allocated by the tasks that use them (see `ready`), so a
-        // fresh process's page faults are taken on both cores, not before the work.
-        fft
+        self.real_planner.plan_fft_inverse(sub)
+    }
+
+    /// The complex FFT of `sub` points (planned if needed).
+    fn complex_plan(&mut self, sub: usize) -> Arc<dyn Fft<f64>> {
+        self.forget_other_plans(sub);
+        self.planner.plan_fft_forward(sub)
     }
 
     /// Drop the plans of another FFT length (one length at a time is kept).
     fn forget_other_plans(&mut self, sub: usize) {
         if self.planned != sub {
             self.planner = FftPlanner::new();
+            self.real_planner = RealFftPlanner::new();
             self.twiddles = Twiddles::new(sub * OVERSAMPLE);
             self.planned = sub;
         }
@@ -177,8 +194,8 @@ impl Measurer {
     /// on a worker with each sub-grid `r < GRIDS` as soon as it is computed, and its
     /// results come back in the order of `r` (bin `k` of the whole grid is read as
     /// `bin` reads it). The sub-grids are not kept: what the caller needs of them is what
-    /// `per_grid` returns. Symmetric taps of odd length that fit the grid take the paired
-    /// path ([`Measurer::spectrum_paired`]).
+    /// `per_grid` returns. Symmetric taps of odd length that fit the grid take the faster
+    /// path ([`Measurer::spectrum_symmetric`]).
     fn spectrum<T: Send>(
         &mut self,
         taps: &[f64],
@@ -186,96 +203,91 @@ impl Measurer {
         per_grid: impl Fn(usize, &[f64]) -> T + Sync,
     ) -> Vec<T> {
         if taps.len() <= sub * OVERSAMPLE && is_symmetric(taps) {
-            self.spectrum_paired(taps, sub, per_grid)
+            self.spectrum_symmetric(taps, sub, per_grid)
         } else {
             self.spectrum_general(taps, sub, per_grid)
         }
     }
 
-    /// [`Measurer::spectrum`] for odd-length symmetric taps, two sub-grids per FFT.
+    /// [`Measurer::spectrum`] for odd-length symmetric taps: each sub-grid by a
+    /// complex-to-real FFT, which reads half the input and computes half the work of a
+    /// complex one.
     ///
     /// Centred on tap 0 (a circular shift, which moves only the phase), the taps are a real
-    /// even sequence, so every bin of their DFT is real; sub-grid `r`'s FFT input `u_r`
-    /// then has a real transform, and the transform of `u_r + j u_(r+1)` carries sub-grid
-    /// `r` in its real part and sub-grid `r + 1` in its imaginary part (linearity of the
-    /// DFT, common practice, no source). Taps `n` and `-n` share one twiddle factor (its
-    /// conjugate), so each is computed once.
-    fn spectrum_paired<T: Send>(
+    /// even sequence, so every bin of their DFT is real, and sub-grid `r`'s FFT input `u_r`
+    /// (the taps folded mod `M`, tap `n` times `e^{-j 2 pi n r / N}`) is conjugate
+    /// symmetric, `u_r[-k] = conj(u_r[k])`. Its DFT `X` is then real, so `X = conj(X)` is the
+    /// unnormalised inverse DFT of `conj(u_r)`: a complex-to-real FFT of entries `0..=M/2`
+    /// of `conj(u_r)` (properties of the DFT, common practice, no source). Taps `n` and `-n`
+    /// share one twiddle factor (its conjugate), computed once.
+    fn spectrum_symmetric<T: Send>(
         &mut self,
         taps: &[f64],
         sub: usize,
         per_grid: impl Fn(usize, &[f64]) -> T + Sync,
     ) -> Vec<T> {
-        let fft = self.size_for(sub);
-        let scratch_len = fft.get_inplace_scratch_len();
+        let c2r = self.real_plan(sub);
+        let scratch_len = c2r.get_scratch_len();
         let size = sub * OVERSAMPLE;
+        let half = sub / 2;
         let c = taps.len() / 2;
         let tw = &self.twiddles;
         let width = self.width;
         let pool = &self.work;
         // One task per FFT: a thread held up elsewhere leaves its share to the other.
-        let done: Vec<Vec<T>> = (0..PAIRS)
+        (0..GRIDS)
             .into_par_iter()
-            .map(|pair| {
-                let mut done = Vec::with_capacity(2);
+            .map(|r| {
                 let mut work = take(pool);
-                {
-                    let r0 = 2 * pair;
-                    // The second sub-grid of the pair, or none (then its twiddles are 0).
-                    let (r1, second) = if r0 + 1 < GRIDS {
-                        (r0 + 1, 1.0)
-                    } else {
-                        (0, 0.0)
-                    };
-                    ready(&mut work, sub, scratch_len);
-                    let (buf, scratch, mags) = &mut work;
-                    buf[0] = Complex::new(taps[c], second * taps[c]);
-                    // Tap `c + n` sits at `n mod sub`, tap `c - n` at `-n mod sub`; their
-                    // factors are e^{-j 2 pi (n r mod N) / N} and its conjugate.
-                    let (mut j0, mut j1, mut plus, mut minus) = (0usize, 0usize, 0usize, 0usize);
-                    // (Built for the CPU's widest vectors: the same bits, see `kernel::wide`.)
-                    run(
-                        width,
-                        #[inline(always)]
-                        || {
-                            for &h in &taps[c + 1..] {
-                                j0 += r0;
-                                if j0 >= size {
-                                    j0 -= size;
-                                }
-                                j1 += r1;
-                                if j1 >= size {
-                                    j1 -= size;
-                                }
-                                plus += 1;
-                                if plus == sub {
-                                    plus = 0;
-                                }
-                                minus = if minus == 0 { sub - 1 } else { minus - 1 };
-                                let a = tw.get(j0);
-                                let b = tw.get(j1) * second;
-                                buf[plus] += Complex::new(a.re - b.im, a.im + b.re) * h;
-                                buf[minus] += Complex::new(a.re + b.im, b.re - a.im) * h;
+                ready(&mut work, half + 1, scratch_len, sub);
+                let Work {
+                    input,
+                    scratch,
+                    values,
+                } = &mut work;
+                input[0] = Complex::new(taps[c], 0.0);
+                // Tap `c + n` sits at `n mod sub` with factor `t = e^{-j 2 pi (n r mod N) / N}`,
+                // tap `c - n` at `-n mod sub` with `conj(t)`; entries past M/2 are not read.
+                let (mut j, mut plus) = (0usize, 0usize);
+                // (Built for the CPU's widest vectors: the same bits, see `kernel::wide`.)
+                run(
+                    width,
+                    #[inline(always)]
+                    || {
+                        for &h in &taps[c + 1..] {
+                            j += r;
+                            if j >= size {
+                                j -= size;
                             }
-                        },
-                    );
-                    fft.process_with_scratch(buf, &mut scratch[..scratch_len]);
-                    for (m, v) in mags.iter_mut().zip(buf.iter()) {
-                        *m = v.re.abs();
-                    }
-                    done.push(per_grid(r0, mags));
-                    if second != 0.0 {
-                        for (m, v) in mags.iter_mut().zip(buf.iter()) {
-                            *m = v.im.abs();
+                            plus += 1;
+                            if plus == sub {
+                                plus = 0;
+                            }
+                            let t = tw.get(j);
+                            if plus <= half {
+                                input[plus] += t.conj() * h;
+                            }
+                            let minus = if plus == 0 { 0 } else { sub - plus };
+                            if minus <= half {
+                                input[minus] += t * h;
+                            }
                         }
-                        done.push(per_grid(r1, mags));
-                    }
+                    },
+                );
+                // Entries 0 and M/2 are real (their own conjugates): drop the rounding.
+                input[0].im = 0.0;
+                input[half].im = 0.0;
+                // The lengths are the plan's and both imaginary parts are 0, the only
+                // errors it reports.
+                let _ = c2r.process_with_scratch(input, values, &mut scratch[..scratch_len]);
+                for v in values.iter_mut() {
+                    *v = v.abs();
                 }
+                let done = per_grid(r, values);
                 give_back(pool, work);
                 done
             })
-            .collect();
-        done.into_iter().flatten().collect()
+            .collect()
     }
 
     /// [`Measurer::spectrum`] for any taps: one FFT per sub-grid.
@@ -285,7 +297,7 @@ impl Measurer {
         sub: usize,
         per_grid: impl Fn(usize, &[f64]) -> T + Sync,
     ) -> Vec<T> {
-        let fft = self.size_for(sub);
+        let fft = self.complex_plan(sub);
         let scratch_len = fft.get_inplace_scratch_len();
         let size = sub * OVERSAMPLE;
         // Taps past the grid's length would wrap around it: they are left out, as a plain
@@ -300,8 +312,12 @@ impl Measurer {
             .map(|r| {
                 let mut work = take(pool);
                 {
-                    ready(&mut work, sub, scratch_len);
-                    let (buf, scratch, mags) = &mut work;
+                    ready(&mut work, sub, scratch_len, sub);
+                    let Work {
+                        input: buf,
+                        scratch,
+                        values: mags,
+                    } = &mut work;
                     // Tap n goes to n mod M (the sub-grid's FFT is M-periodic in n), times
                     // e^{-j 2 pi (n r mod N) / N}.
                     let mut j = 0usize;
@@ -325,7 +341,7 @@ impl Measurer {
                         *m = c.norm_sqr().sqrt();
                     }
                 }
-                let done = per_grid(r, &work.2);
+                let done = per_grid(r, &work.values);
                 give_back(pool, work);
                 done
             })
@@ -609,26 +625,25 @@ fn give_back(pool: &Mutex<Vec<Work>>, work: Work) {
         .push(work);
 }
 
-/// Size a worker's FFT buffer (`sub` points, zeroed), scratch (`scratch` points) and
-/// magnitudes (`sub`) for its next transform: allocated on the worker's first use, the
-/// buffer zeroed in place after that.
-fn ready(work: &mut Work, sub: usize, scratch: usize) {
-    let (buf, scr, mags) = work;
-    if mags.len() != sub {
-        *mags = vec![0.0; sub];
+/// Size a task's buffers for its next transform: `input` points, zeroed; at least
+/// `scratch` points of scratch; `values` magnitudes. Each is allocated on first use (the
+/// magnitudes zeroed by the allocator: fresh memory costs nothing until written), the
+/// input zeroed in place after that.
+fn ready(work: &mut Work, input: usize, scratch: usize, values: usize) {
+    if work.values.len() != values {
+        work.values = vec![0.0; values];
     }
-    if buf.len() == sub {
-        buf.iter_mut().for_each(|v| *v = Complex::new(0.0, 0.0));
+    if work.input.len() == input {
+        work.input
+            .iter_mut()
+            .for_each(|v| *v = Complex::new(0.0, 0.0));
     } else {
-        *buf = vec![Complex::new(0.0, 0.0); sub];
+        work.input = vec![Complex::new(0.0, 0.0); input];
     }
-    if scr.len() < scratch {
-        *scr = vec![Complex::new(0.0, 0.0); scratch];
+    if work.scratch.len() < scratch {
+        work.scratch = vec![Complex::new(0.0, 0.0); scratch];
     }
 }
-
-/// Pairs of sub-grids (one FFT each) of the paired path: `0..=OVERSAMPLE / 2` two by two.
-const PAIRS: usize = GRIDS.div_ceil(2);
 
 /// Odd length and `taps[i] == taps[n - 1 - i]`: the zero-phase forms apply.
 fn is_symmetric(taps: &[f64]) -> bool {
@@ -1014,7 +1029,7 @@ mod tests {
         // Every bin up to N / 2 of the pruned computation against one plain N-point FFT:
         // odd and even lengths, symmetric and not, taps filling the sub-grid, and taps
         // longer than it (folded) or than the whole grid (cut).
-        // Symmetric odd lengths take the paired path (two sub-grids per FFT); it is also
+        // Symmetric odd lengths take the symmetric path (complex-to-real FFTs); it is also
         // checked against the one-FFT-per-sub-grid path.
         let mut m = Measurer::new();
         let mut paired = 0;
