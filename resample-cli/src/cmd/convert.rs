@@ -8,9 +8,10 @@ use std::time::{Duration, Instant};
 use crate::audio::wav::Encoding;
 use crate::audio::wav::MetadataPolicy;
 use crate::batch::{self, file_id, Plan, Task};
-use crate::convert::{convert_file_in_batch, Control, Cores, DesignCache, Settings};
+use crate::convert::{convert_file, Control, DesignCache, Settings};
 use anyhow::{Context, Result};
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
+use rayon::prelude::*;
 
 use crate::args::convert::ConvertArgs;
 use crate::args::{check_filter, DitherArg};
@@ -77,7 +78,7 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
         (Some(b), false) => Encoding::int(b),
         (None, false) => None,
     };
-    let settings = Settings {
+    let mut settings = Settings {
         out_rate: args.out_rate,
         stopband_db: args.stopband_db,
         passband: args.passband,
@@ -156,13 +157,9 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
         .jobs
         .map(|j| j as usize)
         .unwrap_or_else(|| std::thread::available_parallelism().map_or(1, |n| n.get()));
-    // Files run in parallel, one per worker, in the order given, each on one thread while
-    // other files wait to start. The last `jobs` files (all of them when there are fewer
-    // files than workers) are converted in segments, with a reader and a writer thread:
-    // their extra segment workers take the cores the other workers give back when no file
-    // is left for them, so the batch ends with every core busy and never runs more
-    // converting threads than cores (`Cores`).
-    let split_from = tasks.len().saturating_sub(jobs);
+    // Files run in parallel, one per worker; a file also gets a reader and a writer thread
+    // when there are fewer files than workers (otherwise every core already has a file).
+    settings.pipeline = tasks.len() < jobs;
     let pool = rayon::ThreadPoolBuilder::new()
         .num_threads(jobs)
         .build()
@@ -175,107 +172,72 @@ pub fn run(args: &ConvertArgs) -> Result<Status> {
         .sum();
     let bar = Bar::new(total_bytes, tasks.len());
     let designs = DesignCache::new();
-    let cores = Cores::new(jobs);
     let emit = |line: String| bar.bar.suspend(|| print::out_line(&line));
-    let next = AtomicUsize::new(0);
-    let settings_split = Settings {
-        pipeline: jobs > 1,
-        ..settings.clone()
-    };
-    let run_task = |task: &Task, settings: &Settings| -> Outcome {
-        if CANCEL.load(Ordering::Relaxed) {
-            if args.json {
-                emit(json::line(&record(task, Outcome::NotStarted)));
-            }
-            return Outcome::NotStarted;
-        }
-        let r = one(task, &inputs, settings, args, &designs, &cores, &bar);
-        bar.file_done();
-        match r {
-            Ok(Some(report)) => {
-                if let Some(w) = report.limit_warning() {
-                    bar.bar.suspend(|| eprintln!("rerate: warning: {w}"));
+    let outcomes: Vec<Outcome> = pool.install(|| {
+        tasks
+            .par_iter()
+            .map(|task| {
+                if CANCEL.load(Ordering::Relaxed) {
+                    if args.json {
+                        emit(json::line(&record(task, Outcome::NotStarted)));
+                    }
+                    return Outcome::NotStarted;
                 }
-                for w in &report.warnings {
-                    let w = format!("rerate: warning: {}: {w}", report.input.display());
-                    bar.bar.suspend(|| print::err_line(&w));
+                let r = one(task, &inputs, &settings, args, &designs, &bar);
+                bar.file_done();
+                match r {
+                    Ok(Some(report)) => {
+                        if let Some(w) = report.limit_warning() {
+                            bar.bar.suspend(|| eprintln!("rerate: warning: {w}"));
+                        }
+                        for w in &report.warnings {
+                            let w = format!("rerate: warning: {}: {w}", report.input.display());
+                            bar.bar.suspend(|| print::err_line(&w));
+                        }
+                        emit(if args.json {
+                            report.json()
+                        } else {
+                            report.line()
+                        });
+                        Outcome::Converted
+                    }
+                    Ok(None) => {
+                        // Text: one summary line for all of them (a resume can skip
+                        // thousands); JSON: a record each.
+                        if args.json {
+                            emit(json::line(&json::NotConverted {
+                                reason: Some("output exists"),
+                                ..record(task, Outcome::Skipped)
+                            }));
+                        }
+                        Outcome::Skipped
+                    }
+                    Err(e) if is_interruption(&e) => {
+                        if args.json {
+                            emit(json::line(&record(task, Outcome::Interrupted)));
+                        }
+                        Outcome::Interrupted
+                    }
+                    Err(e) => {
+                        let msg = format!("{}: {e}", task.input.display());
+                        bar.bar
+                            .suspend(|| print::err_line(&format!("rerate: {msg}")));
+                        if args.json {
+                            emit(json::line(&json::NotConverted {
+                                error: Some(&e.to_string()),
+                                ..record(task, Outcome::Failed)
+                            }));
+                        }
+                        if is_clipping(&e) {
+                            Outcome::Clipped
+                        } else {
+                            Outcome::Failed
+                        }
+                    }
                 }
-                emit(if args.json {
-                    report.json()
-                } else {
-                    report.line()
-                });
-                Outcome::Converted
-            }
-            Ok(None) => {
-                // Text: one summary line for all of them (a resume can skip
-                // thousands); JSON: a record each.
-                if args.json {
-                    emit(json::line(&json::NotConverted {
-                        reason: Some("output exists"),
-                        ..record(task, Outcome::Skipped)
-                    }));
-                }
-                Outcome::Skipped
-            }
-            Err(e) if is_interruption(&e) => {
-                if args.json {
-                    emit(json::line(&record(task, Outcome::Interrupted)));
-                }
-                Outcome::Interrupted
-            }
-            Err(e) => {
-                let msg = format!("{}: {e}", task.input.display());
-                bar.bar
-                    .suspend(|| print::err_line(&format!("rerate: {msg}")));
-                if args.json {
-                    emit(json::line(&json::NotConverted {
-                        error: Some(&e.to_string()),
-                        ..record(task, Outcome::Failed)
-                    }));
-                }
-                if is_clipping(&e) {
-                    Outcome::Clipped
-                } else {
-                    Outcome::Failed
-                }
-            }
-        }
-    };
-    let outcomes = std::sync::Mutex::new(Vec::with_capacity(tasks.len()));
-    // Each worker takes the next file, and a core for it (which segment workers of the
-    // last files may hold for a moment).
-    let worker = || loop {
-        let i = next.fetch_add(1, Ordering::Relaxed);
-        let Some(task) = tasks.get(i) else {
-            return;
-        };
-        let outcome = {
-            let _core = cores.take();
-            run_task(
-                task,
-                if i >= split_from {
-                    &settings_split
-                } else {
-                    &settings
-                },
-            )
-        };
-        outcomes
-            .lock()
-            .unwrap_or_else(std::sync::PoisonError::into_inner)
-            .push(outcome);
-    };
-    // On the pool's threads, so that a file's segment workers and the filter design count
-    // its size as the number of cores to use.
-    pool.scope(|s| {
-        for _ in 0..jobs.min(tasks.len()) {
-            s.spawn(|_| worker());
-        }
+            })
+            .collect()
     });
-    let outcomes = outcomes
-        .into_inner()
-        .unwrap_or_else(std::sync::PoisonError::into_inner);
     bar.bar.finish_and_clear();
     let count = |want: Outcome| outcomes.iter().filter(|&&o| o == want).count();
     let converted = count(Outcome::Converted);
@@ -350,7 +312,6 @@ fn one(
     settings: &Settings,
     args: &ConvertArgs,
     designs: &DesignCache,
-    cores: &Cores,
     bar: &Bar,
 ) -> Result<Option<crate::convert::FileReport>, anyhow::Error> {
     if let Some(id) = file_id(&task.output) {
@@ -369,14 +330,7 @@ fn one(
         cancel: &CANCEL,
         progress: &progress,
     };
-    match convert_file_in_batch(
-        &task.input,
-        &task.output,
-        settings,
-        designs,
-        ctl,
-        Some(cores),
-    ) {
+    match convert_file(&task.input, &task.output, settings, designs, ctl) {
         Ok(report) => Ok(Some(report)),
         // Another run (the same batch started twice) finished this output meanwhile.
         Err(e) if args.skip_existing && e.is_exists() => Ok(None),

@@ -223,7 +223,6 @@ pub(super) fn convert_input(
         },
         bytes_per_frame: u64::from(info.channels) * u64::from(info.encoding.bytes()),
         ctl,
-        cores: None,
     };
     let mut job = Job {
         run: &run,

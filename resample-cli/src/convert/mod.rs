@@ -4,7 +4,6 @@
 
 mod anyratio;
 mod cache;
-mod cores;
 mod memory;
 mod pipeline;
 
@@ -18,7 +17,6 @@ use resample_core::{ChainConverter, Phase, Sample, StageChoice, StagePlan};
 pub use crate::report::file::{FileReport, Overs};
 pub use anyratio::{AnyRatioRun, Chosen, Why, ANY_RATIO_ENGINE, FIXED_ENGINE};
 pub use cache::DesignCache;
-pub use cores::{Core, Cores};
 pub use memory::{run_glide, run_plan};
 
 use crate::audio::wav::metadata::carry;
@@ -171,33 +169,9 @@ pub fn convert_file(
     designs: &DesignCache,
     ctl: Control<'_>,
 ) -> Result<FileReport, ConvertError> {
-    convert_file_in_batch(input, output, settings, designs, ctl, None)
-}
-
-/// [`convert_file`] for a file of a batch whose files share `cores`: a file converted in
-/// segments ([`Settings::pipeline`]) runs its extra segment workers only on cores of
-/// `cores` that no other file holds (the caller holds one for this file).
-pub fn convert_file_in_batch(
-    input: &Path,
-    output: &Path,
-    settings: &Settings,
-    designs: &DesignCache,
-    ctl: Control<'_>,
-    cores: Option<&Cores>,
-) -> Result<FileReport, ConvertError> {
     let start = Instant::now();
     let reader = Input::open(input)?;
-    convert_input(
-        reader,
-        input,
-        Some(output),
-        settings,
-        designs,
-        ctl,
-        cores,
-        start,
-    )
-    .map(|(r, _)| r)
+    convert_input(reader, input, Some(output), settings, designs, ctl, start).map(|(r, _)| r)
 }
 
 /// Convert a WAV file held in memory, end to end (header checks, design, conversion,
@@ -211,22 +185,11 @@ pub fn convert_in_memory(
 ) -> Result<(FileReport, Vec<u8>), ConvertError> {
     let start = Instant::now();
     let reader = Input::from_reader(std::io::Cursor::new(input))?;
-    convert_input(
-        reader,
-        Path::new(""),
-        None,
-        settings,
-        designs,
-        ctl,
-        None,
-        start,
-    )
+    convert_input(reader, Path::new(""), None, settings, designs, ctl, start)
 }
 
 /// The conversion behind [`convert_file`] and [`convert_in_memory`]: to `output`, or to
-/// memory when it is `None` (then the bytes are returned); `cores` as for
-/// [`convert_file_in_batch`].
-#[allow(clippy::too_many_arguments)]
+/// memory when it is `None` (then the bytes are returned).
 fn convert_input(
     mut reader: Input,
     input: &Path,
@@ -234,7 +197,6 @@ fn convert_input(
     settings: &Settings,
     designs: &DesignCache,
     ctl: Control<'_>,
-    cores: Option<&Cores>,
     start: Instant,
 ) -> Result<(FileReport, Vec<u8>), ConvertError> {
     let info = reader.info().clone();
@@ -302,7 +264,6 @@ fn convert_input(
         non_finite,
         bytes_per_frame: u64::from(info.channels) * u64::from(info.encoding.bytes()),
         ctl,
-        cores,
     };
     let (design, mut writer) = match (precision, settings.pipeline) {
         (Precision::F32, false) => run.sequential::<f32>(&mut reader, setup)?,
@@ -418,8 +379,6 @@ struct Run<'a> {
     non_finite: NonFinite,
     bytes_per_frame: u64,
     ctl: Control<'a>,
-    /// The cores of the batch, when the file is one of a batch sharing them.
-    cores: Option<&'a Cores>,
 }
 
 impl Run<'_> {

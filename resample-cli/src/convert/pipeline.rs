@@ -269,9 +269,7 @@ impl Run<'_> {
 
     /// Convert the segments of `cuts` on `workers` threads (this one and `workers - 1`
     /// more), each with its own converter taking the next segment when done with one,
-    /// handing the outputs to the writer with their places in the file's order. In a batch
-    /// sharing its cores ([`Run::cores`]) the other threads convert a segment only when
-    /// they get a free core for it.
+    /// handing the outputs to the writer with their places in the file's order.
     #[allow(clippy::too_many_arguments)]
     fn segmented<T: Sample>(
         &self,
@@ -291,8 +289,6 @@ impl Run<'_> {
             next_segment: 0,
         });
         let handed = AtomicU64::new(0);
-        // Every segment is taken: the helpers waiting for a core of the batch stop waiting.
-        let all_taken = AtomicBool::new(false);
         // The first failure in the file's order (segment index), which is the one reported.
         let failure: Mutex<Option<(u64, ConvertError)>> = Mutex::new(None);
         let stop = AtomicBool::new(false);
@@ -303,9 +299,6 @@ impl Run<'_> {
             }
             stop.store(true, Ordering::Relaxed);
             out.flow.stop();
-            if let Some(c) = self.cores {
-                c.wake();
-            }
         };
         let limit = AHEAD_PER_WORKER * workers as u64;
         let recycle = |b: Arc<Vec<T>>| {
@@ -313,10 +306,7 @@ impl Run<'_> {
                 let _ = in_back.send(b);
             }
         };
-        // This thread holds a core of its own; in a batch sharing its cores, each of the
-        // other workers (a helper) takes a free core for each segment it converts, so
-        // helpers run only on cores no other file is using.
-        let work = |helper: bool| {
+        let work = || {
             let mut conv = match ChainConverter::<T>::new(design, ch) {
                 Ok(c) => c,
                 Err(e) => return fail(0, e.into()),
@@ -335,26 +325,12 @@ impl Run<'_> {
                 if !out.flow.wait_within(handed.load(Ordering::Relaxed), limit) {
                     return;
                 }
-                let _core = match self.cores.filter(|_| helper) {
-                    Some(c) => match c.take_unless(|| {
-                        stop.load(Ordering::Relaxed) || all_taken.load(Ordering::Relaxed)
-                    }) {
-                        Some(core) => Some(core),
-                        None => return,
-                    },
-                    None => None,
-                };
                 // Take the next segment and the blocks that hold its input.
                 let (j, seg, blocks) = {
                     let mut f = lock(&feed);
                     let j = f.next_segment;
                     let Some(seg) = cuts.segment(j) else {
-                        // Every segment is taken.
-                        all_taken.store(true, Ordering::Relaxed);
-                        if let Some(c) = self.cores {
-                            c.wake();
-                        }
-                        return;
+                        return; // every segment is taken
                     };
                     f.next_segment += 1;
                     handed.store(f.next_segment, Ordering::Relaxed);
@@ -434,9 +410,9 @@ impl Run<'_> {
         };
         std::thread::scope(|s| {
             for _ in 1..workers.min(count.try_into().unwrap_or(usize::MAX)) {
-                s.spawn(|| work(true));
+                s.spawn(work);
             }
-            work(false);
+            work();
         });
         match failure.into_inner().unwrap_or_else(PoisonError::into_inner) {
             Some((_, e)) => Err(e),
