@@ -18,6 +18,11 @@ that of a batch, as when converting a corpus.
 Beside each ratio the floor is printed: the wall time of copying the same input files to
 fresh files (`shutil.copyfile`), which no file-to-file converter can beat.
 
+Before each timed rerate run the script calls `os.sync()` (not timed), so the run does not
+share the disk with the write-back of files the script itself wrote just before (the
+inputs, the floor's copies): rerate makes its outputs durable (fsync) and would otherwise
+wait for them too.
+
 Usage: python3 benches/compare_scipy.py [--rerate target/release/rerate] [--rounds 5]
        [--seconds 60] [--files 1] [--json]
 Versions are pinned (fixtures/requirements.txt): numpy 2.4.6, scipy 1.17.1.
@@ -117,6 +122,11 @@ def main():
                     shutil.rmtree(dst)
                 elif os.path.exists(dst):
                     os.remove(dst)
+                # Outside the timing: the disk writes back what is still pending (the
+                # inputs just written, the previous round's copies), so that a timed run
+                # does not wait behind another file's write-back when it makes its output
+                # durable (an fsync waits for the disk).
+                os.sync()
                 t0, c0 = time.perf_counter(), child_cpu()
                 run(cmd)
                 ours.append(time.perf_counter() - t0)

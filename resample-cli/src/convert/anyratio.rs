@@ -16,7 +16,9 @@ use std::time::Instant;
 
 use resample_core::{GlideConverter, GlideDesign, Kernel, Sample};
 
-use super::{Control, ConvertError, DesignCache, FileReport, Run, Settings, BLOCK_FRAMES};
+use super::{
+    Control, ConvertError, DesignCache, FileReport, Run, Settings, BLOCK_FRAMES, SYNC_EVERY_BYTES,
+};
 use crate::audio::wav::metadata::carry;
 use crate::audio::wav::{Dither, NonFinite, Retiming, WavWriter, WriterOptions};
 use crate::audio::Input;
@@ -210,6 +212,8 @@ pub(super) fn convert_input(
         Some(path) => WavWriter::create(path, &opts)?,
         None => WavWriter::in_memory(&opts)?,
     };
+    // As in the fixed engine: the disk catches up on a thread of its own meanwhile.
+    writer.sync_every(SYNC_EVERY_BYTES)?;
     let run = Run {
         gain: 10f64.powf(settings.gain_db / 20.0),
         non_finite: if settings.sanitize {

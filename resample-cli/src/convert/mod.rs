@@ -29,6 +29,8 @@ use crate::quality::{default_stopband_db, precision_for, Precision};
 
 /// Input frames read per block.
 pub const BLOCK_FRAMES: usize = 8192;
+/// The writer has the disk catch up every this many bytes (see [`WavWriter::sync_every`]).
+const SYNC_EVERY_BYTES: u64 = 4 << 20;
 
 /// What a conversion should do (the same for every file of a batch).
 #[derive(Debug, Clone, PartialEq)]
@@ -405,6 +407,9 @@ impl Run<'_> {
         setup: impl FnOnce() -> Result<(Arc<StagePlan>, WavWriter), ConvertError>,
     ) -> Result<(Arc<StagePlan>, WavWriter), ConvertError> {
         let (design, mut writer) = setup()?;
+        // The disk catches up on a thread of its own while the file is written, so that
+        // this thread (a core of a batch) does not wait for the whole file at the end.
+        writer.sync_every(SYNC_EVERY_BYTES)?;
         let mut engine = Engine::<T>::new(&design, usize::from(reader.info().channels))?;
         let mut inb = Vec::new();
         let mut emit = |out: &mut Vec<T>, n: usize| writer.write_frames(&out[..n]);

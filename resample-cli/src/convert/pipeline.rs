@@ -14,7 +14,7 @@ use std::sync::{mpsc, Arc, Condvar, Mutex, MutexGuard, PoisonError};
 
 use resample_core::{ChainConverter, Sample, StagePlan};
 
-use super::{ConvertError, Engine, Run, BLOCK_FRAMES};
+use super::{ConvertError, Engine, Run, BLOCK_FRAMES, SYNC_EVERY_BYTES};
 use crate::audio::wav::{encode_samples, LevelStats, Quantizer, WavError, WavWriter};
 use crate::audio::Input;
 use resample_core::segments::{convert_chain_segment, convert_chain_segment_pieces, SegmentPlan};
@@ -29,8 +29,6 @@ const MAX_WORKERS: usize = 8;
 const AHEAD_PER_WORKER: u64 = 2;
 /// Output frames a worker converts and then encodes at a time.
 const ENCODE_FRAMES: usize = 2048;
-/// The writer has the disk catch up every this many bytes (see [`WavWriter::sync_every`]).
-const SYNC_EVERY_BYTES: u64 = 4 << 20;
 
 /// A piece of output for the writer, with its place in the file's order.
 type OutBlock<T> = (u64, Piece<T>);
