@@ -40,7 +40,7 @@
 //!
 //! ## Features
 //!
-//! * `measure` (off by default; adds the `realfft` dependency): the `measure`
+//! * `measure` (off by default): the `measure`
 //!   module, the sweep-through test `rerate verify` and `rerate grade` run. It makes an
 //!   exponential sweep (`measure::Sweep`), runs any converter on it or
 //!   takes another program's output of it, and reports the rejection of unwanted output,
