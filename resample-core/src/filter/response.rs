@@ -194,15 +194,16 @@ impl Measurer {
     /// on a worker with each sub-grid `r < GRIDS` as soon as it is computed, and its
     /// results come back in the order of `r` (bin `k` of the whole grid is read as
     /// `bin` reads it). The sub-grids are not kept: what the caller needs of them is what
-    /// `per_grid` returns. Symmetric taps of odd length that fit the grid take the faster
-    /// path ([`Measurer::spectrum_symmetric`]).
+    /// `per_grid` returns. Symmetric taps of odd length that fit the grid (of even `sub`)
+    /// take the faster path ([`Measurer::spectrum_symmetric`]).
     fn spectrum<T: Send>(
         &mut self,
         taps: &[f64],
         sub: usize,
         per_grid: impl Fn(usize, &[f64]) -> T + Sync,
     ) -> Vec<T> {
-        if taps.len() <= sub * OVERSAMPLE && is_symmetric(taps) {
+        // (The grid lengths are even; an odd one would have no real middle entry.)
+        if sub % 2 == 0 && taps.len() <= sub * OVERSAMPLE && is_symmetric(taps) {
             self.spectrum_symmetric(taps, sub, per_grid)
         } else {
             self.spectrum_general(taps, sub, per_grid)
@@ -1029,8 +1030,8 @@ mod tests {
         // Every bin up to N / 2 of the pruned computation against one plain N-point FFT:
         // odd and even lengths, symmetric and not, taps filling the sub-grid, and taps
         // longer than it (folded) or than the whole grid (cut).
-        // Symmetric odd lengths take the symmetric path (complex-to-real FFTs); it is also
-        // checked against the one-FFT-per-sub-grid path.
+        // Symmetric odd lengths take the symmetric path (complex-to-real FFTs) where the
+        // sub-grid length is even; it is also checked against the one-FFT-per-sub-grid path.
         let mut m = Measurer::new();
         let mut paired = 0;
         for (len, sub, bump) in [
@@ -1046,6 +1047,7 @@ mod tests {
             (1001, 100, 0.0),
             (4799, 300, 0.0),
             (5001, 300, 0.0),
+            (37, 255, 0.0),
         ] {
             let taps: Vec<f64> = (0..len)
                 .map(|i| {
@@ -1074,7 +1076,7 @@ mod tests {
             let grids = m.spectrum_general(&taps, sub, keep);
             check(&grids, "general");
             assert_eq!(base.spectrum_general(&taps, sub, keep), grids);
-            if len <= sub * OVERSAMPLE && is_symmetric(&taps) {
+            if sub % 2 == 0 && len <= sub * OVERSAMPLE && is_symmetric(&taps) {
                 paired += 1;
             }
         }
