@@ -234,61 +234,52 @@ impl Measurer {
         let c = taps.len() / 2;
         let tw = &self.twiddles;
         let width = self.width;
-        let pool = &self.work;
-        // One task per FFT: a thread held up elsewhere leaves its share to the other.
-        (0..GRIDS)
-            .into_par_iter()
-            .map(|r| {
-                let mut work = take(pool);
-                ready(&mut work, half + 1, scratch_len, sub);
-                let Work {
-                    input,
-                    scratch,
-                    values,
-                } = &mut work;
-                input[0] = Complex::new(taps[c], 0.0);
-                // Tap `c + n` sits at `n mod sub` with factor `t = e^{-j 2 pi (n r mod N) / N}`,
-                // tap `c - n` at `-n mod sub` with `conj(t)`; entries past M/2 are not read.
-                let (mut j, mut plus) = (0usize, 0usize);
-                // (Built for the CPU's widest vectors: the same bits, see `kernel::wide`.)
-                run(
-                    width,
-                    #[inline(always)]
-                    || {
-                        for &h in &taps[c + 1..] {
-                            j += r;
-                            if j >= size {
-                                j -= size;
-                            }
-                            plus += 1;
-                            if plus == sub {
-                                plus = 0;
-                            }
-                            let t = tw.get(j);
-                            if plus <= half {
-                                input[plus] += t.conj() * h;
-                            }
-                            let minus = if plus == 0 { 0 } else { sub - plus };
-                            if minus <= half {
-                                input[minus] += t * h;
-                            }
+        let sizes = (half + 1, scratch_len, sub);
+        each_sub_grid(&self.work, sizes, per_grid, |r, work| {
+            let Work {
+                input,
+                scratch,
+                values,
+            } = work;
+            input[0] = Complex::new(taps[c], 0.0);
+            // Tap `c + n` sits at `n mod sub` with factor `t = e^{-j 2 pi (n r mod N) / N}`,
+            // tap `c - n` at `-n mod sub` with `conj(t)`; entries past M/2 are not read.
+            let (mut j, mut plus) = (0usize, 0usize);
+            // (Built for the CPU's widest vectors: the same bits, see `kernel::wide`.)
+            run(
+                width,
+                #[inline(always)]
+                || {
+                    for &h in &taps[c + 1..] {
+                        j += r;
+                        if j >= size {
+                            j -= size;
                         }
-                    },
-                );
-                // Entries 0 and M/2 are real (their own conjugates): drop the rounding.
-                input[0].im = 0.0;
-                input[half].im = 0.0;
-                // The lengths are the plan's and both imaginary parts are 0, the only
-                // errors it reports.
-                let _ = c2r.process_with_scratch(input, values, &mut scratch[..scratch_len]);
-                for v in values.iter_mut() {
-                    *v = v.abs();
-                }
-                let done = per_grid(r, values);
-                give_back(pool, work);
-                done
-            })
-            .collect()
+                        plus += 1;
+                        if plus == sub {
+                            plus = 0;
+                        }
+                        let t = tw.get(j);
+                        if plus <= half {
+                            input[plus] += t.conj() * h;
+                        }
+                        let minus = if plus == 0 { 0 } else { sub - plus };
+                        if minus <= half {
+                            input[minus] += t * h;
+                        }
+                    }
+                },
+            );
+            // Entries 0 and M/2 are real (their own conjugates): drop the rounding.
+            input[0].im = 0.0;
+            input[half].im = 0.0;
+            // The lengths are the plan's and both imaginary parts are 0, the only errors
+            // it reports.
+            let _ = c2r.process_with_scratch(input, values, &mut scratch[..scratch_len]);
+            for v in values.iter_mut() {
+                *v = v.abs();
+            }
+        })
     }
 
     /// [`Measurer::spectrum`] for any taps: one FFT per sub-grid.
@@ -306,48 +297,35 @@ impl Measurer {
         let taps = &taps[..taps.len().min(size)];
         let tw = &self.twiddles;
         let width = self.width;
-        let pool = &self.work;
-        // One task per FFT: a thread held up elsewhere leaves its share to the other.
-        let done: Vec<T> = (0..GRIDS)
-            .into_par_iter()
-            .map(|r| {
-                let mut work = take(pool);
-                {
-                    ready(&mut work, sub, scratch_len, sub);
-                    let Work {
-                        input: buf,
-                        scratch,
-                        values: mags,
-                    } = &mut work;
-                    // Tap n goes to n mod M (the sub-grid's FFT is M-periodic in n), times
-                    // e^{-j 2 pi (n r mod N) / N}.
-                    let mut j = 0usize;
-                    run(
-                        width,
-                        #[inline(always)]
-                        || {
-                            for piece in taps.chunks(sub) {
-                                for (slot, &h) in buf.iter_mut().zip(piece) {
-                                    *slot += tw.get(j) * h;
-                                    j += r;
-                                    if j >= size {
-                                        j -= size;
-                                    }
-                                }
+        each_sub_grid(&self.work, (sub, scratch_len, sub), per_grid, |r, work| {
+            let Work {
+                input: buf,
+                scratch,
+                values: mags,
+            } = work;
+            // Tap n goes to n mod M (the sub-grid's FFT is M-periodic in n), times
+            // e^{-j 2 pi (n r mod N) / N}.
+            let mut j = 0usize;
+            run(
+                width,
+                #[inline(always)]
+                || {
+                    for piece in taps.chunks(sub) {
+                        for (slot, &h) in buf.iter_mut().zip(piece) {
+                            *slot += tw.get(j) * h;
+                            j += r;
+                            if j >= size {
+                                j -= size;
                             }
-                        },
-                    );
-                    fft.process_with_scratch(buf, &mut scratch[..scratch_len]);
-                    for (m, c) in mags.iter_mut().zip(buf.iter()) {
-                        *m = c.norm_sqr().sqrt();
+                        }
                     }
-                }
-                let done = per_grid(r, &work.values);
-                give_back(pool, work);
-                done
-            })
-            .collect();
-        done
+                },
+            );
+            fft.process_with_scratch(buf, &mut scratch[..scratch_len]);
+            for (m, c) in mags.iter_mut().zip(buf.iter()) {
+                *m = c.norm_sqr().sqrt();
+            }
+        })
     }
 
     /// Measure `taps` as [`measure`] does.
@@ -611,19 +589,29 @@ fn slice_max(v: &[f64]) -> f64 {
         .fold(0.0, |a, &x| if x > a { x } else { a })
 }
 
-/// A set of work buffers from `pool` (a new, empty one if none is free).
-fn take(pool: &Mutex<Vec<Work>>) -> Work {
-    pool.lock()
-        .unwrap_or_else(PoisonError::into_inner)
-        .pop()
-        .unwrap_or_default()
-}
-
-/// Return a set of work buffers to `pool` for the next task.
-fn give_back(pool: &Mutex<Vec<Work>>, work: Work) {
-    pool.lock()
-        .unwrap_or_else(PoisonError::into_inner)
-        .push(work);
+/// One task per sub-grid `r < GRIDS` (a thread held up elsewhere leaves its share to the
+/// other): each takes a set of work buffers from `pool` (a new one if none is free), sizes
+/// it as [`ready`] does for `sizes` (input, scratch, values), has `fill(r, work)` leave the
+/// sub-grid's magnitudes in `work.values`, hands them to `per_grid` and gives the set
+/// back. The results come in the order of `r`.
+fn each_sub_grid<T: Send>(
+    pool: &Mutex<Vec<Work>>,
+    sizes: (usize, usize, usize),
+    per_grid: impl Fn(usize, &[f64]) -> T + Sync,
+    fill: impl Fn(usize, &mut Work) + Sync,
+) -> Vec<T> {
+    let lock = || pool.lock().unwrap_or_else(PoisonError::into_inner);
+    (0..GRIDS)
+        .into_par_iter()
+        .map(|r| {
+            let mut work = lock().pop().unwrap_or_default();
+            ready(&mut work, sizes.0, sizes.1, sizes.2);
+            fill(r, &mut work);
+            let done = per_grid(r, &work.values);
+            lock().push(work);
+            done
+        })
+        .collect()
 }
 
 /// Size a task's buffers for its next transform: `input` points, zeroed; at least
