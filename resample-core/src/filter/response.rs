@@ -229,7 +229,6 @@ impl Measurer {
     ) -> Vec<T> {
         let c2r = self.real_plan(sub);
         let scratch_len = c2r.get_scratch_len();
-        let size = sub * OVERSAMPLE;
         let half = sub / 2;
         let c = taps.len() / 2;
         let tw = &self.twiddles;
@@ -241,35 +240,30 @@ impl Measurer {
                 scratch,
                 values,
             } = work;
-            input[0] = Complex::new(taps[c], 0.0);
-            // Tap `c + n` sits at `n mod sub` with factor `t = e^{-j 2 pi (n r mod N) / N}`,
-            // tap `c - n` at `-n mod sub` with `conj(t)`; entries past M/2 are not read.
-            let (mut j, mut plus) = (0usize, 0usize);
-            // (Built for the CPU's widest vectors: the same bits, see `kernel::wide`.)
-            run(
-                width,
-                #[inline(always)]
-                || {
-                    for &h in &taps[c + 1..] {
-                        j += r;
-                        if j >= size {
-                            j -= size;
+            if c < half {
+                // Tap `c + n` alone lands on entry `n` (its mirror `c - n` sits at `sub - n`,
+                // past M/2): written straight, no folding. Its factor `conj(e^{-j 2 pi n r /
+                // N})` is, for `n = FINE a + b`, the grid's factor of `FINE a r` times that
+                // of `b r` (one product, in vector lanes).
+                let steps: [Complex<f64>; FINE] = std::array::from_fn(|b| tw.get(b * r));
+                run(
+                    width,
+                    #[inline(always)]
+                    || {
+                        let pieces = input[..=c].chunks_mut(FINE).zip(taps[c..].chunks(FINE));
+                        for (a, (out, hs)) in pieces.enumerate() {
+                            let anchor = tw.coarse[a * r];
+                            for ((o, &h), s) in out.iter_mut().zip(hs).zip(&steps) {
+                                *o = (anchor * s).conj() * h;
+                            }
                         }
-                        plus += 1;
-                        if plus == sub {
-                            plus = 0;
-                        }
-                        let t = tw.get(j);
-                        if plus <= half {
-                            input[plus] += t.conj() * h;
-                        }
-                        let minus = if plus == 0 { 0 } else { sub - plus };
-                        if minus <= half {
-                            input[minus] += t * h;
-                        }
-                    }
-                },
-            );
+                    },
+                );
+                input[0] = Complex::new(taps[c], 0.0);
+                input[c + 1..].fill(Complex::new(0.0, 0.0));
+            } else {
+                fold_symmetric(input, taps, tw, r, sub, width);
+            }
             // Entries 0 and M/2 are real (their own conjugates): drop the rounding.
             input[0].im = 0.0;
             input[half].im = 0.0;
@@ -303,6 +297,7 @@ impl Measurer {
                 scratch,
                 values: mags,
             } = work;
+            buf.fill(Complex::new(0.0, 0.0));
             // Tap n goes to n mod M (the sub-grid's FFT is M-periodic in n), times
             // e^{-j 2 pi (n r mod N) / N}.
             let mut j = 0usize;
@@ -589,6 +584,51 @@ fn slice_max(v: &[f64]) -> f64 {
         .fold(0.0, |a, &x| if x > a { x } else { a })
 }
 
+/// The symmetric path's input for sub-grid `r` when taps fold over (more taps than the
+/// sub-grid has entries): entries `0..=sub/2` of `conj(u_r)`, summed tap by tap.
+fn fold_symmetric(
+    input: &mut [Complex<f64>],
+    taps: &[f64],
+    tw: &Twiddles,
+    r: usize,
+    sub: usize,
+    width: Width,
+) {
+    let size = sub * OVERSAMPLE;
+    let half = sub / 2;
+    let c = taps.len() / 2;
+    input.fill(Complex::new(0.0, 0.0));
+    input[0] = Complex::new(taps[c], 0.0);
+    // Tap `c + n` sits at `n mod sub` with factor `t = e^{-j 2 pi (n r mod N) / N}`,
+    // tap `c - n` at `-n mod sub` with `conj(t)`; entries past M/2 are not read.
+    let (mut j, mut plus) = (0usize, 0usize);
+    // (Built for the CPU's widest vectors: the same bits, see `kernel::wide`.)
+    run(
+        width,
+        #[inline(always)]
+        || {
+            for &h in &taps[c + 1..] {
+                j += r;
+                if j >= size {
+                    j -= size;
+                }
+                plus += 1;
+                if plus == sub {
+                    plus = 0;
+                }
+                let t = tw.get(j);
+                if plus <= half {
+                    input[plus] += t.conj() * h;
+                }
+                let minus = if plus == 0 { 0 } else { sub - plus };
+                if minus <= half {
+                    input[minus] += t * h;
+                }
+            }
+        },
+    );
+}
+
 /// One task per sub-grid `r < GRIDS` (a thread held up elsewhere leaves its share to the
 /// other): each takes a set of work buffers from `pool` (a new one if none is free), sizes
 /// it as [`ready`] does for `sizes` (input, scratch, values), has `fill(r, work)` leave the
@@ -614,19 +654,15 @@ fn each_sub_grid<T: Send>(
         .collect()
 }
 
-/// Size a task's buffers for its next transform: `input` points, zeroed; at least
-/// `scratch` points of scratch; `values` magnitudes. Each is allocated on first use (the
-/// magnitudes zeroed by the allocator: fresh memory costs nothing until written), the
-/// input zeroed in place after that.
+/// Size a task's buffers for its next transform: `input` points (their values left to the
+/// task's fill), at least `scratch` points of scratch, `values` magnitudes. Each is
+/// allocated on first use (zeroed by the allocator: fresh memory costs nothing until
+/// written, so the pages are first touched by the task that fills them).
 fn ready(work: &mut Work, input: usize, scratch: usize, values: usize) {
     if work.values.len() != values {
         work.values = vec![0.0; values];
     }
-    if work.input.len() == input {
-        work.input
-            .iter_mut()
-            .for_each(|v| *v = Complex::new(0.0, 0.0));
-    } else {
+    if work.input.len() != input {
         work.input = vec![Complex::new(0.0, 0.0); input];
     }
     if work.scratch.len() < scratch {
@@ -1019,7 +1055,9 @@ mod tests {
         // odd and even lengths, symmetric and not, taps filling the sub-grid, and taps
         // longer than it (folded) or than the whole grid (cut).
         // Symmetric odd lengths take the symmetric path (complex-to-real FFTs) where the
-        // sub-grid length is even; it is also checked against the one-FFT-per-sub-grid path.
+        // sub-grid length is even (taps written straight when shorter than the sub-grid, as
+        // 255 in 256; folded from 257 in 256 on); it is also checked against the
+        // one-FFT-per-sub-grid path.
         let mut m = Measurer::new();
         let mut paired = 0;
         for (len, sub, bump) in [
@@ -1032,6 +1070,7 @@ mod tests {
             (1, 256, 0.0),
             (37, 256, 0.0),
             (255, 256, 0.0),
+            (257, 256, 0.0),
             (1001, 100, 0.0),
             (4799, 300, 0.0),
             (5001, 300, 0.0),
@@ -1068,7 +1107,7 @@ mod tests {
                 paired += 1;
             }
         }
-        assert_eq!(paired, 6);
+        assert_eq!(paired, 7);
     }
 
     #[test]
