@@ -63,14 +63,16 @@ pub fn measure(taps: &[f64], pass: f64, stop: f64) -> Measured {
 /// filters in a row (a design's successive attempts). The results are bit-identical to
 /// [`measure`]'s.
 ///
-/// The zero-padded spectrum (`N = OVERSAMPLE M` points, `M` at least the filter length) is
-/// computed as [`OVERSAMPLE`] interleaved sub-grids: bins `k = OVERSAMPLE m + r` are the
-/// `M`-point FFT of the taps modulated by `e^{-j 2 pi n r / N}` (decimation in frequency,
-/// with the zero padding pruned away). For real taps, sub-grid `OVERSAMPLE - r` mirrors
-/// sub-grid `r`, so `OVERSAMPLE / 2 + 1` FFTs of `M` points give every bin up to `N / 2`.
-/// The sub-grids are independent (they run in parallel), and an `M`-point plan costs a
-/// fraction of an `N`-point one, whose twiddle factors take longer to compute than the
-/// transform itself for a filter measured once.
+/// The zero-padded spectrum (`N = SUB_GRIDS M` points, at least [`OVERSAMPLE`] times the
+/// filter length; `SUB_GRIDS = 2 OVERSAMPLE`, so `M` is at least half the filter length) is
+/// computed as `SUB_GRIDS` interleaved sub-grids: bins `k = SUB_GRIDS m + r` are the
+/// `M`-point FFT of the taps folded mod `M` and modulated by `e^{-j 2 pi n r / N}`
+/// (decimation in frequency, with the zero padding pruned away). For real taps, sub-grid
+/// `SUB_GRIDS - r` mirrors sub-grid `r`, so `SUB_GRIDS / 2 + 1` FFTs of `M` points give every
+/// bin up to `N / 2`. The sub-grids are independent (they run in parallel), and an `M`-point
+/// plan costs a fraction of an `N`-point one, whose twiddle factors take longer to compute
+/// than the transform itself for a filter measured once (with twice [`OVERSAMPLE`]
+/// sub-grids, half the filter's length: planning is on the critical path of a design).
 pub struct Measurer {
     /// Complex FFTs (taps without symmetry).
     planner: FftPlanner<f64>,
@@ -78,7 +80,7 @@ pub struct Measurer {
     real_planner: RealFftPlanner<f64>,
     /// Sub-grid FFT length the planners hold plans for (0: none).
     planned: usize,
-    /// The factors `e^{-j 2 pi j / N}` of the grid of `OVERSAMPLE planned` points.
+    /// The factors `e^{-j 2 pi j / N}` of the grid of `SUB_GRIDS planned` points.
     twiddles: Twiddles,
     /// Work buffers not in use: each FFT's task takes a set and gives it back, so there
     /// are as many sets as FFTs that ran at once (one per thread at most).
@@ -113,8 +115,10 @@ struct Work {
     values: Vec<f64>,
 }
 
-/// Sub-grids computed: `0..=OVERSAMPLE / 2` (the others mirror them).
-const GRIDS: usize = OVERSAMPLE / 2 + 1;
+/// Interleaved sub-grids the grid of `N` points is computed as (see [`Measurer`]).
+const SUB_GRIDS: usize = 2 * OVERSAMPLE;
+/// Sub-grids computed: `0..=SUB_GRIDS / 2` (the others mirror them).
+const GRIDS: usize = SUB_GRIDS / 2 + 1;
 /// Entries of the fine table of `e^{-j 2 pi j / N}` (see [`Twiddles`]).
 const FINE: usize = 64;
 
@@ -184,12 +188,12 @@ impl Measurer {
         if self.planned != sub {
             self.planner = FftPlanner::new();
             self.real_planner = RealFftPlanner::new();
-            self.twiddles = Twiddles::new(sub * OVERSAMPLE);
+            self.twiddles = Twiddles::new(sub * SUB_GRIDS);
             self.planned = sub;
         }
     }
 
-    /// The magnitude spectrum of `taps` on `OVERSAMPLE sub` points, sub-grid by sub-grid
+    /// The magnitude spectrum of `taps` on `SUB_GRIDS sub` points, sub-grid by sub-grid
     /// (plans and buffers for `sub` are made if needed): `per_grid(r, values)` is called
     /// on a worker with each sub-grid `r < GRIDS` as soon as it is computed, and its
     /// results come back in the order of `r` (bin `k` of the whole grid is read as
@@ -203,7 +207,7 @@ impl Measurer {
         per_grid: impl Fn(usize, &[f64]) -> T + Sync,
     ) -> Vec<T> {
         // (The grid lengths are even; an odd one would have no real middle entry.)
-        if sub % 2 == 0 && taps.len() <= sub * OVERSAMPLE && is_symmetric(taps) {
+        if sub % 2 == 0 && taps.len() <= sub * SUB_GRIDS && is_symmetric(taps) {
             self.spectrum_symmetric(taps, sub, per_grid)
         } else {
             self.spectrum_general(taps, sub, per_grid)
@@ -240,27 +244,8 @@ impl Measurer {
                 scratch,
                 values,
             } = work;
-            if c < half {
-                // Tap `c + n` alone lands on entry `n` (its mirror `c - n` sits at `sub - n`,
-                // past M/2): written straight, no folding. Its factor `conj(e^{-j 2 pi n r /
-                // N})` is, for `n = FINE a + b`, the grid's factor of `FINE a r` times that
-                // of `b r` (one product, in vector lanes).
-                let steps: [Complex<f64>; FINE] = std::array::from_fn(|b| tw.get(b * r));
-                run(
-                    width,
-                    #[inline(always)]
-                    || {
-                        let pieces = input[..=c].chunks_mut(FINE).zip(taps[c..].chunks(FINE));
-                        for (a, (out, hs)) in pieces.enumerate() {
-                            let anchor = tw.coarse[a * r];
-                            for ((o, &h), s) in out.iter_mut().zip(hs).zip(&steps) {
-                                *o = (anchor * s).conj() * h;
-                            }
-                        }
-                    },
-                );
-                input[0] = Complex::new(taps[c], 0.0);
-                input[c + 1..].fill(Complex::new(0.0, 0.0));
+            if c < sub {
+                write_symmetric(input, taps, tw, r, sub, width);
             } else {
                 fold_symmetric(input, taps, tw, r, sub, width);
             }
@@ -285,7 +270,7 @@ impl Measurer {
     ) -> Vec<T> {
         let fft = self.complex_plan(sub);
         let scratch_len = fft.get_inplace_scratch_len();
-        let size = sub * OVERSAMPLE;
+        let size = sub * SUB_GRIDS;
         // Taps past the grid's length would wrap around it: they are left out, as a plain
         // N-point FFT of the first N taps would.
         let taps = &taps[..taps.len().min(size)];
@@ -326,7 +311,7 @@ impl Measurer {
     /// Measure `taps` as [`measure`] does.
     pub fn measure(&mut self, taps: &[f64], pass: f64, stop: f64) -> Measured {
         let sub = sub_grid_len(taps.len());
-        let size = sub * OVERSAMPLE;
+        let size = sub * SUB_GRIDS;
         let bins = size / 2; // bin k is at frequency k / size; the last is 0.5
         let pass_end = ((pass * size as f64).floor() as usize).min(bins);
         let stop_start = ((stop * size as f64).ceil() as usize).min(bins);
@@ -483,7 +468,7 @@ struct Digest {
 
 impl Digest {
     /// Reduce sub-grid `grid`'s `values` for the passband bins `0..=pass_end` and the
-    /// stopband bins `stop_start..=bins` (of `OVERSAMPLE sub`).
+    /// stopband bins `stop_start..=bins` (of `SUB_GRIDS sub`).
     fn of(
         grid: usize,
         values: &[f64],
@@ -523,38 +508,38 @@ impl Digest {
     }
 }
 
-/// Magnitude of bin `k` (of `OVERSAMPLE sub`) from the sub-grids: bin `OVERSAMPLE m + s` is
+/// Magnitude of bin `k` (of `SUB_GRIDS sub`) from the sub-grids: bin `SUB_GRIDS m + s` is
 /// sub-grid `s` at `m`, or for `s` past the middle, the mirror image (conjugate) of bin
-/// `N - k`: sub-grid `OVERSAMPLE - s` at `sub - 1 - m`.
+/// `N - k`: sub-grid `SUB_GRIDS - s` at `sub - 1 - m`.
 #[cfg(test)]
 fn bin(grids: &[Vec<f64>], sub: usize, k: usize) -> f64 {
-    let (m, s) = (k / OVERSAMPLE, k % OVERSAMPLE);
+    let (m, s) = (k / SUB_GRIDS, k % SUB_GRIDS);
     if s < GRIDS {
         grids[s][m]
     } else {
-        grids[OVERSAMPLE - s][sub - 1 - m]
+        grids[SUB_GRIDS - s][sub - 1 - m]
     }
 }
 
-/// The bins `lo..=hi` (`hi` at most `OVERSAMPLE sub / 2`) as runs of sub-grid values:
-/// `(s, grid, from, to)` for the bins of residue `s`, `grids[grid][from..to]`. Bins `OVERSAMPLE m + s` of one residue
+/// The bins `lo..=hi` (`hi` at most `SUB_GRIDS sub / 2`) as runs of sub-grid values:
+/// `(s, grid, from, to)` for the bins of residue `s`, `grids[grid][from..to]`. Bins `SUB_GRIDS m + s` of one residue
 /// `s` are one run: sub-grid `s` at `m` (`s < GRIDS`), or its mirror image, sub-grid
-/// `OVERSAMPLE - s` at `sub - 1 - m` (as `bin` reads them).
+/// `SUB_GRIDS - s` at `sub - 1 - m` (as `bin` reads them).
 fn runs(lo: usize, hi: usize, sub: usize) -> impl Iterator<Item = (usize, usize, usize, usize)> {
-    (0..OVERSAMPLE).filter_map(move |s| {
-        // Bins k = OVERSAMPLE m + s with lo <= k <= hi.
-        let m_lo = lo.saturating_sub(s).div_ceil(OVERSAMPLE);
+    (0..SUB_GRIDS).filter_map(move |s| {
+        // Bins k = SUB_GRIDS m + s with lo <= k <= hi.
+        let m_lo = lo.saturating_sub(s).div_ceil(SUB_GRIDS);
         if s > hi {
             return None;
         }
-        let m_hi = (hi - s) / OVERSAMPLE;
+        let m_hi = (hi - s) / SUB_GRIDS;
         if m_lo > m_hi {
             return None;
         }
         Some(if s < GRIDS {
             (s, s, m_lo, m_hi + 1)
         } else {
-            (s, OVERSAMPLE - s, sub - 1 - m_hi, sub - m_lo)
+            (s, SUB_GRIDS - s, sub - 1 - m_hi, sub - m_lo)
         })
     })
 }
@@ -562,9 +547,9 @@ fn runs(lo: usize, hi: usize, sub: usize) -> impl Iterator<Item = (usize, usize,
 /// The bin of residue `s` whose value is `grids[grid][j]` (see [`runs`]).
 fn bin_index(s: usize, j: usize, sub: usize) -> usize {
     if s < GRIDS {
-        OVERSAMPLE * j + s
+        SUB_GRIDS * j + s
     } else {
-        OVERSAMPLE * (sub - 1 - j) + s
+        SUB_GRIDS * (sub - 1 - j) + s
     }
 }
 
@@ -584,6 +569,58 @@ fn slice_max(v: &[f64]) -> f64 {
         .fold(0.0, |a, &x| if x > a { x } else { a })
 }
 
+/// The symmetric path's input for sub-grid `r`, entries `0..=sub/2` of `conj(u_r)`, for
+/// taps shorter than twice the sub-grid (`c < sub`, `c` the centre tap): written in three
+/// passes that vectorize, with no folding tap by tap.
+///
+/// Entry `k` of `u_r` holds tap `c + k` (if `k <= c`) and tap `c + k - sub` (if `sub - k
+/// <= c`), which by symmetry equals tap `c + sub - k` = tap `c - (sub - k)`: so
+/// `u_r[k] = W^{k r} (h[c + k] + E h[c + k - sub])` with `W = e^{-j 2 pi / N}` and
+/// `E = W^{-sub r}`. `W^{k r}` is, for `k = FINE a + b`, the grid's factor of `FINE a r`
+/// (a coarse table entry) times that of `b r` (one product).
+fn write_symmetric(
+    input: &mut [Complex<f64>],
+    taps: &[f64],
+    tw: &Twiddles,
+    r: usize,
+    sub: usize,
+    width: Width,
+) {
+    let half = sub / 2;
+    let c = taps.len() / 2;
+    let input = &mut input[..=half];
+    // (Built for the CPU's widest vectors: the same bits, see `kernel::wide`.)
+    run(
+        width,
+        #[inline(always)]
+        || {
+            // The taps from the centre on.
+            let own = c.min(half);
+            for (o, &h) in input[..=own].iter_mut().zip(&taps[c..]) {
+                *o = Complex::new(h, 0.0);
+            }
+            input[own + 1..].fill(Complex::new(0.0, 0.0));
+            // The taps folded over from the far side, times E.
+            let from = sub - c;
+            if from <= half {
+                let e = tw.get(sub * r).conj();
+                let folded = &taps[from + c - sub..=half + c - sub];
+                for (o, &h) in input[from..].iter_mut().zip(folded) {
+                    *o += e * h;
+                }
+            }
+            // Times W^{k r}, conjugated.
+            let steps: [Complex<f64>; FINE] = std::array::from_fn(|b| tw.get(b * r));
+            for (a, out) in input.chunks_mut(FINE).enumerate() {
+                let anchor = tw.coarse[a * r];
+                for (o, s) in out.iter_mut().zip(&steps) {
+                    *o = (anchor * s * *o).conj();
+                }
+            }
+        },
+    );
+}
+
 /// The symmetric path's input for sub-grid `r` when taps fold over (more taps than the
 /// sub-grid has entries): entries `0..=sub/2` of `conj(u_r)`, summed tap by tap.
 fn fold_symmetric(
@@ -594,7 +631,7 @@ fn fold_symmetric(
     sub: usize,
     width: Width,
 ) {
-    let size = sub * OVERSAMPLE;
+    let size = sub * SUB_GRIDS;
     let half = sub / 2;
     let c = taps.len() / 2;
     input.fill(Complex::new(0.0, 0.0));
@@ -677,9 +714,11 @@ fn is_symmetric(taps: &[f64]) -> bool {
 }
 
 /// Sub-grid length `M` [`measure`] uses for a filter of `taps_len` taps: the FFT grid has
-/// `OVERSAMPLE M` points, from 4096 up to [`MAX_MEASURE_FFT`].
+/// `SUB_GRIDS M` points (at least `OVERSAMPLE taps_len`), from 4096 up to
+/// [`MAX_MEASURE_FFT`].
 fn sub_grid_len(taps_len: usize) -> usize {
-    smooth_at_least(taps_len.max(1)).clamp(4096 / OVERSAMPLE, MAX_MEASURE_FFT / OVERSAMPLE)
+    smooth_at_least(taps_len.max(1).div_ceil(SUB_GRIDS / OVERSAMPLE))
+        .clamp(4096 / SUB_GRIDS, MAX_MEASURE_FFT / SUB_GRIDS)
 }
 
 /// Smallest even number at or above `n` with no prime factor above 5 (fast FFT sizes).
@@ -1014,11 +1053,11 @@ mod tests {
     #[test]
     fn runs_cover_each_bin_once() {
         // Every bin from lo to hi, read through the runs, is the bin `bin` reads, once.
-        for sub in [256, 270, 4096 / OVERSAMPLE] {
+        for sub in [256, 270, 4096 / SUB_GRIDS] {
             let grids: Vec<Vec<f64>> = (0..GRIDS)
                 .map(|g| (0..sub).map(|m| (g * 100_000 + m) as f64).collect())
                 .collect();
-            let top = OVERSAMPLE * sub / 2;
+            let top = SUB_GRIDS * sub / 2;
             for (lo, hi) in [
                 (0, top),
                 (1, top),
@@ -1055,8 +1094,9 @@ mod tests {
         // odd and even lengths, symmetric and not, taps filling the sub-grid, and taps
         // longer than it (folded) or than the whole grid (cut).
         // Symmetric odd lengths take the symmetric path (complex-to-real FFTs) where the
-        // sub-grid length is even (taps written straight when shorter than the sub-grid, as
-        // 255 in 256; folded from 257 in 256 on); it is also checked against the
+        // sub-grid length is even: written in passes while shorter than twice the sub-grid
+        // (255 in 256: one tap an entry; 257, 401 and 511 in 256: taps folded over from the
+        // far side), folded tap by tap from 513 in 256 on. It is also checked against the
         // one-FFT-per-sub-grid path.
         let mut m = Measurer::new();
         let mut paired = 0;
@@ -1071,6 +1111,9 @@ mod tests {
             (37, 256, 0.0),
             (255, 256, 0.0),
             (257, 256, 0.0),
+            (401, 256, 0.0),
+            (511, 256, 0.0),
+            (513, 256, 0.0),
             (1001, 100, 0.0),
             (4799, 300, 0.0),
             (5001, 300, 0.0),
@@ -1082,8 +1125,8 @@ mod tests {
                     (-(x * x) / (len as f64 * 3.0)).exp() + if i % 7 == 3 { bump } else { 0.0 }
                 })
                 .collect();
-            let want = direct(&taps, sub * OVERSAMPLE);
-            let scale: f64 = taps.iter().take(sub * OVERSAMPLE).map(|h| h.abs()).sum();
+            let want = direct(&taps, sub * SUB_GRIDS);
+            let scale: f64 = taps.iter().take(sub * SUB_GRIDS).map(|h| h.abs()).sum();
             let check = |grids: &[Vec<f64>], path: &str| {
                 for (k, w) in want.iter().enumerate() {
                     let got = bin(grids, sub, k);
@@ -1103,11 +1146,11 @@ mod tests {
             let grids = m.spectrum_general(&taps, sub, keep);
             check(&grids, "general");
             assert_eq!(base.spectrum_general(&taps, sub, keep), grids);
-            if sub % 2 == 0 && len <= sub * OVERSAMPLE && is_symmetric(&taps) {
+            if sub % 2 == 0 && len <= sub * SUB_GRIDS && is_symmetric(&taps) {
                 paired += 1;
             }
         }
-        assert_eq!(paired, 7);
+        assert_eq!(paired, 11);
     }
 
     #[test]
@@ -1161,7 +1204,7 @@ mod tests {
             let mut m = Measurer::new();
             let sub = sub_grid_len(taps.len());
             let grids = m.spectrum(taps, sub, |_, v| v.to_vec());
-            let size = sub * OVERSAMPLE;
+            let size = sub * SUB_GRIDS;
             let bin_w = 1.0 / size as f64;
             let mag = |k: usize| bin(&grids, sub, k);
             let resp = Response::new(taps);
