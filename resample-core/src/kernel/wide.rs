@@ -39,6 +39,22 @@ impl Width {
     }
 }
 
+impl Width {
+    /// `self`, but AVX2 where `self` is AVX-512 (and the CPU has AVX2 and FMA), for loops
+    /// whose AVX-512 build measured slower than their AVX2 build.
+    pub(crate) fn at_most_avx2(self) -> Self {
+        #[cfg(target_arch = "x86_64")]
+        if self == Width::Avx512 {
+            return if is_x86_feature_detected!("avx2") && is_x86_feature_detected!("fma") {
+                Width::Avx2
+            } else {
+                Width::Baseline
+            };
+        }
+        self
+    }
+}
+
 /// `f()` compiled for `width` ([`Width::detect`]: the widest this CPU has); a width the CPU
 /// lacks falls back to the baseline build.
 #[inline(always)]
