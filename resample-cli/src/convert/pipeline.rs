@@ -381,6 +381,9 @@ impl Run<'_> {
                     Some(q) => {
                         let mut bytes = lock(&out.spare.bytes).pop().unwrap_or_default();
                         bytes.clear();
+                        // The segment's whole size at once: no growing (copies into fresh
+                        // memory) while it is encoded.
+                        bytes.reserve_exact(n * usize::from(q.encoding().bytes()));
                         let r = convert_chain_segment_pieces(
                             &mut conv,
                             &seg,
