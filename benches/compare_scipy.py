@@ -24,7 +24,7 @@ inputs, the floor's copies): rerate makes its outputs durable (fsync) and would 
 wait for them too.
 
 Usage: python3 benches/compare_scipy.py [--rerate target/release/rerate] [--rounds 5]
-       [--seconds 60] [--files 1] [--json]
+       [--seconds 60] [--files 1] [--case 44100:48000:100 ...] [--json]
 Versions are pinned (fixtures/requirements.txt): numpy 2.4.6, scipy 1.17.1.
 """
 
@@ -87,9 +87,18 @@ def main():
                     help="length of the demo signal (60 by default, as the target is stated)")
     ap.add_argument("--files", type=int, default=1,
                     help="files per run: rerate converts them in one call, scipy one by one")
+    ap.add_argument("--case", action="append", metavar="IN:OUT:DB",
+                    help="run only this case (rates in Hz, stopband in dB), e.g. 44100:48000:100; "
+                         "may be given more than once (default: the four cases)")
     args = ap.parse_args()
     if args.files < 1:
         sys.exit("--files must be at least 1")
+    cases = CASES
+    if args.case:
+        try:
+            cases = [(int(a), int(b), float(c)) for a, b, c in (x.split(":") for x in args.case)]
+        except ValueError:
+            sys.exit("--case takes IN:OUT:DB, e.g. 44100:48000:100")
 
     versions = {"numpy": np.__version__, "scipy": scipy.__version__}
     if versions != PINNED and not args.any_version:
@@ -97,7 +106,7 @@ def main():
     rerate = os.path.abspath(args.rerate)
     results = []
     with tempfile.TemporaryDirectory() as tmp:
-        for in_rate, out_rate, db in CASES:
+        for in_rate, out_rate, db in cases:
             x = demo_signal(in_rate, args.seconds)
             srcs = [os.path.join(tmp, f"demo_{in_rate}_{i}.wav") for i in range(args.files)]
             for src in srcs:
