@@ -23,8 +23,12 @@ share the disk with the write-back of files the script itself wrote just before 
 inputs, the floor's copies): rerate makes its outputs durable (fsync) and would otherwise
 wait for them too.
 
+With `--baseline BIN`, each round also runs the same command with another rerate build
+(the two taking turns going first), and its medians are printed beside: a before/after
+comparison in the same minutes.
+
 Usage: python3 benches/compare_scipy.py [--rerate target/release/rerate] [--rounds 5]
-       [--seconds 60] [--files 1] [--json]
+       [--seconds 60] [--files 1] [--case 44100:48000:100 ...] [--baseline BIN] [--json]
 Versions are pinned (fixtures/requirements.txt): numpy 2.4.6, scipy 1.17.1.
 """
 
@@ -87,9 +91,22 @@ def main():
                     help="length of the demo signal (60 by default, as the target is stated)")
     ap.add_argument("--files", type=int, default=1,
                     help="files per run: rerate converts them in one call, scipy one by one")
+    ap.add_argument("--baseline", metavar="BIN",
+                    help="another rerate build, run with the same command right after each "
+                         "timed rerate run (same rounds, same fresh-output rule): its medians are "
+                         "printed beside, for before/after comparisons in the same minutes")
+    ap.add_argument("--case", action="append", metavar="IN:OUT:DB",
+                    help="run only this case (rates in Hz, stopband in dB), e.g. 44100:48000:100; "
+                         "may be given more than once (default: the four cases)")
     args = ap.parse_args()
     if args.files < 1:
         sys.exit("--files must be at least 1")
+    cases = CASES
+    if args.case:
+        try:
+            cases = [(int(a), int(b), float(c)) for a, b, c in (x.split(":") for x in args.case)]
+        except ValueError:
+            sys.exit("--case takes IN:OUT:DB, e.g. 44100:48000:100")
 
     versions = {"numpy": np.__version__, "scipy": scipy.__version__}
     if versions != PINNED and not args.any_version:
@@ -97,7 +114,7 @@ def main():
     rerate = os.path.abspath(args.rerate)
     results = []
     with tempfile.TemporaryDirectory() as tmp:
-        for in_rate, out_rate, db in CASES:
+        for in_rate, out_rate, db in cases:
             x = demo_signal(in_rate, args.seconds)
             srcs = [os.path.join(tmp, f"demo_{in_rate}_{i}.wav") for i in range(args.files)]
             for src in srcs:
@@ -114,8 +131,11 @@ def main():
             cmd = [rerate, "convert", *srcs, "--out-rate", str(out_rate), "-o", dst, "--float",
                    "--stopband-db", str(db), "--force"]
             ours, theirs, ours_cpu, theirs_cpu, floor = [], [], [], [], []
+            base, base_cpu = [], []
             y_ref = None
-            for _ in range(args.rounds):
+
+            def timed(command):
+                """Wall and CPU time of one rerate run, to a fresh output path."""
                 # A fresh output path each run, as when converting a file for the first time
                 # (replacing an existing file adds the time to free the old one's space).
                 if os.path.isdir(dst):
@@ -128,9 +148,24 @@ def main():
                 # durable (an fsync waits for the disk).
                 os.sync()
                 t0, c0 = time.perf_counter(), child_cpu()
-                run(cmd)
-                ours.append(time.perf_counter() - t0)
-                ours_cpu.append(child_cpu() - c0)
+                run(command)
+                return time.perf_counter() - t0, child_cpu() - c0
+
+            for k in range(args.rounds):
+                # With a baseline, the two builds take turns going first (the baseline first
+                # in the last round, so that the output checked below is the one timed).
+                before = bool(args.baseline) and (args.rounds - 1 - k) % 2 == 0
+                if before:
+                    w, c = timed([os.path.abspath(args.baseline), *cmd[1:]])
+                    base.append(w)
+                    base_cpu.append(c)
+                w, c = timed(cmd)
+                ours.append(w)
+                ours_cpu.append(c)
+                if args.baseline and not before:
+                    w, c = timed([os.path.abspath(args.baseline), *cmd[1:]])
+                    base.append(w)
+                    base_cpu.append(c)
                 # The floor: the same bytes copied file to file, to fresh names.
                 copies = [os.path.join(tmp, f"copy_{i}.wav") for i in range(args.files)]
                 for c in copies:
@@ -158,6 +193,10 @@ def main():
             }
             row["ratio"] = row["scipy_s"] / row["rerate_s"]
             row["cpu_ratio"] = row["scipy_cpu_s"] / row["rerate_cpu_s"]
+            if base:
+                row["baseline_s"] = statistics.median(base)
+                row["baseline_cpu_s"] = statistics.median(base_cpu)
+                row["baseline_ratio"] = row["scipy_s"] / row["baseline_s"]
             results.append(row)
             if not args.json:
                 print(f"{in_rate}->{out_rate} {db:.0f} dB, {len(h)} taps ({design['taps_per_phase']}/phase): "
@@ -167,6 +206,10 @@ def main():
                       f"max |difference| {diff:.2e}; floor (copying the input file to file) "
                       f"{row['copy_floor_s']:.3f} s",
                       flush=True)
+                if base:
+                    print(f"  baseline {args.baseline}: {row['baseline_s']:.3f} s, "
+                          f"{row['baseline_ratio']:.1f}x; CPU time {row['baseline_cpu_s']:.3f} s",
+                          flush=True)
     if args.json:
         print(json.dumps({"versions": versions, "rounds": args.rounds, "seconds": args.seconds,
                           "files": args.files, "channels": 2, "results": results}, indent=1))

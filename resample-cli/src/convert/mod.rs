@@ -229,30 +229,36 @@ fn convert_input(
     );
     let channel_mask = reader.channel_mask();
     // Designing the filter and creating the output: done by the engine once the input is
-    // being read (the pipelined engine reads ahead meanwhile).
-    let setup = || -> Result<(Arc<StagePlan>, WavWriter), ConvertError> {
-        let design = designs.plan(
-            info.sample_rate,
-            settings.out_rate,
-            stopband,
-            settings.passband,
-            settings.phase,
-            settings.stages,
-        )?;
-        let opts = WriterOptions {
-            sample_rate: settings.out_rate,
-            channels: info.channels,
-            encoding,
-            dither: settings.dither,
-            force: settings.force,
-            channel_mask,
-            chunks: before,
-        };
-        let writer = match output {
-            Some(path) => WavWriter::create(path, &opts)?,
-            None => WavWriter::in_memory(&opts)?,
-        };
-        Ok((design, writer))
+    // being read (the pipelined engine reads ahead meanwhile, and creates the output on a
+    // thread of its own while it designs).
+    let setup = Setup {
+        design: || {
+            designs
+                .plan(
+                    info.sample_rate,
+                    settings.out_rate,
+                    stopband,
+                    settings.passband,
+                    settings.phase,
+                    settings.stages,
+                )
+                .map_err(ConvertError::from)
+        },
+        create: move || -> Result<WavWriter, ConvertError> {
+            let opts = WriterOptions {
+                sample_rate: settings.out_rate,
+                channels: info.channels,
+                encoding,
+                dither: settings.dither,
+                force: settings.force,
+                channel_mask,
+                chunks: before,
+            };
+            Ok(match output {
+                Some(path) => WavWriter::create(path, &opts)?,
+                None => WavWriter::in_memory(&opts)?,
+            })
+        },
     };
     let non_finite = if settings.sanitize {
         NonFinite::Zero
@@ -266,10 +272,10 @@ fn convert_input(
         ctl,
     };
     let (design, mut writer) = match (precision, settings.pipeline) {
-        (Precision::F32, false) => run.sequential::<f32>(&mut reader, setup)?,
-        (Precision::F64, false) => run.sequential::<f64>(&mut reader, setup)?,
-        (Precision::F32, true) => run.pipelined::<f32>(&mut reader, setup)?,
-        (Precision::F64, true) => run.pipelined::<f64>(&mut reader, setup)?,
+        (Precision::F32, false) => run.sequential::<f32, _, _>(&mut reader, setup)?,
+        (Precision::F64, false) => run.sequential::<f64, _, _>(&mut reader, setup)?,
+        (Precision::F32, true) => run.pipelined::<f32, _, _>(&mut reader, setup)?,
+        (Precision::F64, true) => run.pipelined::<f64, _, _>(&mut reader, setup)?,
     };
     // The metadata after the audio goes after the output's audio.
     let (found, notes) = reader.chunks_after_data()?;
@@ -373,6 +379,14 @@ pub(crate) fn finish_writer(
     Ok(writer.finish_in_memory()?)
 }
 
+/// What an engine does before converting: design the filter (`design`) and create the
+/// output (`create`), in that order of importance (a failed design is the error reported,
+/// and an output created meanwhile is removed).
+struct Setup<D, C> {
+    design: D,
+    create: C,
+}
+
 /// What the engines need besides the design.
 struct Run<'a> {
     gain: f64,
@@ -401,12 +415,17 @@ impl Run<'_> {
     }
 
     /// Everything on this thread: read a block, convert it, write the result.
-    fn sequential<T: Sample>(
+    fn sequential<T: Sample, D, C>(
         &self,
         reader: &mut Input,
-        setup: impl FnOnce() -> Result<(Arc<StagePlan>, WavWriter), ConvertError>,
-    ) -> Result<(Arc<StagePlan>, WavWriter), ConvertError> {
-        let (design, mut writer) = setup()?;
+        setup: Setup<D, C>,
+    ) -> Result<(Arc<StagePlan>, WavWriter), ConvertError>
+    where
+        D: FnOnce() -> Result<Arc<StagePlan>, ConvertError>,
+        C: FnOnce() -> Result<WavWriter, ConvertError>,
+    {
+        let design = (setup.design)()?;
+        let mut writer = (setup.create)()?;
         // The disk catches up on a thread of its own while the file is written, so that
         // this thread (a core of a batch) does not wait for the whole file at the end.
         writer.sync_every(SYNC_EVERY_BYTES)?;

@@ -14,7 +14,7 @@ use std::sync::{mpsc, Arc, Condvar, Mutex, MutexGuard, PoisonError};
 
 use resample_core::{ChainConverter, Sample, StagePlan};
 
-use super::{ConvertError, Engine, Run, BLOCK_FRAMES, SYNC_EVERY_BYTES};
+use super::{ConvertError, Engine, Run, Setup, BLOCK_FRAMES, SYNC_EVERY_BYTES};
 use crate::audio::wav::{encode_samples, LevelStats, Quantizer, WavError, WavWriter};
 use crate::audio::Input;
 use resample_core::segments::{convert_chain_segment, convert_chain_segment_pieces, SegmentPlan};
@@ -99,13 +99,17 @@ impl Drop for StopOnDrop<'_> {
 }
 
 impl Run<'_> {
-    /// Convert with reading and writing on helper threads; `setup` (design the filter,
-    /// create the output) runs on this thread while the reader starts.
-    pub(super) fn pipelined<T: Sample>(
+    /// Convert with reading and writing on helper threads; `setup`'s design runs on this
+    /// thread while the reader starts, and the output is created on another meanwhile.
+    pub(super) fn pipelined<T: Sample, D, C>(
         &self,
         reader: &mut Input,
-        setup: impl FnOnce() -> Result<(Arc<StagePlan>, WavWriter), ConvertError>,
-    ) -> Result<(Arc<StagePlan>, WavWriter), ConvertError> {
+        setup: Setup<D, C>,
+    ) -> Result<(Arc<StagePlan>, WavWriter), ConvertError>
+    where
+        D: FnOnce() -> Result<Arc<StagePlan>, ConvertError>,
+        C: FnOnce() -> Result<WavWriter, ConvertError> + Send,
+    {
         let ch = usize::from(reader.info().channels);
         let frames_in = reader.info().frames;
         // A stream of unknown length is converted in one piece.
@@ -139,7 +143,16 @@ impl Run<'_> {
                 }
             });
 
-            let (design, mut writer) = setup()?;
+            // The output is created (a file opened, its header written) on a thread of its
+            // own while this one designs: the design is what the conversion waits for.
+            let made = s.spawn(setup.create);
+            let design = (setup.design)();
+            let writer = match made.join() {
+                Ok(w) => w,
+                Err(panic) => std::panic::resume_unwind(panic),
+            };
+            // A failed design is the error reported (the output, if made, is removed).
+            let (design, mut writer) = (design?, writer?);
             // Without dither the workers encode what they convert (while it is in their
             // cache), and the writer only writes.
             let encoder = writer.parallel_encoder();
@@ -381,6 +394,9 @@ impl Run<'_> {
                     Some(q) => {
                         let mut bytes = lock(&out.spare.bytes).pop().unwrap_or_default();
                         bytes.clear();
+                        // The segment's whole size at once: no growing (copies into fresh
+                        // memory) while it is encoded.
+                        bytes.reserve_exact(n * usize::from(q.encoding().bytes()));
                         let r = convert_chain_segment_pieces(
                             &mut conv,
                             &seg,

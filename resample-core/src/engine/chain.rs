@@ -288,6 +288,15 @@ impl<T: Sample> ChainConverter<T> {
         Ok(conv)
     }
 
+    /// The single stage's outputs per period when it takes its runs in whole periods
+    /// ([`StreamConverter`]'s `produce`); `None` for two stages.
+    pub(crate) fn period_frames(&self) -> Option<usize> {
+        match &self.inner {
+            Inner::One(c) => c.period_frames(),
+            Inner::Two(_) => None,
+        }
+    }
+
     /// Forget all input: back to the state right after construction. Does not allocate.
     pub fn reset(&mut self) {
         match &mut self.inner {

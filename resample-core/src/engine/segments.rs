@@ -202,6 +202,10 @@ pub fn convert_chain_segment<T: Sample>(
 /// all at the end: `emit` gets them in order, interleaved, in pieces of `piece_frames`
 /// frames (the last one shorter), each from `buf` (grown or cut to one piece's size), so
 /// that they can be used while still in the cache. `conv` is reset first.
+///
+/// A converter that takes its runs in whole periods of its group table gets pieces of
+/// whole periods: `piece_frames` is rounded down to a multiple of the period when it
+/// holds at least one, so that where the kept outputs start on a period no run cuts one.
 pub fn convert_chain_segment_pieces<T: Sample>(
     conv: &mut ChainConverter<T>,
     seg: &Segment,
@@ -210,6 +214,10 @@ pub fn convert_chain_segment_pieces<T: Sample>(
     buf: &mut Vec<T>,
     emit: impl FnMut(&[T]),
 ) -> Result<()> {
+    let piece_frames = match conv.period_frames() {
+        Some(p) if p > 0 && piece_frames >= p => piece_frames / p * p,
+        _ => piece_frames,
+    };
     run_segment_pieces(conv, seg, pieces, piece_frames, buf, emit)
 }
 

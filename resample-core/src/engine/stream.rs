@@ -131,6 +131,14 @@ impl<T: Sample> StreamConverter<T> {
         Ok(conv)
     }
 
+    /// Outputs per period of the group table when runs are taken in whole periods (see
+    /// `produce`), so that a caller can hand over output room in whole periods too.
+    pub(crate) fn period_frames(&self) -> Option<usize> {
+        self.periods
+            .then(|| usize::try_from(self.table.period()).ok())
+            .flatten()
+    }
+
     /// Forget all input: back to the state right after construction. Does not allocate.
     pub fn reset(&mut self) {
         let hist = self.table.taps() - 1;
@@ -326,7 +334,7 @@ impl<T: Sample> StreamConverter<T> {
         )?;
         self.flushing = true;
         let frames_out = output.len() / ch;
-        Ok(self.produce(frames_out, |frame, planar, n| {
+        Ok(self.produce(frames_out, false, |frame, planar, n| {
             store_interleaved(output, ch, frame, planar, n)
         }))
     }
@@ -335,7 +343,7 @@ impl<T: Sample> StreamConverter<T> {
     pub fn flush_planar<O: AsMut<[T]>>(&mut self, output: &mut [O]) -> Result<usize> {
         let frames_out = self.check_planar_out(output)?;
         self.flushing = true;
-        Ok(self.produce(frames_out, |frame, planar, n| {
+        Ok(self.produce(frames_out, false, |frame, planar, n| {
             store_planar(output, frame, planar, n)
         }))
     }
@@ -395,7 +403,8 @@ impl<T: Sample> StreamConverter<T> {
         let mut written = 0;
         loop {
             let at = written;
-            written += self.produce(frames_out - written, |f, p, n| store(at + f, p, n));
+            let more = read < frames_in;
+            written += self.produce(frames_out - written, more, |f, p, n| store(at + f, p, n));
             if written == frames_out || read == frames_in {
                 break;
             }
@@ -460,7 +469,19 @@ impl<T: Sample> StreamConverter<T> {
     /// at most `max` frames. Returns frames produced.
     /// `store(frame, planar, n)` receives each block of `n` new outputs per channel (channel
     /// `c` at `planar[c * n..][..n]`), the first at output `frame`.
-    fn produce(&mut self, max: usize, mut store: impl FnMut(usize, &[T], usize)) -> usize {
+    ///
+    /// With whole periods kept (`periods`), a run that would stop inside a period for want
+    /// of input (while `more_input` is coming in this call) or at the longest run stops at
+    /// the period's start instead: the rest of that period then comes with the next run,
+    /// rather than the period being computed whole twice, each time for a part of its
+    /// outputs (see `render`). Only the caller's room or the input's end cut a run
+    /// elsewhere. Which outputs are computed together does not change their values.
+    fn produce(
+        &mut self,
+        max: usize,
+        more_input: bool,
+        mut store: impl FnMut(usize, &[T], usize),
+    ) -> usize {
         let up = self.table.up();
         let down = self.table.down();
         let total = if self.flushing {
@@ -493,9 +514,22 @@ impl<T: Sample> StreamConverter<T> {
             // Outputs whose newest input is present: next_p + k M < (end - next_i) L.
             let span = (end - self.next_i as i64) as u128 * u128::from(up);
             let ready = (span - u128::from(self.next_p)).div_ceil(u128::from(down));
-            let left = (max - done).min(OUT_BLOCK) as u128;
+            let room = (max - done) as u128;
+            let left = room.min(OUT_BLOCK as u128);
             let left = left.min(u128::from(total - self.n_out));
-            let n = ready.min(left) as usize;
+            let mut n = ready.min(left) as usize;
+            if self.periods && !self.flushing && (n as u128) < room {
+                let by_input = n as u128 == ready && more_input;
+                let by_block = n == OUT_BLOCK && (n as u128) < ready;
+                if by_input || by_block {
+                    let tail = ((self.n_out + n as u64) % self.table.period()) as usize;
+                    n = n.saturating_sub(tail);
+                    if n == 0 {
+                        // Wait for the input that completes the period.
+                        break;
+                    }
+                }
+            }
             if n == 0 {
                 break; // cannot happen: next_i < end and max > done
             }

@@ -143,48 +143,43 @@ impl Quantizer {
     /// conversion, the peak scan and the stores vectorize together; overs (rare) are
     /// counted only in the runs whose peak is over full scale.
     pub fn floats_to_le_bytes<T: Sample>(&mut self, xs: &[T], out: &mut [u8]) {
-        const LANES: usize = 8;
+        // Sixteen lanes: four vectors of `f32` (or eight of `f64`) even at the baseline's
+        // 128-bit width, for independent maximum chains.
+        const LANES: usize = 16;
         const RUN: usize = 256;
-        let mut peak = [0.0_f64; LANES];
+        // The peak is taken in the samples' own type: the largest |x| is the same value
+        // whether compared before or after the exact widening to `f64`, so `f32` samples
+        // are scanned in `f32` lanes (twice as many per vector) with the same figure.
+        let mut peak = T::zero();
         let out = &mut out[..4 * xs.len()];
         for (xr, or) in xs.chunks(RUN).zip(out.chunks_mut(4 * RUN)) {
-            let mut run_peak = [0.0_f64; LANES];
-            let mut x_groups = xr.chunks_exact(LANES);
-            let mut o_groups = or.chunks_exact_mut(4 * LANES);
-            for (xg, og) in (&mut x_groups).zip(&mut o_groups) {
-                for (j, (x, o)) in xg.iter().zip(og.as_chunks_mut::<4>().0).enumerate() {
-                    let x = x.to_f64_exact();
-                    let a = x.abs();
-                    // As in `observe`: a NaN never becomes the peak.
-                    run_peak[j] = if a > run_peak[j] { a } else { run_peak[j] };
-                    o.copy_from_slice(&(x as f32).to_le_bytes());
-                }
+            // The values first (for `f32` samples a plain copy), then the run's peak: two
+            // simple loops over data in the cache, each of which vectorizes.
+            for (o, &x) in or.chunks_exact_mut(4).zip(xr) {
+                o.copy_from_slice(&(x.to_f64_exact() as f32).to_le_bytes());
             }
-            let rest = x_groups.remainder();
-            let o_rest = o_groups.into_remainder().chunks_exact_mut(4);
-            for (j, (x, o)) in rest.iter().zip(o_rest).enumerate() {
-                let x = x.to_f64_exact();
-                let a = x.abs();
-                if a > run_peak[j] {
-                    run_peak[j] = a;
+            let mut groups = xr.chunks_exact(LANES);
+            let lanes = (&mut groups).fold([T::zero(); LANES], |mut acc, g| {
+                for (p, &x) in acc.iter_mut().zip(g) {
+                    *p = larger(*p, x.abs());
                 }
-                o.copy_from_slice(&(x as f32).to_le_bytes());
-            }
-            if run_peak.iter().any(|&p| p > 1.0) {
-                let over = xr.iter().filter(|x| x.to_f64_exact().abs() > 1.0).count();
+                acc
+            });
+            let rest = groups
+                .remainder()
+                .iter()
+                .fold(T::zero(), |p, &x| larger(p, x.abs()));
+            let run_peak = lanes.into_iter().fold(rest, larger);
+            if run_peak > T::one() {
+                let over = xr.iter().filter(|x| x.abs() > T::one()).count();
                 self.stats.over += over as u64;
             }
-            for (p, r) in peak.iter_mut().zip(run_peak) {
-                if r > *p {
-                    *p = r;
-                }
-            }
+            peak = larger(peak, run_peak);
         }
         self.stats.samples += xs.len() as u64;
-        for p in peak {
-            if p > self.stats.peak {
-                self.stats.peak = p;
-            }
+        let peak = peak.to_f64_exact();
+        if peak > self.stats.peak {
+            self.stats.peak = peak;
         }
     }
 
@@ -218,6 +213,17 @@ impl Quantizer {
     /// What was seen so far.
     pub fn stats(&self) -> LevelStats {
         self.stats
+    }
+}
+
+/// The larger of a peak so far and a new magnitude; as in [`Quantizer::observe`], a NaN
+/// never becomes the peak.
+#[inline]
+fn larger<T: Sample>(peak: T, a: T) -> T {
+    if a > peak {
+        a
+    } else {
+        peak
     }
 }
 
@@ -309,17 +315,29 @@ mod tests {
             .enumerate()
             .map(|(i, &x)| if i == 700 { 1.5 } else { 0.5 * x })
             .collect();
-        let lengths = [0, 1, 7, 8, 9, 17, 255, 256, 257, 513, 1003];
+        let lengths = [
+            0, 1, 7, 8, 9, 15, 16, 17, 31, 33, 255, 256, 257, 271, 513, 1003,
+        ];
         for (xs, n) in lengths.iter().flat_map(|&n| [(&xs, n), (&quiet, n)]) {
-            let mut one = Quantizer::new(Encoding::Float32, Dither::None);
-            let expect: Vec<f32> = xs[..n].iter().map(|&x| one.to_float(x)).collect();
-            let mut bytes = Quantizer::new(Encoding::Float32, Dither::None);
-            let mut got = vec![0xA5_u8; 4 * n];
-            bytes.floats_to_le_bytes(&xs[..n], &mut got);
-            assert_eq!(one.stats(), bytes.stats(), "{n} samples");
-            for (a, b) in expect.iter().zip(got.chunks_exact(4)) {
-                assert_eq!(a.to_bits(), u32::from_le_bytes([b[0], b[1], b[2], b[3]]));
-            }
+            floats_to_bytes_as_one_by_one(&xs[..n]);
+            // `f32` samples (their peak is taken in `f32`): the same as widened first.
+            let narrow: Vec<f32> = xs[..n].iter().map(|&x| x as f32).collect();
+            floats_to_bytes_as_one_by_one(&narrow);
+        }
+    }
+
+    /// [`Quantizer::floats_to_le_bytes`] of `xs` gives the values and figures of
+    /// [`Quantizer::to_float`] sample by sample.
+    fn floats_to_bytes_as_one_by_one<T: Sample>(xs: &[T]) {
+        let n = xs.len();
+        let mut one = Quantizer::new(Encoding::Float32, Dither::None);
+        let expect: Vec<f32> = xs.iter().map(|x| one.to_float(x.to_f64_exact())).collect();
+        let mut bytes = Quantizer::new(Encoding::Float32, Dither::None);
+        let mut got = vec![0xA5_u8; 4 * n];
+        bytes.floats_to_le_bytes(xs, &mut got);
+        assert_eq!(one.stats(), bytes.stats(), "{n} samples");
+        for (a, b) in expect.iter().zip(got.chunks_exact(4)) {
+            assert_eq!(a.to_bits(), u32::from_le_bytes([b[0], b[1], b[2], b[3]]));
         }
     }
 
