@@ -236,8 +236,9 @@ impl Measurer {
     /// (the taps folded mod `M`, tap `n` times `e^{-j 2 pi n r / N}`) is conjugate
     /// symmetric, `u_r[-k] = conj(u_r[k])`. Its DFT `X` is then real, so `X = conj(X)` is the
     /// unnormalised inverse DFT of `conj(u_r)`: a complex-to-real FFT of entries `0..=M/2`
-    /// of `conj(u_r)` (properties of the DFT, common practice, no source). Taps `n` and `-n`
-    /// share one twiddle factor (its conjugate), computed once.
+    /// of `conj(u_r)` (properties of the DFT, common practice, no source). The entries are
+    /// written in passes up to twice the sub-grid's length ([`write_symmetric`], every
+    /// design's case) and folded tap by tap past it ([`fold_symmetric`]).
     fn spectrum_symmetric<T: Send>(
         &mut self,
         taps: &[f64],
@@ -634,8 +635,10 @@ fn write_symmetric(
     );
 }
 
-/// The symmetric path's input for sub-grid `r` when taps fold over (more taps than the
-/// sub-grid has entries): entries `0..=sub/2` of `conj(u_r)`, summed tap by tap.
+/// The symmetric path's input for sub-grid `r` when the taps reach past twice the sub-grid
+/// (`c >= sub`: a prototype too long for 16 grid points a tap, whose grid is capped at
+/// [`MAX_MEASURE_FFT`]): entries `0..=sub/2` of `conj(u_r)`,
+/// summed tap by tap (taps `n` and `-n` share one twiddle factor, its conjugate).
 fn fold_symmetric(
     input: &mut [Complex<f64>],
     taps: &[f64],
