@@ -17,10 +17,11 @@ use std::time::Instant;
 use resample_core::{GlideConverter, GlideDesign, Kernel, Sample};
 
 use super::{
-    Control, ConvertError, DesignCache, FileReport, Run, Settings, BLOCK_FRAMES, SYNC_EVERY_BYTES,
+    open_output, Control, ConvertError, DesignCache, FileReport, Run, Settings, BLOCK_FRAMES,
+    SYNC_EVERY_BYTES,
 };
 use crate::audio::wav::metadata::carry;
-use crate::audio::wav::{Dither, NonFinite, Retiming, WavWriter, WriterOptions};
+use crate::audio::wav::{Dither, NonFinite, Retiming, WavWriter};
 use crate::audio::Input;
 use crate::clock::ClockPpm;
 use crate::quality::{default_stopband_db, precision_for, Precision};
@@ -199,19 +200,14 @@ pub(super) fn convert_input(
         settings.phase,
     )?;
     let ratio = clock.ratio(info.sample_rate, settings.out_rate);
-    let opts = WriterOptions {
-        sample_rate: settings.out_rate,
-        channels: info.channels,
+    let mut writer = open_output(
+        output,
+        settings,
+        info.channels,
         encoding,
-        dither: settings.dither,
-        force: settings.force,
-        channel_mask: reader.channel_mask(),
-        chunks: before,
-    };
-    let mut writer = match output {
-        Some(path) => WavWriter::create(path, &opts)?,
-        None => WavWriter::in_memory(&opts)?,
-    };
+        reader.channel_mask(),
+        before,
+    )?;
     // As in the fixed engine: the disk catches up on a thread of its own meanwhile.
     writer.sync_every(SYNC_EVERY_BYTES)?;
     let run = Run {

@@ -21,7 +21,7 @@ pub use memory::{run_glide, run_plan};
 
 use crate::audio::wav::metadata::carry;
 use crate::audio::wav::{
-    Dither, Encoding, LevelStats, MetadataPolicy, NonFinite, Retiming, WavError, WavWriter,
+    Chunk, Dither, Encoding, LevelStats, MetadataPolicy, NonFinite, Retiming, WavError, WavWriter,
     WriterOptions,
 };
 use crate::audio::Input;
@@ -245,19 +245,14 @@ fn convert_input(
                 .map_err(ConvertError::from)
         },
         create: move || -> Result<WavWriter, ConvertError> {
-            let opts = WriterOptions {
-                sample_rate: settings.out_rate,
-                channels: info.channels,
+            Ok(open_output(
+                output,
+                settings,
+                info.channels,
                 encoding,
-                dither: settings.dither,
-                force: settings.force,
                 channel_mask,
-                chunks: before,
-            };
-            Ok(match output {
-                Some(path) => WavWriter::create(path, &opts)?,
-                None => WavWriter::in_memory(&opts)?,
-            })
+                before,
+            )?)
         },
     };
     let non_finite = if settings.sanitize {
@@ -377,6 +372,32 @@ pub(crate) fn finish_writer(
         });
     }
     Ok(writer.finish_in_memory()?)
+}
+
+/// The output of a conversion with `settings` (either engine): the file at `output`, or
+/// memory for `None`; `channels`, `encoding`, the input's `channel_mask` and the metadata
+/// `chunks` to write before the audio.
+fn open_output(
+    output: Option<&Path>,
+    settings: &Settings,
+    channels: u16,
+    encoding: Encoding,
+    channel_mask: Option<u32>,
+    chunks: Vec<Chunk>,
+) -> Result<WavWriter, WavError> {
+    let opts = WriterOptions {
+        sample_rate: settings.out_rate,
+        channels,
+        encoding,
+        dither: settings.dither,
+        force: settings.force,
+        channel_mask,
+        chunks,
+    };
+    match output {
+        Some(path) => WavWriter::create(path, &opts),
+        None => WavWriter::in_memory(&opts),
+    }
 }
 
 /// What an engine does before converting: design the filter (`design`) and create the
