@@ -107,12 +107,6 @@ pub enum Error {
         /// The ratio (output rate / input rate) that was given.
         ratio: f64,
     },
-    /// The engine cannot run a design of this phase response.
-    #[error("the {engine} engine runs linear-phase designs only")]
-    PhaseUnsupported {
-        /// Which engine.
-        engine: &'static str,
-    },
     /// A drift follower was given a setting it cannot work with.
     #[error("drift follower: {problem}")]
     FollowerSetup {

@@ -6,7 +6,7 @@
 use crate::par::*;
 
 use super::first_attempt::{first_target, FIRST_MARGIN_DB, TRIM_OVER_DB};
-use super::minphase::{fft_len, minimum_phase_on, FLOOR_MARGIN_DB};
+use super::minphase::{fft_len, minimum_phase_on};
 use super::minphase::{CEPSTRUM_OVERSAMPLE, MAX_CEPSTRUM_FFT};
 use super::response::{
     group_delay, group_delay_range, ripple_allowance_db, Measurer, MAX_MEASURE_FFT, OVERSAMPLE,
@@ -668,7 +668,7 @@ pub(super) fn design_kaiser_edges(
             let allowed = ripple_allowance_db(requested);
             let mut n = fft_len(len);
             loop {
-                let g = minimum_phase_on(&probe, n, requested + FLOOR_MARGIN_DB);
+                let g = minimum_phase_on(&probe, n, requested + spec.floor_margin_db);
                 let m = measurer.measure(&g, pass, stop);
                 if m.ripple_db() <= allowed || 2 * n > MAX_CEPSTRUM_FFT {
                     break (g, m);

@@ -29,6 +29,11 @@ use rustfft::FftPlanner;
 /// before the logarithm (see [`minimum_phase_on`]), dB.
 pub const FLOOR_MARGIN_DB: f64 = 30.0;
 
+/// The deeper floor the any-ratio engine asks for when its interpolation between a
+/// minimum-phase prototype's phases misses the request with [`FLOOR_MARGIN_DB`] (the floor
+/// spreads across the whole band of the phase grid, where interpolation errs most), dB.
+pub const DEEP_FLOOR_MARGIN_DB: f64 = 50.0;
+
 /// Least ratio of the cepstrum's DFT length to the prototype's length.
 pub const CEPSTRUM_OVERSAMPLE: usize = 32;
 

@@ -2,6 +2,7 @@
 //! passband edge, the phase response and the memory budget, checked only when a design is
 //! asked for.
 
+use super::minphase::FLOOR_MARGIN_DB;
 use crate::limits::{DEFAULT_PASSBAND, DEFAULT_STOPBAND_DB, DEFAULT_TABLE_BUDGET};
 
 /// The phase response of a designed filter.
@@ -38,6 +39,11 @@ pub struct FilterSpec {
     pub(crate) table_budget: u64,
     pub(crate) phase: Phase,
     pub(crate) stages: StageChoice,
+    /// How far under the requested stopband a minimum-phase design floors the prototype's
+    /// magnitudes (dB, see `minphase::minimum_phase_on`): [`FLOOR_MARGIN_DB`], or deeper
+    /// where the any-ratio engine interpolates between the prototype's phases and the floor
+    /// would show in that error (`glide.rs`).
+    pub(crate) floor_margin_db: f64,
 }
 
 /// One stage or two for a conversion ([`FilterSpec::stage_choice`], read by
@@ -68,6 +74,7 @@ impl FilterSpec {
             table_budget: DEFAULT_TABLE_BUDGET,
             phase: Phase::Linear,
             stages: StageChoice::Auto,
+            floor_margin_db: FLOOR_MARGIN_DB,
         }
     }
 
