@@ -30,18 +30,8 @@ pub fn run(args: &DesignArgs) -> Result<Status> {
     };
     let why = match &fixed {
         None => Some(crate::convert::Why::Clock(args.clock_ppm)),
-        Some(Err(resample_core::Error::TableTooLarge {
-            up,
-            down,
-            needed_bytes,
-            budget_bytes,
-        })) => Some(crate::convert::Why::TableBudget {
-            up: *up,
-            down: *down,
-            needed_bytes: *needed_bytes,
-            budget_bytes: *budget_bytes,
-        }),
-        Some(_) => None,
+        Some(Err(e)) => crate::convert::Why::instead_of(e),
+        Some(Ok(_)) => None,
     };
     if let Some(why) = why {
         return any_ratio(args, &spec, &why);

@@ -14,7 +14,7 @@ use std::path::Path;
 use std::sync::atomic::Ordering;
 use std::time::Instant;
 
-use resample_core::{GlideConverter, GlideDesign, Kernel, Sample};
+use resample_core::{GlideConverter, GlideDesign, Kernel, Phase, Sample};
 
 use super::{
     open_output, Control, ConvertError, DesignCache, FileReport, Run, Settings, BLOCK_FRAMES,
@@ -47,6 +47,14 @@ pub enum Why {
         /// The budget, bytes.
         budget_bytes: u64,
     },
+    /// A minimum-phase fixed filter for the pair would be longer than can be made minimum
+    /// phase (the any-ratio engine's prototype, for the pair 1 -> P, is far shorter).
+    MinimumPhaseLength {
+        /// Taps the fixed filter would need.
+        taps: usize,
+        /// The most taps that can be made minimum phase.
+        max_taps: usize,
+    },
 }
 
 impl Why {
@@ -65,6 +73,32 @@ impl Why {
                 needed_bytes.div_ceil(1 << 20),
                 budget_bytes >> 20
             ),
+            Why::MinimumPhaseLength { taps, max_taps } => format!(
+                "the minimum-phase fixed filter would need {taps} taps, over the {max_taps} \
+                 that can be made minimum phase"
+            ),
+        }
+    }
+
+    /// The reason to take the any-ratio engine when the fixed engine's plan for a pair
+    /// failed with `e` (none for errors the any-ratio engine would not avoid).
+    pub fn instead_of(e: &resample_core::Error) -> Option<Self> {
+        match *e {
+            resample_core::Error::TableTooLarge {
+                up,
+                down,
+                needed_bytes,
+                budget_bytes,
+            } => Some(Why::TableBudget {
+                up,
+                down,
+                needed_bytes,
+                budget_bytes,
+            }),
+            resample_core::Error::MinimumPhaseTooLong { taps, max_taps } => {
+                Some(Why::MinimumPhaseLength { taps, max_taps })
+            }
+            _ => None,
         }
     }
 
@@ -72,7 +106,7 @@ impl Why {
     pub fn clock(&self) -> ClockPpm {
         match self {
             Why::Clock(p) => *p,
-            Why::TableBudget { .. } => ClockPpm::ZERO,
+            Why::TableBudget { .. } | Why::MinimumPhaseLength { .. } => ClockPpm::ZERO,
         }
     }
 }
@@ -96,8 +130,10 @@ pub struct AnyRatioRun {
 
 /// Which engine a pair and settings call for: `None` for the fixed engine, the reason for
 /// the any-ratio one. A clock correction always takes the any-ratio engine; otherwise the
-/// fixed plan is made (cached under the key the conversion then reads) and a table over the budget moves
-/// the pair to the any-ratio engine. Other design errors are left to the fixed path.
+/// fixed plan is made (cached under the key the conversion then reads), and a table over
+/// the budget, or a minimum-phase filter too long to be made minimum phase, moves the pair
+/// to the any-ratio engine ([`Why::instead_of`]). Other design errors are left to the fixed
+/// path.
 pub fn route(
     in_rate: u32,
     settings: &Settings,
@@ -107,47 +143,40 @@ pub fn route(
     if !settings.clock.is_zero() {
         return Some(Why::Clock(settings.clock));
     }
-    // Most pairs fit the table budget whatever the design turns out to be: then the fixed
-    // engine designs its filter while the input is being read. Only the others are designed
-    // here, before reading.
-    if designs.surely_fits(
-        in_rate,
-        settings.out_rate,
-        stopband_db,
-        settings.passband,
-        settings.phase,
-    ) {
+    // Most linear-phase pairs fit the table budget whatever the design turns out to be:
+    // then the fixed engine designs its filter while the input is being read. Only the
+    // others are designed here, before reading, and minimum-phase ones, whose length limit
+    // only the design tells.
+    if settings.phase == Phase::Linear
+        && designs.surely_fits(
+            in_rate,
+            settings.out_rate,
+            stopband_db,
+            settings.passband,
+            settings.phase,
+        )
+    {
         return None;
     }
     // The plan the conversion runs (cached, so the conversion does not design it again).
-    match designs.plan(
-        in_rate,
-        settings.out_rate,
-        stopband_db,
-        settings.passband,
-        settings.phase,
-        settings.stages,
-    ) {
-        Err(resample_core::Error::TableTooLarge {
-            up,
-            down,
-            needed_bytes,
-            budget_bytes,
-        }) => Some(Why::TableBudget {
-            up,
-            down,
-            needed_bytes,
-            budget_bytes,
-        }),
-        _ => None,
-    }
+    designs
+        .plan(
+            in_rate,
+            settings.out_rate,
+            stopband_db,
+            settings.passband,
+            settings.phase,
+            settings.stages,
+        )
+        .err()
+        .and_then(|e| Why::instead_of(&e))
 }
 
 /// The clock correction's words for the CodingHistory text (no commas).
 fn history_note(why: &Why) -> String {
     match why {
         Why::Clock(p) => format!("; any-ratio engine; input clock corrected by {p} ppm"),
-        Why::TableBudget { .. } => "; any-ratio engine".into(),
+        Why::TableBudget { .. } | Why::MinimumPhaseLength { .. } => "; any-ratio engine".into(),
     }
 }
 
@@ -375,8 +404,8 @@ pub enum Chosen {
 }
 
 impl Chosen {
-    /// Choose as `convert` does: a non-zero clock correction, or a fixed table over the
-    /// budget, takes the any-ratio engine; otherwise the stages `spec` plans
+    /// Choose as `convert` does: a non-zero clock correction, or a fixed plan that fails
+    /// in a way the any-ratio engine avoids ([`Why::instead_of`]), takes the any-ratio engine; otherwise the stages `spec` plans
     /// ([`resample_core::FilterSpec::plan`], its stage choice).
     pub fn new(
         spec: &resample_core::FilterSpec,
@@ -385,18 +414,7 @@ impl Chosen {
         let why = if clock.is_zero() {
             match spec.plan() {
                 Ok(p) => return Ok(Self::Fixed(p)),
-                Err(resample_core::Error::TableTooLarge {
-                    up,
-                    down,
-                    needed_bytes,
-                    budget_bytes,
-                }) => Why::TableBudget {
-                    up,
-                    down,
-                    needed_bytes,
-                    budget_bytes,
-                },
-                Err(e) => return Err(e),
+                Err(e) => Why::instead_of(&e).ok_or(e)?,
             }
         } else {
             Why::Clock(clock)

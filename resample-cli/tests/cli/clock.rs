@@ -345,6 +345,61 @@ fn minimum_phase_with_a_clock_correction_converts_at_the_default_for_24_bit_and_
 }
 
 #[test]
+fn a_minimum_phase_filter_too_long_for_the_fixed_engine_runs_on_the_any_ratio_engine() {
+    // 44.1k -> 48001 at 16 bits fits the fixed table budget in linear phase, but its
+    // prototype (millions of taps) cannot be made minimum phase; 44.1k -> 192k at 160 dB
+    // with a 0.95 passband only just cannot. Both stopped with an error before.
+    let dir = tempfile::tempdir().unwrap();
+    write_wav(
+        &dir.path().join("in.wav"),
+        44_100,
+        1,
+        Encoding::Int(16),
+        &vec![0.1; 4410],
+    );
+    for (rate, extra) in [
+        ("48001", ["--bits=16", "--passband=0.91"]),
+        ("192000", ["--bits=24", "--passband=0.95"]),
+    ] {
+        let mut args = vec![
+            "convert",
+            "in.wav",
+            "--out-rate",
+            rate,
+            "-o",
+            "o.wav",
+            "--force",
+            "--phase",
+            "minimum",
+            "--json",
+        ];
+        args.extend(extra);
+        let o = rerate(dir.path(), &args);
+        assert_eq!(o.status.code(), Some(0), "{rate}: {}", err(&o));
+        let j = json_of(&out(&o));
+        assert_eq!(j["engine"], "any-ratio", "{j}");
+        let why = j["engine_reason"].as_str().unwrap();
+        assert!(why.contains("can be made minimum phase"), "{why}");
+    }
+    // Linear phase stays on the fixed engine there.
+    let o = rerate(
+        dir.path(),
+        &[
+            "convert",
+            "in.wav",
+            "--out-rate",
+            "48001",
+            "-o",
+            "l.wav",
+            "--bits=16",
+            "--json",
+        ],
+    );
+    assert_eq!(o.status.code(), Some(0), "{}", err(&o));
+    assert_eq!(json_of(&out(&o))["engine"], "fixed-ratio");
+}
+
+#[test]
 fn a_pair_over_the_fixed_table_budget_converts_and_verifies_on_the_any_ratio_engine() {
     let dir = tempfile::tempdir().unwrap();
     let n = 20_000u64;

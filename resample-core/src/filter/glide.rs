@@ -227,6 +227,9 @@ pub struct GlideDesign {
     len: usize,
     report: GlideReport,
     band: Option<BandRows>,
+    /// The floor margin the prototype was made with (minimum phase; see `new`), which a
+    /// band table's prototype takes too.
+    floor_margin_db: f64,
 }
 
 /// A continuous windowed sinc in prototype-tap units (P per input sample), for measuring.
@@ -596,6 +599,7 @@ impl GlideDesign {
             band: None,
         };
         Self {
+            floor_margin_db: design.spec().floor_margin_db,
             spec: *spec,
             rows,
             cols,
@@ -612,8 +616,10 @@ impl GlideDesign {
     /// `N / D` is the largest such ratio not above `lowest` (its stopband edge), with the
     /// passband fraction raised by `highest / (N / D)` so that the passband edge is the
     /// requested fraction of the highest ratio's output Nyquist. No band is added (and no
-    /// error returned) when the raised passband passes [`MAX_PASSBAND`] or the table would
-    /// pass [`GLIDE_TABLE_LIMIT`] in `f64`.
+    /// error returned) when the raised passband passes [`MAX_PASSBAND`], the table would
+    /// pass [`GLIDE_TABLE_LIMIT`] in `f64`, its interpolation misses the request, or its
+    /// prototype is too long to be made minimum phase. A minimum-phase band prototype is
+    /// floored as the main table's was.
     fn add_band(&mut self, lowest: f64, highest: f64) -> Result<()> {
         if !(lowest.is_finite() && highest.is_finite()) || lowest >= 1.0 || lowest <= 0.0 {
             return Ok(());
@@ -646,12 +652,19 @@ impl GlideDesign {
         let (Ok(din), Ok(nout)) = (u32::try_from(d), u32::try_from(n)) else {
             return Ok(());
         };
-        let design = FilterSpec::new(din, nout)
+        let mut proto = FilterSpec::new(din, nout)
             .stopband_db(self.spec.stopband_db)
             .passband(passband)
             .phase(self.spec.phase)
-            .table_budget_bytes(u64::MAX)
-            .design()?;
+            .table_budget_bytes(u64::MAX);
+        proto.floor_margin_db = self.floor_margin_db;
+        let design = match proto.design() {
+            Ok(d) => d,
+            // Too long to be made minimum phase: no band table (the main table's kernel is
+            // stretched below ratio 1, as for any ratio outside the band).
+            Err(Error::MinimumPhaseTooLong { .. }) => return Ok(()),
+            Err(e) => return Err(e),
+        };
         let interp = self.report.interpolation;
         let t = Self::from_design(&self.spec, &design, n, interp);
         if bytes(n, t.cols, 8, interp) > GLIDE_TABLE_LIMIT
