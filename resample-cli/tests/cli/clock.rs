@@ -1,6 +1,8 @@
 //! Clock correction of files (`--clock-ppm`) and pairs over the fixed table's budget: the
 //! any-ratio engine through the built binary, in fresh temporary folders.
 
+use std::process::Output;
+
 use resample_cli::audio::wav::Encoding;
 
 use crate::util::{err, listing, out, read_wav, rerate, write_wav};
@@ -16,6 +18,34 @@ fn expected_len(n: u64, in_rate: u32, out_rate: u32, micro: i64) -> u64 {
 
 fn json_of(text: &str) -> serde_json::Value {
     serde_json::from_str(text.lines().next().expect("a JSON line")).expect("JSON")
+}
+
+/// A fresh folder holding `in.wav`: 0.1 s of a constant 0.1, mono, 16-bit, at `rate`.
+fn folder_with_input(rate: u32) -> tempfile::TempDir {
+    let dir = tempfile::tempdir().unwrap();
+    write_wav(
+        &dir.path().join("in.wav"),
+        rate,
+        1,
+        Encoding::Int(16),
+        &vec![0.1; rate as usize / 10],
+    );
+    dir
+}
+
+/// `rerate convert in.wav --out-rate RATE -o OUT --force` and `extra`, in `dir`.
+fn convert_in(dir: &tempfile::TempDir, rate: &str, out: &str, extra: &[&str]) -> Output {
+    let mut args = vec![
+        "convert",
+        "in.wav",
+        "--out-rate",
+        rate,
+        "-o",
+        out,
+        "--force",
+    ];
+    args.extend(extra);
+    rerate(dir.path(), &args)
 }
 
 #[test]
@@ -266,27 +296,8 @@ fn a_folder_converts_with_a_clock_correction() {
 
 #[test]
 fn the_text_report_names_the_engine_and_the_correction() {
-    let dir = tempfile::tempdir().unwrap();
-    write_wav(
-        &dir.path().join("in.wav"),
-        48_000,
-        1,
-        Encoding::Int(16),
-        &vec![0.1; 4800],
-    );
-    let o = rerate(
-        dir.path(),
-        &[
-            "convert",
-            "in.wav",
-            "--out-rate",
-            "48k",
-            "-o",
-            "o.wav",
-            "--clock-ppm",
-            "+42.5",
-        ],
-    );
+    let dir = folder_with_input(48_000);
+    let o = convert_in(&dir, "48k", "o.wav", &["--clock-ppm", "+42.5"]);
     assert_eq!(o.status.code(), Some(0), "{}", err(&o));
     let text = out(&o);
     assert!(
@@ -295,10 +306,7 @@ fn the_text_report_names_the_engine_and_the_correction() {
     );
     // The true rate 48000 x (1 + 42.5e-6) = 48002.04 Hz.
     assert!(text.contains("true input rate 48002.04 Hz"), "{text}");
-    let o = rerate(
-        dir.path(),
-        &["convert", "in.wav", "--out-rate", "44.1k", "-o", "f.wav"],
-    );
+    let o = convert_in(&dir, "44.1k", "f.wav", &[]);
     assert!(!out(&o).contains("any-ratio"), "{}", out(&o));
 }
 
@@ -307,33 +315,10 @@ fn minimum_phase_with_a_clock_correction_converts_at_the_default_for_24_bit_and_
     // Their default request is 160 dB, which the any-ratio engine's minimum-phase table
     // missed by 0.2 dB (an error for every such file) until its prototype could be made
     // with a deeper floor.
-    let dir = tempfile::tempdir().unwrap();
-    write_wav(
-        &dir.path().join("in.wav"),
-        44_100,
-        1,
-        Encoding::Int(24),
-        &vec![0.1; 4410],
-    );
+    let dir = folder_with_input(44_100);
     for fmt in ["--bits=24", "--float"] {
-        let o = rerate(
-            dir.path(),
-            &[
-                "convert",
-                "in.wav",
-                "--out-rate",
-                "48k",
-                "-o",
-                "o.wav",
-                "--force",
-                "--phase",
-                "minimum",
-                "--clock-ppm",
-                "20",
-                fmt,
-                "--json",
-            ],
-        );
+        let extra = ["--phase", "minimum", "--clock-ppm", "20", fmt, "--json"];
+        let o = convert_in(&dir, "48k", "o.wav", &extra);
         assert_eq!(o.status.code(), Some(0), "{fmt}: {}", err(&o));
         let j = json_of(&out(&o));
         assert_eq!(j["requested_stopband_db"], 160.0, "{j}");
@@ -349,32 +334,17 @@ fn a_minimum_phase_filter_too_long_for_the_fixed_engine_runs_on_the_any_ratio_en
     // 44.1k -> 48001 at 16 bits fits the fixed table budget in linear phase, but its
     // prototype (millions of taps) cannot be made minimum phase; 44.1k -> 192k at 160 dB
     // with a 0.95 passband only just cannot. Both stopped with an error before.
-    let dir = tempfile::tempdir().unwrap();
-    write_wav(
-        &dir.path().join("in.wav"),
-        44_100,
-        1,
-        Encoding::Int(16),
-        &vec![0.1; 4410],
-    );
+    let dir = folder_with_input(44_100);
     for (rate, extra) in [
         ("48001", ["--bits=16", "--passband=0.91"]),
         ("192000", ["--bits=24", "--passband=0.95"]),
     ] {
-        let mut args = vec![
-            "convert",
-            "in.wav",
-            "--out-rate",
+        let o = convert_in(
+            &dir,
             rate,
-            "-o",
             "o.wav",
-            "--force",
-            "--phase",
-            "minimum",
-            "--json",
-        ];
-        args.extend(extra);
-        let o = rerate(dir.path(), &args);
+            &[&["--phase", "minimum", "--json"], &extra[..]].concat(),
+        );
         assert_eq!(o.status.code(), Some(0), "{rate}: {}", err(&o));
         let j = json_of(&out(&o));
         assert_eq!(j["engine"], "any-ratio", "{j}");
@@ -382,19 +352,7 @@ fn a_minimum_phase_filter_too_long_for_the_fixed_engine_runs_on_the_any_ratio_en
         assert!(why.contains("can be made minimum phase"), "{why}");
     }
     // Linear phase stays on the fixed engine there.
-    let o = rerate(
-        dir.path(),
-        &[
-            "convert",
-            "in.wav",
-            "--out-rate",
-            "48001",
-            "-o",
-            "l.wav",
-            "--bits=16",
-            "--json",
-        ],
-    );
+    let o = convert_in(&dir, "48001", "l.wav", &["--bits=16", "--json"]);
     assert_eq!(o.status.code(), Some(0), "{}", err(&o));
     assert_eq!(json_of(&out(&o))["engine"], "fixed-ratio");
 }
