@@ -405,8 +405,9 @@ pub enum Chosen {
 
 impl Chosen {
     /// Choose as `convert` does: a non-zero clock correction, or a fixed plan that fails
-    /// in a way the any-ratio engine avoids ([`Why::instead_of`]), takes the any-ratio engine; otherwise the stages `spec` plans
-    /// ([`resample_core::FilterSpec::plan`], its stage choice).
+    /// in a way the any-ratio engine avoids ([`Why::instead_of`]), takes the any-ratio
+    /// engine; otherwise the stages `spec` plans ([`resample_core::FilterSpec::plan`], its
+    /// stage choice).
     pub fn new(
         spec: &resample_core::FilterSpec,
         clock: ClockPpm,
