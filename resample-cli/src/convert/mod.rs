@@ -424,8 +424,18 @@ impl Run<'_> {
         reader: &mut Input,
         buf: &mut Vec<T>,
     ) -> Result<usize, ConvertError> {
+        self.read_frames(reader, buf, BLOCK_FRAMES)
+    }
+
+    /// [`Run::read_block`] with blocks of at most `frames` frames.
+    fn read_frames<T: Sample>(
+        &self,
+        reader: &mut Input,
+        buf: &mut Vec<T>,
+        frames: usize,
+    ) -> Result<usize, ConvertError> {
         let ch = usize::from(reader.info().channels);
-        buf.resize(BLOCK_FRAMES * ch, T::zero());
+        buf.resize(frames * ch, T::zero());
         let n = reader.read_frames(buf, self.non_finite)?;
         buf.truncate(n * ch);
         if self.gain != 1.0 {

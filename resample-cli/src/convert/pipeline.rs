@@ -19,8 +19,15 @@ use crate::audio::wav::{encode_samples, LevelStats, Quantizer, WavError, WavWrit
 use crate::audio::Input;
 use resample_core::segments::{convert_chain_segment, convert_chain_segment_pieces, SegmentPlan};
 
-/// Decoded input the reader may hold ahead of the converter, bytes (at least one block).
-const READ_AHEAD_BYTES: usize = 4 << 20;
+/// Decoded input the reader may hold ahead of the converter, bytes (at least one block):
+/// little, so that the workers take the blocks while they are still in the cache.
+const READ_AHEAD_BYTES: usize = 2 << 20;
+/// Decoded bytes per block the reader hands over, aimed at: blocks of several of the
+/// sequential engine's blocks, so that the reader and the workers pass each other the
+/// input (and wake each other up) that many times less often.
+const READ_BLOCK_BYTES: usize = 1 << 20;
+/// Most input frames per block of the reader.
+const READ_FRAMES_MAX: usize = 8 * BLOCK_FRAMES;
 /// Output blocks queued for the writer.
 const WRITE_QUEUE: usize = 4;
 /// Most segments converted at the same time.
@@ -114,8 +121,9 @@ impl Run<'_> {
         let frames_in = reader.info().frames;
         // A stream of unknown length is converted in one piece.
         let length_known = reader.length_known();
-        let block_bytes = BLOCK_FRAMES * ch * std::mem::size_of::<T>();
-        let depth = (READ_AHEAD_BYTES / block_bytes).clamp(1, 64);
+        let frame_bytes = ch * std::mem::size_of::<T>();
+        let read_frames = (READ_BLOCK_BYTES / frame_bytes).clamp(BLOCK_FRAMES, READ_FRAMES_MAX);
+        let depth = (READ_AHEAD_BYTES / (read_frames * frame_bytes)).clamp(1, 64);
         // Emptied output buffers, and the writer's progress (shared with its thread).
         let spare = Spare::<T> {
             samples: Mutex::new(Vec::new()),
@@ -128,7 +136,7 @@ impl Run<'_> {
             let (in_back_tx, in_back_rx) = mpsc::channel::<Vec<T>>();
             s.spawn(move || loop {
                 let mut buf = in_back_rx.try_recv().unwrap_or_default();
-                match self.read_block(reader, &mut buf) {
+                match self.read_frames(reader, &mut buf, read_frames) {
                     Ok(0) => return,
                     // The converter stopped (error or cancel): so does the reader.
                     Ok(_) => {
@@ -509,6 +517,49 @@ mod tests {
             }
             assert_eq!(outs[0].0, outs[1].0, "{enc}");
             assert!(outs[0].1 == outs[1].1, "{enc}: output bytes differ");
+        }
+    }
+
+    #[test]
+    fn reader_blocks_of_every_width_give_the_sequential_bytes() {
+        // The reader's blocks hold 1 MiB of decoded samples (at most 65 536 frames): for
+        // one, two and six channels of f32 and f64 a block ends at a different frame, and
+        // the lengths end just past a block, inside one and exactly on one.
+        let dir = tempfile::tempdir().unwrap();
+        for (k, (channels, db, frames)) in [
+            (1u16, 100.0, 65_536 * 2 + 1),
+            (2, 140.0, 65_536 * 3 + 12_345),
+            (2, 100.0, 65_536 * 2),
+            (6, 140.0, 21_845 * 5 + 7),
+            (6, 100.0, 43_690 * 3 - 1),
+        ]
+        .into_iter()
+        .enumerate()
+        {
+            let src = dir.path().join(format!("in-{k}.wav"));
+            let mut opts = WriterOptions::new(44_100, channels, Encoding::Float32);
+            opts.dither = Dither::None;
+            let mut w = WavWriter::create(&src, &opts).unwrap();
+            let ch = usize::from(channels);
+            let x: Vec<f64> = (0..frames * ch)
+                .map(|i| 0.5 * ((i / ch) as f64 * 0.0071 * (1 + i % ch) as f64).sin())
+                .collect();
+            w.write_frames(&x).unwrap();
+            w.finish().unwrap();
+            let mut s = Settings::new(48_000);
+            s.stopband_db = Some(db);
+            let mut outs = Vec::new();
+            for pipeline in [false, true] {
+                s.pipeline = pipeline;
+                let out = dir.path().join(format!("out-{k}-{pipeline}.wav"));
+                let report = run(&src, &out, &s).unwrap();
+                outs.push((report, std::fs::read(&out).unwrap()));
+            }
+            assert_eq!(outs[0].0, outs[1].0, "{channels} ch, {frames} frames");
+            assert!(
+                outs[0].1 == outs[1].1,
+                "{channels} ch, {frames} frames: output bytes differ"
+            );
         }
     }
 

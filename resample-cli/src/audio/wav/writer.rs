@@ -236,15 +236,14 @@ pub(crate) fn encode_samples<T: Sample>(quant: &mut Quantizer, samples: &[T], by
 fn encode<T: Sample>(quant: &mut Quantizer, samples: &[T], bytes: &mut Vec<u8>) {
     match quant.encoding() {
         Encoding::Float32 => {
-            // Through a small buffer that stays in the cache, so that the output is written
-            // once (not cleared first, then written).
+            // Straight into `bytes`: the room is cleared first, a piece at a time while it
+            // is in the cache, then written over (no second copy of every byte).
             const STEP: usize = 1024;
-            let mut step = [0u8; 4 * STEP];
             bytes.reserve(4 * samples.len());
             for xs in samples.chunks(STEP) {
-                let out = &mut step[..4 * xs.len()];
-                quant.floats_to_le_bytes(xs, out);
-                bytes.extend_from_slice(out);
+                let at = bytes.len();
+                bytes.resize(at + 4 * xs.len(), 0);
+                quant.floats_to_le_bytes(xs, &mut bytes[at..]);
             }
         }
         Encoding::Int(bits) => {
