@@ -495,6 +495,20 @@ mod tests {
             .map_err(|e| e.to_string())
     }
 
+    /// The report and output bytes of `src` converted with `s` by the sequential engine,
+    /// then by the pipelined one (outputs named after `tag` in `dir`).
+    fn both_engines(src: &Path, dir: &Path, tag: &str, s: &mut Settings) -> Vec<(String, Vec<u8>)> {
+        [false, true]
+            .into_iter()
+            .map(|pipeline| {
+                s.pipeline = pipeline;
+                let out = dir.join(format!("out-{tag}-{pipeline}.wav"));
+                let report = run(src, &out, s).unwrap();
+                (report, std::fs::read(&out).unwrap())
+            })
+            .collect()
+    }
+
     #[test]
     fn pipelined_output_is_the_sequential_output() {
         let dir = tempfile::tempdir().unwrap();
@@ -508,13 +522,7 @@ mod tests {
             let mut s = Settings::new(rate);
             s.encoding = out_enc;
             s.gain_db = -1.0;
-            let mut outs = Vec::new();
-            for pipeline in [false, true] {
-                s.pipeline = pipeline;
-                let out = dir.path().join(format!("out-{rate}-{pipeline}.wav"));
-                let report = run(&src, &out, &s).unwrap();
-                outs.push((report, std::fs::read(&out).unwrap()));
-            }
+            let outs = both_engines(&src, dir.path(), &format!("{rate}"), &mut s);
             assert_eq!(outs[0].0, outs[1].0, "{enc}");
             assert!(outs[0].1 == outs[1].1, "{enc}: output bytes differ");
         }
@@ -548,13 +556,7 @@ mod tests {
             w.finish().unwrap();
             let mut s = Settings::new(48_000);
             s.stopband_db = Some(db);
-            let mut outs = Vec::new();
-            for pipeline in [false, true] {
-                s.pipeline = pipeline;
-                let out = dir.path().join(format!("out-{k}-{pipeline}.wav"));
-                let report = run(&src, &out, &s).unwrap();
-                outs.push((report, std::fs::read(&out).unwrap()));
-            }
+            let outs = both_engines(&src, dir.path(), &format!("{k}"), &mut s);
             assert_eq!(outs[0].0, outs[1].0, "{channels} ch, {frames} frames");
             assert!(
                 outs[0].1 == outs[1].1,
@@ -578,13 +580,7 @@ mod tests {
             input_at(&src, in_rate, Encoding::Int(24), frames, None);
             let mut s = Settings::new(out_rate);
             s.stopband_db = db;
-            let mut outs = Vec::new();
-            for pipeline in [false, true] {
-                s.pipeline = pipeline;
-                let out = dir.path().join(format!("out-{k}-{pipeline}.wav"));
-                let report = run(&src, &out, &s).unwrap();
-                outs.push((report, std::fs::read(&out).unwrap()));
-            }
+            let outs = both_engines(&src, dir.path(), &format!("{k}"), &mut s);
             let j: serde_json::Value = serde_json::from_str(&outs[0].0).unwrap();
             assert_eq!(
                 j["stages"].as_array().map(Vec::len),
