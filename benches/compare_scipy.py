@@ -151,21 +151,17 @@ def main():
                 run(command)
                 return time.perf_counter() - t0, child_cpu() - c0
 
+            runs = [(cmd, ours, ours_cpu)]
+            if args.baseline:
+                runs.append(([os.path.abspath(args.baseline), *cmd[1:]], base, base_cpu))
             for k in range(args.rounds):
                 # With a baseline, the two builds take turns going first (the baseline first
                 # in the last round, so that the output checked below is the one timed).
-                before = bool(args.baseline) and (args.rounds - 1 - k) % 2 == 0
-                if before:
-                    w, c = timed([os.path.abspath(args.baseline), *cmd[1:]])
-                    base.append(w)
-                    base_cpu.append(c)
-                w, c = timed(cmd)
-                ours.append(w)
-                ours_cpu.append(c)
-                if args.baseline and not before:
-                    w, c = timed([os.path.abspath(args.baseline), *cmd[1:]])
-                    base.append(w)
-                    base_cpu.append(c)
+                first_last = (args.rounds - 1 - k) % 2 == 0
+                for command, walls, cpus in (runs[::-1] if first_last else runs):
+                    w, c = timed(command)
+                    walls.append(w)
+                    cpus.append(c)
                 # The floor: the same bytes copied file to file, to fresh names.
                 copies = [os.path.join(tmp, f"copy_{i}.wav") for i in range(args.files)]
                 for c in copies:

@@ -177,10 +177,7 @@ impl Quantizer {
             peak = larger(peak, run_peak);
         }
         self.stats.samples += xs.len() as u64;
-        let peak = peak.to_f64_exact();
-        if peak > self.stats.peak {
-            self.stats.peak = peak;
-        }
+        self.stats.peak = larger(self.stats.peak, peak.to_f64_exact());
     }
 
     /// The level figures so far, and start counting again from none (for figures gathered
@@ -204,10 +201,7 @@ impl Quantizer {
     #[inline]
     fn observe(&mut self, x: f64) {
         self.stats.samples += 1;
-        let a = x.abs();
-        if a > self.stats.peak {
-            self.stats.peak = a;
-        }
+        self.stats.peak = larger(self.stats.peak, x.abs());
     }
 
     /// What was seen so far.
@@ -216,8 +210,8 @@ impl Quantizer {
     }
 }
 
-/// The larger of a peak so far and a new magnitude; as in [`Quantizer::observe`], a NaN
-/// never becomes the peak.
+/// The larger of a peak so far and a new magnitude, the one rule for every peak the
+/// quantizer keeps: a NaN never becomes the peak.
 #[inline]
 fn larger<T: Sample>(peak: T, a: T) -> T {
     if a > peak {
@@ -303,6 +297,8 @@ mod tests {
         let mut block = Quantizer::new(Encoding::Float32, Dither::None);
         let mut got = vec![0.0_f32; xs.len()];
         block.to_floats(&xs, |i, v| got[i] = v);
+        // The NaN is not the peak; the largest magnitude is.
+        assert_eq!(one.stats().peak, 3.5);
         assert_eq!(one.stats(), block.stats());
         for (a, b) in expect.iter().zip(&got) {
             assert_eq!(a.to_bits(), b.to_bits());
